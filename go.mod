@@ -1,0 +1,3 @@
+module fvsweep
+
+go 1.26

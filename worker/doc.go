@@ -1,0 +1,3 @@
+// Package worker pulls jobs from NATS JetStream, runs them with fv2d and
+// publishes the results.
+package worker
