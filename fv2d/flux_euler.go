@@ -17,13 +17,23 @@ type EulerFlux func(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, 
 
 // EulerFluxNames are the names EulerFluxByName knows, in the order of the
 // flux parameter's choices.
-var EulerFluxNames = []string{"rusanov"}
+var EulerFluxNames = []string{"exact", "hll", "hllc", "rusanov", "roe"}
 
-// EulerFluxByName returns the Euler flux called name.
+// EulerFluxByName returns the Euler flux called name: "exact" (Godunov flux
+// of the exact Riemann solver), "hll" (HLLE), "hllc", "rusanov" or "roe"
+// (with the Harten-Hyman entropy fix).
 func EulerFluxByName(name string) (EulerFlux, error) {
 	switch name {
+	case "exact":
+		return EulerExact, nil
+	case "hll":
+		return EulerHLL, nil
+	case "hllc":
+		return EulerHLLC, nil
 	case "rusanov":
 		return EulerRusanov, nil
+	case "roe":
+		return EulerRoe, nil
 	}
 	return nil, fmt.Errorf("unknown Euler flux %q (known: %s)", name, joinNames(EulerFluxNames))
 }
@@ -53,5 +63,179 @@ func EulerRusanov(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3
 	f1 = 0.5 * (mul*ul + pl + mur*ur + pr - s*(mur-mul))
 	f2 = 0.5 * (mul*vl + mur*vr - s*(rr*vr-rl*vl))
 	f3 = 0.5 * (ul*(el+pl) + ur*(er+pr) - s*(er-el))
+	return
+}
+
+// EulerExact is the Godunov flux from the exact Riemann solution sampled at
+// x/t = 0 (Godunov 1959; Toro 2009 §4.5, §6.2). The tangential velocity is
+// passively advected: it is taken from the side the contact comes from, by
+// the sign of u* (Toro 2009 §4.8). When the data generate vacuum the vacuum
+// solution is sampled (Toro 2009 §4.6).
+func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	s := solveRiemann(gamma, rl, ul, pl, rr, ur, pr)
+	r, u, p := s.Sample(0)
+	v := vl
+	if s.UStar < 0 || (s.vacuum && s.LeftTail < 0) {
+		v = vr
+	}
+	return EulerPhysicalFlux(gamma, r, u, v, p)
+}
+
+// roeAverage returns the Roe averages of the velocities, the total enthalpy
+// H = (E + p)/rho and the sound speed (Roe 1981), with the square roots of
+// the densities as weights, and the left and right enthalpies.
+func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (u, v, h, a, hl, hr float64) {
+	g := gamma / (gamma - 1)
+	hl = g*pl/rl + 0.5*(ul*ul+vl*vl)
+	hr = g*pr/rr + 0.5*(ur*ur+vr*vr)
+	sl, sr := math.Sqrt(rl), math.Sqrt(rr)
+	w := 1 / (sl + sr)
+	u = (sl*ul + sr*ur) * w
+	v = (sl*vl + sr*vr) * w
+	h = (sl*hl + sr*hr) * w
+	a = math.Sqrt((gamma - 1) * (h - 0.5*(u*u+v*v)))
+	return u, v, h, a, hl, hr
+}
+
+// einfeldtSpeeds returns the HLLE wave speed estimates of Einfeldt (1988,
+// SIAM J. Numer. Anal. 25): S_L = min(u_L - a_L, u~ - a~) and
+// S_R = max(u_R + a_R, u~ + a~) with Roe averages u~, a~, and the left and
+// right total enthalpies.
+func einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (sl, sr, hl, hr float64) {
+	u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	al := math.Sqrt(gamma * pl / rl)
+	ar := math.Sqrt(gamma * pr / rr)
+	return math.Min(ul-al, u-a), math.Max(ur+ar, u+a), hl, hr
+}
+
+// EulerHLL is the HLL flux (Harten, Lax, van Leer 1983; Toro 2009 §10.3)
+// with the wave speeds of Einfeldt (1988), i.e. HLLE:
+// F = (S_R F_L - S_L F_R + S_L S_R (U_R - U_L)) / (S_R - S_L) for
+// S_L < 0 < S_R, else the upwind physical flux. Positivity preserving under
+// the CFL condition (Einfeldt, Munz, Roe, Sjögreen 1991).
+func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	sl, sr, hl, hr := einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	if sl >= 0 {
+		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
+	}
+	if sr <= 0 {
+		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
+	}
+	mul, mur := rl*ul, rr*ur
+	el, er := rl*hl-pl, rr*hr-pr // E = rho H - p
+	w := 1 / (sr - sl)
+	ss := sl * sr
+	f0 = (sr*mul - sl*mur + ss*(rr-rl)) * w
+	f1 = (sr*(mul*ul+pl) - sl*(mur*ur+pr) + ss*(mur-mul)) * w
+	f2 = (sr*mul*vl - sl*mur*vr + ss*(rr*vr-rl*vl)) * w
+	f3 = (sr*mul*hl - sl*mur*hr + ss*(er-el)) * w
+	return
+}
+
+// EulerHLLC is the HLLC flux (Toro, Spruce, Speares 1994; Toro 2009 §10.4)
+// with the Einfeldt (1988) wave speeds S_L, S_R of EulerHLL and the contact
+// speed S* of Toro 2009 eq. 10.37. The star states are those of Toro 2009
+// eq. 10.39; F = F*_L = F_L + S_L (U*_L - U_L) for S* >= 0, else
+// F*_R = F_R + S_R (U*_R - U_R) (eq. 10.38). A stationary contact (u_L = u_R = 0, p_L = p_R) is
+// resolved exactly.
+func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	sl, sr, hl, hr := einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	if sl >= 0 {
+		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
+	}
+	if sr <= 0 {
+		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
+	}
+	ql, qr := rl*(sl-ul), rr*(sr-ur) // mass flux through the outer waves
+	ss := (pr - pl + ul*ql - ur*qr) / (ql - qr)
+	if ss >= 0 {
+		return hllcSide(rl, ul, vl, pl, hl, sl, ss, ql)
+	}
+	return hllcSide(rr, ur, vr, pr, hr, sr, ss, qr)
+}
+
+// hllcSide returns F_K + S_K (U*_K - U_K) for the state (r, u, v, p) with
+// total enthalpy h, outer wave speed sk, contact speed ss and q = r (sk - u)
+// (Toro 2009 eqs. 10.38, 10.39).
+func hllcSide(r, u, v, p, h, sk, ss, q float64) (f0, f1, f2, f3 float64) {
+	m := r * u
+	e := r*h - p
+	// rho*_K = r t; written with t - 1 so that U*_K - U_K vanishes exactly
+	// when the contact moves with the state (ss = u).
+	t := (sk - u) / (sk - ss)
+	d0 := r * (t - 1)
+	d1 := r*t*ss - m
+	d2 := v * d0
+	d3 := e*(t-1) + r*t*(ss-u)*(ss+p/q)
+	return m + sk*d0, m*u + p + sk*d1, m*v + sk*d2, m*h + sk*d3
+}
+
+// EulerRoe is the Roe flux (Roe 1981, J. Comput. Phys. 43; Toro 2009 §11.2)
+// F = (F_L + F_R)/2 - sum_k |lambda_k| alpha_k K_k / 2 over the eigenvalues
+// u~ - a~, u~, u~, u~ + a~ of the Roe matrix, with the entropy fix of Harten
+// and Hyman (1983, J. Comput. Phys. 50) on the two acoustic waves. Not
+// positivity preserving (Einfeldt et al. 1991).
+func EulerRoe(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	return roeFlux(gamma, rl, ul, vl, pl, rr, ur, vr, pr, true)
+}
+
+// roeFlux is EulerRoe, with the Harten-Hyman entropy fix if fix is set.
+//
+// Harten-Hyman (as in Toro 2009 §11.4.2): an acoustic wave k is a transonic
+// rarefaction when lambda_k(U_b) < 0 < lambda_k(U_a), where U_b and U_a are
+// the states before and after it in the Roe linearisation (U_L and
+// U_L + alpha_1 K_1 for wave 1, U_R - alpha_4 K_4 and U_R for wave 4). The
+// wave is then split into a part moving at l_b = lambda_k(U_b) and one at
+// l_a = lambda_k(U_a) with the same total speed lambda~, so that its left-
+// going share moves at l_b (l_a - lambda~)/(l_a - l_b); in the central form
+// this replaces |lambda~| by ((l_a + l_b) lambda~ - 2 l_a l_b) / (l_a - l_b).
+func roeFlux(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64, fix bool) (f0, f1, f2, f3 float64) {
+	u, v, h, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	rho := math.Sqrt(rl * rr)
+	dr, du, dv, dp := rr-rl, ur-ul, vr-vl, pr-pl
+	ia2 := 1 / (a * a)
+	// Wave strengths (Toro 2009 §11.2.2, eqs. 11.68-11.70, with the shear wave).
+	a1 := 0.5 * (dp - rho*a*du) * ia2
+	a2 := dr - dp*ia2
+	a3 := rho * dv
+	a4 := 0.5 * (dp + rho*a*du) * ia2
+	l1, l2, l4 := u-a, u, u+a
+	k1, k4 := math.Abs(l1), math.Abs(l4)
+	if fix {
+		g1 := gamma - 1
+		// Wave 1: from U_L to U_L + a1 K1.
+		if lb := ul - math.Sqrt(gamma*pl/rl); lb < 0 {
+			r := rl + a1
+			m := rl*ul + a1*(u-a)
+			n := rl*vl + a1*v
+			e := rl*hl - pl + a1*(h-u*a)
+			if la := (m - math.Sqrt(gamma*g1*(e*r-0.5*(m*m+n*n)))) / r; la > 0 {
+				k1 = ((la+lb)*l1 - 2*la*lb) / (la - lb)
+			}
+		}
+		// Wave 4: from U_R - a4 K4 to U_R.
+		if la := ur + math.Sqrt(gamma*pr/rr); la > 0 {
+			r := rr - a4
+			m := rr*ur - a4*(u+a)
+			n := rr*vr - a4*v
+			e := rr*hr - pr - a4*(h+u*a)
+			if lb := (m + math.Sqrt(gamma*g1*(e*r-0.5*(m*m+n*n)))) / r; lb < 0 {
+				k4 = ((la+lb)*l4 - 2*la*lb) / (la - lb)
+			}
+		}
+	}
+	k2 := math.Abs(l2)
+	w1, w2, w3, w4 := k1*a1, k2*a2, k2*a3, k4*a4
+	// Eigenvectors K1 = (1, u-a, v, h-ua), K2 = (1, u, v, (u^2+v^2)/2),
+	// K3 = (0, 0, 1, v), K4 = (1, u+a, v, h+ua).
+	d0 := w1 + w2 + w4
+	d1 := w1*(u-a) + w2*u + w4*(u+a)
+	d2 := (w1+w2+w4)*v + w3
+	d3 := w1*(h-u*a) + w2*0.5*(u*u+v*v) + w3*v + w4*(h+u*a)
+	mul, mur := rl*ul, rr*ur
+	f0 = 0.5 * (mul + mur - d0)
+	f1 = 0.5 * (mul*ul + pl + mur*ur + pr - d1)
+	f2 = 0.5 * (mul*vl + mur*vr - d2)
+	f3 = 0.5 * (mul*hl + mur*hr - d3)
 	return
 }
