@@ -1,0 +1,76 @@
+package sweep
+
+import (
+	"fmt"
+	"math"
+	"testing"
+)
+
+func powerLaw(h []float64, terms ...float64) []float64 {
+	// terms: pairs (coefficient, exponent).
+	e := make([]float64, len(h))
+	for i := range h {
+		for k := 0; k+1 < len(terms); k += 2 {
+			e[i] += terms[k] * math.Pow(h[i], terms[k+1])
+		}
+	}
+	return e
+}
+
+func TestVerdict(t *testing.T) {
+	h := []float64{1.0 / 32, 1.0 / 64, 1.0 / 128, 1.0 / 256}
+	cases := []struct {
+		name           string
+		h, e           []float64
+		design, tol    float64
+		status         string
+		preAsymptotic  bool
+		finestApproxTo float64
+	}{
+		{"second order", h, powerLaw(h, 3, 2), 2, 0.15, StatusPass, false, 2},
+		{"first order of a second-order scheme", h, powerLaw(h, 3, 1), 2, 0.15, StatusLow, false, 1},
+		{"third order", h, powerLaw(h, 3, 3), 2, 0.15, StatusHigh, false, 3},
+		// e = h + 1e4 h^3: the finest pair shows 1.48, the fit 2.08: off
+		// design and not settled.
+		{"not settled", h, powerLaw(h, 1, 1, 1e4, 3), 2, 0.3, StatusPreAsymptotic, true, 1.48},
+		// e = h^2 + 1000 h^4: finest pair 2.06, fit 2.31: pass, flagged.
+		{"pass but coarse grids off", h, powerLaw(h, 1, 2, 1000, 4), 2, 0.2, StatusPass, true, 2.06},
+		{"one grid", h[:1], powerLaw(h[:1], 1, 2), 2, 0.1, StatusInsufficient, false, 0},
+		{"zero errors", h, []float64{1e-3, 0, 0, 0}, 2, 0.1, StatusInsufficient, false, 0},
+		{"bad tol", h, powerLaw(h, 3, 2), 2, 0, StatusInsufficient, false, 0},
+	}
+	for _, c := range cases {
+		v := Verdict(c.h, c.e, c.design, c.tol)
+		if v.Status != c.status || v.PreAsymptotic != c.preAsymptotic {
+			t.Errorf("%s: status %q pre-asymptotic %v, want %q %v (%s)", c.name, v.Status, v.PreAsymptotic, c.status, c.preAsymptotic, v.Summary)
+		}
+		if c.status != StatusInsufficient && math.Abs(v.Finest-c.finestApproxTo) > 0.01 {
+			t.Errorf("%s: finest order %g, want about %g", c.name, v.Finest, c.finestApproxTo)
+		}
+		if v.Summary == "" {
+			t.Errorf("%s: empty summary", c.name)
+		}
+	}
+}
+
+func TestDesignOrder(t *testing.T) {
+	// Common practice: first-order Godunov 1, MUSCL-type second-order 2.
+	for s, want := range map[string]float64{"godunov": 1, "muscl": 2} {
+		if p, ok := DesignOrder(s); !ok || p != want {
+			t.Errorf("DesignOrder(%q) = %g %v", s, p, ok)
+		}
+	}
+	if _, ok := DesignOrder("weno"); ok {
+		t.Error("unknown scheme accepted")
+	}
+}
+
+func ExampleVerdict() {
+	h := []float64{1.0 / 32, 1.0 / 64, 1.0 / 128, 1.0 / 256}
+	e := []float64{4.1e-3, 1.1e-3, 2.8e-4, 7.1e-5}
+	design, _ := DesignOrder("muscl")
+	v := Verdict(h, e, design, 0.15)
+	fmt.Println(v.Summary)
+	// Output:
+	// pass: finest-pair order 1.98, fitted 1.95 ± 0.014 over 4 grids, design 2 ± 0.15
+}
