@@ -87,6 +87,12 @@ type Problem struct {
 
 	// Functionals are evaluated on the final state.
 	Functionals []Functional
+
+	// TEnd, if > 0, is the final time of the run; 0 means the t_end
+	// parameter. A case whose natural final time depends on its other
+	// parameters (shocktube test=N) declares t_end with default 0 ("the
+	// case's own time") and sets TEnd here.
+	TEnd float64
 }
 
 // Case is a named, parameterised problem.
