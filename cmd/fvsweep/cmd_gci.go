@@ -1,0 +1,244 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"fvsweep/sweep"
+)
+
+const gciUsage = `usage: fvsweep gci --values PHI1,PHI2,... (--cells N1,N2,... --dim D | --h H1,H2,...) [--order P] [--fs F] [--json]
+
+Discretisation-error estimate of a functional computed on several grids, by
+the procedure of Celik et al. 2008 (J. Fluids Eng. 130, 078001): apparent
+order, Richardson extrapolation, relative errors and the grid convergence
+index. The grids may be given in any order; they are sorted by spacing and
+reported finest first. With two grids --order gives the assumed order (for
+example the design order) and the factor of safety becomes 3.
+
+flags (--help or -h alone prints this):
+  --values  the functional on each grid, comma separated
+  --cells   cell count of each grid (h = (1/N)^(1/dim)); needs --dim
+  --dim     space dimension for --cells: 1, 2 or 3
+  --h       grid spacing of each grid, instead of --cells
+  --order   assumed order, for two grids only
+  --fs      factor of safety (default 1.25, or 3 for two grids)
+  --json    print JSON: one record for two or three grids, otherwise
+            {"records": [one per successive triple], "least_squares": {...}}
+`
+
+func init() {
+	register(command{name: "gci", summary: "grid convergence index of values from any code",
+		run: func(args []string) int { return runGCI(args, os.Stdout, os.Stderr) }})
+}
+
+// gciFloats is a comma-separated list of finite numbers as a flag value.
+type gciFloats []float64
+
+func (l *gciFloats) String() string { return fmt.Sprint([]float64(*l)) }
+
+func (l *gciFloats) Set(s string) error {
+	*l = (*l)[:0]
+	for _, f := range strings.Split(s, ",") {
+		f = strings.TrimSpace(f)
+		x, err := strconv.ParseFloat(f, 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			return fmt.Errorf("%q is not a finite number", f)
+		}
+		*l = append(*l, x)
+	}
+	return nil
+}
+
+// runGCI is the gci command: exit code 0 on success, 2 on bad flags or input.
+func runGCI(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("gci", flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	var values, cells, hs gciFloats
+	fs.Var(&values, "values", "")
+	fs.Var(&cells, "cells", "")
+	fs.Var(&hs, "h", "")
+	dim := fs.Int("dim", 0, "")
+	order := fs.Float64("order", 0, "")
+	safety := fs.Float64("fs", 0, "")
+	asJSON := fs.Bool("json", false, "")
+	bad := func(format string, a ...any) int {
+		fmt.Fprintf(stderr, "fvsweep gci: "+format+"\n", a...)
+		return 2
+	}
+	if len(args) == 1 && (args[0] == "-h" || args[0] == "--h") {
+		args = []string{"--help"} // -h alone asks for help; with a value it is the spacings flag
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			fmt.Fprint(stdout, gciUsage)
+			return 0
+		}
+		return bad("%v (see fvsweep gci -h)", err)
+	}
+	if fs.NArg() > 0 {
+		return bad("unexpected argument %q (all input is given by flags)", fs.Arg(0))
+	}
+	set := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	h, code := gciSpacings(values, cells, hs, *dim, set, bad)
+	if code != 0 {
+		return code
+	}
+	if set["order"] && !(*order > 0 && !math.IsInf(*order, 1)) {
+		return bad("--order %g: must be a positive number", *order)
+	}
+	if len(values) == 2 && !set["order"] {
+		return bad("--order is needed with two grids (the assumed order, for example the design order)")
+	}
+	if len(values) > 2 && set["order"] {
+		return bad("--order is only for two grids; with %d grids the order is observed", len(values))
+	}
+	if set["fs"] && !(*safety > 0 && !math.IsInf(*safety, 1)) {
+		return bad("--fs %g: must be a positive number", *safety)
+	}
+	st, err := sweep.GCI(values, h, sweep.GCIOptions{SafetyFactor: *safety, AssumedOrder: *order})
+	if err != nil {
+		return bad("%v", err)
+	}
+	if *asJSON {
+		var v any = st
+		if len(st.Phi) <= 3 {
+			v = st.Records[0]
+		}
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(v); err != nil {
+			fmt.Fprintf(stderr, "fvsweep gci: %v\n", err)
+			return 1
+		}
+		return 0
+	}
+	writeGCIText(stdout, st)
+	return 0
+}
+
+// gciSpacings checks the grid flags and returns the spacing of each grid.
+func gciSpacings(values, cells, hs gciFloats, dim int, set map[string]bool, bad func(string, ...any) int) ([]float64, int) {
+	switch {
+	case !set["values"]:
+		return nil, bad("--values is required")
+	case set["cells"] == set["h"]:
+		return nil, bad("give exactly one of --cells (with --dim) and --h")
+	case len(values) < 2:
+		return nil, bad("--values: need at least 2 grids, have %d", len(values))
+	}
+	if set["h"] {
+		if set["dim"] {
+			return nil, bad("--dim is only used with --cells")
+		}
+		if len(hs) != len(values) {
+			return nil, bad("--h has %d spacings but --values has %d values", len(hs), len(values))
+		}
+		for i, x := range hs {
+			if !(x > 0) {
+				return nil, bad("--h: spacing %d is %g, must be > 0", i+1, x)
+			}
+		}
+		return gciDistinct("--h", hs, hs, bad)
+	}
+	if !set["dim"] || dim < 1 || dim > 3 {
+		return nil, bad("--dim must be 1, 2 or 3 with --cells")
+	}
+	if len(cells) != len(values) {
+		return nil, bad("--cells has %d counts but --values has %d values", len(cells), len(values))
+	}
+	for i, n := range cells {
+		if !(n >= 1) {
+			return nil, bad("--cells: count %d is %g, must be >= 1", i+1, n)
+		}
+	}
+	h, err := sweep.SpacingsFromCells(cells, dim)
+	if err != nil {
+		return nil, bad("--cells: %v", err)
+	}
+	return gciDistinct("--cells", cells, h, bad)
+}
+
+func gciDistinct(name string, given, h []float64, bad func(string, ...any) int) ([]float64, int) {
+	for i := range h {
+		for j := i + 1; j < len(h); j++ {
+			if h[i] == h[j] {
+				return nil, bad("%s: grids %d and %d are the same size (%g)", name, i+1, j+1, given[i])
+			}
+		}
+	}
+	return h, 0
+}
+
+func writeGCIText(w io.Writer, st *sweep.GCIStudy) {
+	fmt.Fprintln(w, "grids, sorted finest first:")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  grid\th\tphi")
+	for i := range st.H {
+		fmt.Fprintf(tw, "  %d\t%.6g\t%.10g\n", i+1, st.H[i], st.Phi[i])
+	}
+	tw.Flush()
+	for _, r := range st.Records {
+		fmt.Fprintln(w)
+		names := make([]string, len(r.Grids))
+		for i, g := range r.Grids {
+			names[i] = strconv.Itoa(g + 1)
+		}
+		head := "grids " + strings.Join(names, ", ")
+		if r.Convergence != "" {
+			head += ": " + r.Convergence
+			if r.Ratio != nil {
+				head += fmt.Sprintf(" (R = eps21/eps32 = %.4g)", *r.Ratio)
+			}
+		}
+		fmt.Fprintln(w, head)
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		ratios := fmt.Sprintf("%.4g", r.R21)
+		if r.R32 != nil {
+			ratios += fmt.Sprintf(", r32 = %.4g", *r.R32)
+		}
+		fmt.Fprintf(tw, "  refinement ratio\tr21 = %s\n", ratios)
+		label := "apparent order p"
+		if r.OrderAssumed {
+			label = "assumed order p"
+		}
+		fmt.Fprintf(tw, "  %s\t%s\n", label, gciNum(r.Order, "%.4g", 1))
+		fmt.Fprintf(tw, "  extrapolated phi_ext21\t%s\n", gciNum(r.Extrapolated, "%.10g", 1))
+		fmt.Fprintf(tw, "  approximate error e_a21\t%s\n", gciNum(r.EApprox, "%.3g %%", 100))
+		fmt.Fprintf(tw, "  extrapolated error e_ext21\t%s\n", gciNum(r.EExtrap, "%.3g %%", 100))
+		fmt.Fprintf(tw, "  GCI_fine21 (Fs = %g)\t%s\n", r.SafetyFactor, gciNum(r.GCIFine, "%.3g %%", 100))
+		if r.R32 != nil {
+			fmt.Fprintf(tw, "  GCI_32\t%s\n", gciNum(r.GCI32, "%.3g %%", 100))
+			fmt.Fprintf(tw, "  asymptotic ratio GCI_32/(r21^p GCI_21)\t%s\n", gciNum(r.AsymptoticRatio, "%.4g", 1))
+		}
+		tw.Flush()
+		for _, n := range r.Notes {
+			fmt.Fprintf(w, "  note: %s\n", n)
+		}
+	}
+	if ls := st.LeastSquares; ls != nil {
+		fmt.Fprintf(w, "\nleast squares over all %d grids, phi = phi_0 + alpha (h/h1)^p:\n", len(st.H))
+		fmt.Fprintf(w, "  order p %s, phi_0 %s, rms residual %.3g\n",
+			gciNum(ls.Order, "%.4g", 1), gciNum(ls.Extrapolated, "%.10g", 1), ls.ResidualRMS)
+		for _, n := range ls.Notes {
+			fmt.Fprintf(w, "  note: %s\n", n)
+		}
+	}
+}
+
+// gciNum formats *x times scale, or "undefined" when x is nil.
+func gciNum(x *float64, format string, scale float64) string {
+	if x == nil {
+		return "undefined (see note)"
+	}
+	return fmt.Sprintf(format, *x*scale)
+}
