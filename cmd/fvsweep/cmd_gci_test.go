@@ -14,18 +14,24 @@ func gciRun(args ...string) (code int, stdout, stderr string) {
 	return code, o.String(), e.String()
 }
 
+// gciJSON runs the command, which must succeed, and decodes its output into v.
+func gciJSON(t *testing.T, v any, args ...string) {
+	t.Helper()
+	code, out, errs := gciRun(args...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if err := json.Unmarshal([]byte(out), v); err != nil {
+		t.Fatalf("not JSON: %v\n%s", err, out)
+	}
+}
+
 // TestGCICommandCelikExample: the worked example of Celik et al. 2008
 // (J. Fluids Eng. 130(7) 078001, Table 1, recalled from memory; CHECKS.md
 // section 5) through the command line, as JSON.
 func TestGCICommandCelikExample(t *testing.T) {
-	code, out, errs := gciRun("--values", "6.063,5.972,5.863", "--cells", "18000,8000,4500", "--dim", "2", "--json")
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
-	}
 	var m map[string]any
-	if err := json.Unmarshal([]byte(out), &m); err != nil {
-		t.Fatalf("not JSON: %v\n%s", err, out)
-	}
+	gciJSON(t, &m, "--values", "6.063,5.972,5.863", "--cells", "18000,8000,4500", "--dim", "2", "--json")
 	want := map[string]struct {
 		v     float64
 		scale float64
@@ -66,17 +72,11 @@ func TestGCICommandSpacingsAnyOrder(t *testing.T) {
 }
 
 func TestGCICommandManyGrids(t *testing.T) {
-	code, out, errs := gciRun("--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
-	}
 	var st struct {
 		Records []map[string]any `json:"records"`
 		LS      map[string]any   `json:"least_squares"`
 	}
-	if err := json.Unmarshal([]byte(out), &st); err != nil {
-		t.Fatal(err)
-	}
+	gciJSON(t, &st, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
 	if len(st.Records) != 3 || st.LS == nil {
 		t.Fatalf("records %d least squares %v", len(st.Records), st.LS)
 	}
@@ -93,14 +93,8 @@ func TestGCICommandManyGrids(t *testing.T) {
 }
 
 func TestGCICommandTwoGrids(t *testing.T) {
-	code, out, errs := gciRun("--values", "6.063,5.972", "--h", "1,1.5", "--order", "2", "--json")
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
-	}
 	var m map[string]any
-	if err := json.Unmarshal([]byte(out), &m); err != nil {
-		t.Fatal(err)
-	}
+	gciJSON(t, &m, "--values", "6.063,5.972", "--h", "1,1.5", "--order", "2", "--json")
 	if m["safety_factor"] != 3.0 || m["order_assumed"] != true {
 		t.Errorf("two grids: %v", m)
 	}
