@@ -81,10 +81,11 @@ func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 f
 	return EulerPhysicalFlux(gamma, r, u, v, p)
 }
 
-// roeAverage returns the Roe averages of the velocities, the total enthalpy
-// H = (E + p)/rho and the sound speed (Roe 1981), with the square roots of
-// the densities as weights, and the left and right enthalpies.
-func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (u, v, h, a, hl, hr float64) {
+// roeAverage returns the Roe averages (Roe 1981) of the density,
+// rho~ = sqrt(rho_L rho_R), of the velocities, of the total enthalpy
+// H = (E + p)/rho and the sound speed, with the square roots of the
+// densities as weights, and the left and right enthalpies.
+func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (rho, u, v, h, a, hl, hr float64) {
 	g := gamma / (gamma - 1)
 	hl = g*pl/rl + 0.5*(ul*ul+vl*vl)
 	hr = g*pr/rr + 0.5*(ur*ur+vr*vr)
@@ -94,7 +95,7 @@ func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (u, v, h, a, hl, 
 	v = (sl*vl + sr*vr) * w
 	h = (sl*hl + sr*hr) * w
 	a = math.Sqrt((gamma - 1) * (h - 0.5*(u*u+v*v)))
-	return u, v, h, a, hl, hr
+	return sl * sr, u, v, h, a, hl, hr
 }
 
 // einfeldtSpeeds returns the HLLE wave speed estimates of Einfeldt (1988,
@@ -102,7 +103,7 @@ func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (u, v, h, a, hl, 
 // S_R = max(u_R + a_R, u~ + a~) with Roe averages u~, a~, and the left and
 // right total enthalpies.
 func einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (sl, sr, hl, hr float64) {
-	u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	_, u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
 	al := math.Sqrt(gamma * pl / rl)
 	ar := math.Sqrt(gamma * pr / rr)
 	return math.Min(ul-al, u-a), math.Max(ur+ar, u+a), hl, hr
@@ -190,8 +191,7 @@ func EulerRoe(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 // going share moves at l_b (l_a - lambda~)/(l_a - l_b); in the central form
 // this replaces |lambda~| by ((l_a + l_b) lambda~ - 2 l_a l_b) / (l_a - l_b).
 func roeFlux(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64, fix bool) (f0, f1, f2, f3 float64) {
-	u, v, h, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
-	rho := math.Sqrt(rl * rr)
+	rho, u, v, h, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
 	dr, du, dv, dp := rr-rl, ur-ul, vr-vl, pr-pl
 	ia2 := 1 / (a * a)
 	// Wave strengths (Toro 2009 §11.2.2, eqs. 11.68-11.70, with the shear wave).

@@ -96,7 +96,7 @@ func TestEulerFluxMirror(t *testing.T) {
 // speed and the intermediate states have positive pressure; outside that the
 // Roe flux is known to fail (Einfeldt et al. 1991) and is not tested here.
 func roeDefined(g float64, l, r prim) bool {
-	_, _, h, a, _, _ := roeAverage(g, l.r, l.u, l.v, l.p, r.r, r.u, r.v, r.p)
+	_, _, _, h, a, _, _ := roeAverage(g, l.r, l.u, l.v, l.p, r.r, r.u, r.v, r.p)
 	return a > 0 && h > 0 && !math.IsNaN(a)
 }
 
@@ -402,5 +402,20 @@ func TestEulerFluxByNameUnknown(t *testing.T) {
 	_, err := EulerFluxByName("ausm")
 	if err == nil || !strings.Contains(err.Error(), `"ausm"`) || !strings.Contains(err.Error(), "exact hll hllc rusanov roe") {
 		t.Fatalf("err = %v", err)
+	}
+}
+
+// The names the flux functions answer to are the choices of the flux
+// parameter (params contract, case.go).
+func TestFluxNamesMatchParams(t *testing.T) {
+	for _, tc := range []struct {
+		eq    Equation
+		names []string
+	}{{Euler, EulerFluxNames}, {Burgers, BurgersFluxNames}} {
+		for _, p := range CommonParams(tc.eq) {
+			if p.Name == "flux" && strings.Join(p.Choices, " ") != strings.Join(tc.names, " ") {
+				t.Errorf("%v: flux choices %v, flux functions %v", tc.eq, p.Choices, tc.names)
+			}
+		}
 	}
 }

@@ -44,12 +44,13 @@ type RiemannSolution struct {
 	vacuum               bool    // vacuum generated (only inside the exact flux)
 }
 
-// Riemann solver tolerances: relative change of p* at which Newton stops,
-// and the most iterations (the Newton iteration converges monotonically from
-// the left of the root, Toro 2009 §4.3.1, so this bound is never reached on
-// valid data; it guards against NaN input).
+// Riemann solver tolerances: Newton stops when the relative change of p*
+// falls below riemannTol; as it converges quadratically, the last iterate
+// is then accurate to round-off. riemannMaxIter bounds the iterations (the
+// iteration converges monotonically from the left of the root, Toro 2009
+// §4.3.1, so the bound is not reached on valid data; it guards against NaN).
 const (
-	riemannTol     = 1e-13
+	riemannTol     = 1e-9
 	riemannMaxIter = 60
 )
 
@@ -85,18 +86,43 @@ func SolveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) (RiemannSolution, error
 
 // pressureFn is Toro's f_K(p) and its derivative for the side with state
 // (rK, pK, aK) (Toro 2009 eqs. 4.6, 4.7, 4.37): shock branch for p > pK,
-// rarefaction branch otherwise.
-func pressureFn(gamma, p, rK, pK, aK float64) (f, df float64) {
+// rarefaction branch otherwise, where it also returns r = (p/pK)^z,
+// z = (gamma-1)/(2 gamma) (0 on the shock branch).
+func pressureFn(gamma, p, rK, pK, aK float64) (f, df, r float64) {
 	if p > pK {
 		A := 2 / ((gamma + 1) * rK)
 		B := (gamma - 1) / (gamma + 1) * pK
 		q := math.Sqrt(A / (p + B))
-		return (p - pK) * q, q * (1 - 0.5*(p-pK)/(p+B))
+		return (p - pK) * q, q * (1 - 0.5*(p-pK)/(p+B)), 0
 	}
-	r := math.Pow(p/pK, 0.5*(gamma-1)/gamma)
+	r = powPos(p/pK, 0.5*(gamma-1)/gamma)
 	f = 2 * aK / (gamma - 1) * (r - 1)
 	df = r / (rK * aK) * pK / p // (p/pK)^(-(gamma+1)/(2 gamma)) / (rK aK)
-	return f, df
+	return f, df, r
+}
+
+// powPos returns x^y for x > 0 as exp(y log x): a few ulps, several times
+// faster than math.Pow, which the exact flux would spend most of its time in.
+func powPos(x, y float64) float64 { return math.Exp(y * math.Log(x)) }
+
+// powFan returns x^n for x >= 0 and n = 2/(gamma-1), by repeated
+// multiplication when n is a small integer up to round-off (gamma = 1.4:
+// n = 5; 5/3: 3), else as powPos; 0^n = 0.
+func powFan(x, n float64) float64 {
+	if k := math.Round(n); math.Abs(n-k) < 1e-12 && k >= 1 && k <= 16 {
+		y, b := 1.0, x
+		for m := int(k); m > 0; m >>= 1 {
+			if m&1 == 1 {
+				y *= b
+			}
+			b *= b
+		}
+		return y
+	}
+	if x <= 0 {
+		return 0
+	}
+	return powPos(x, n)
 }
 
 // guessPressure is the adaptive initial guess for p* of Toro 2009 §9.5.1:
@@ -112,8 +138,8 @@ func guessPressure(gamma, rl, ul, pl, al, rr, ur, pr, ar float64) float64 {
 	if ppv < pmin {
 		z := 0.5 * (gamma - 1) / gamma
 		num := al + ar - 0.5*(gamma-1)*(ur-ul)
-		den := al/math.Pow(pl, z) + ar/math.Pow(pr, z)
-		return math.Pow(num/den, 1/z)
+		den := al/powPos(pl, z) + ar/powPos(pr, z)
+		return powPos(num/den, 1/z)
 	}
 	gL := math.Sqrt(2 / ((gamma + 1) * rl) / (ppv + (gamma-1)/(gamma+1)*pl))
 	gR := math.Sqrt(2 / ((gamma + 1) * rr) / (ppv + (gamma-1)/(gamma+1)*pr))
@@ -144,11 +170,11 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 	if !(p > 0) {
 		p = 1e-8 * math.Min(pl, pr)
 	}
-	var fl, fr float64
+	var fl, fr, rL, rR float64
 	for s.Iterations = 1; ; s.Iterations++ {
 		var dfl, dfr float64
-		fl, dfl = pressureFn(gamma, p, rl, pl, s.AL)
-		fr, dfr = pressureFn(gamma, p, rr, pr, s.AR)
+		fl, dfl, rL = pressureFn(gamma, p, rl, pl, s.AL)
+		fr, dfr, rR = pressureFn(gamma, p, rr, pr, s.AR)
 		f := fl + fr + du
 		if f == 0 || s.Iterations == riemannMaxIter {
 			break
@@ -159,10 +185,15 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 			hi = p
 		}
 		pn := p - f/(dfl+dfr)
-		if math.Abs(pn-p) <= riemannTol*(pn+p) {
+		if dp := pn - p; math.Abs(dp) <= riemannTol*(pn+p) {
+			// Converged: carry f_K and r_K to pn to first order (the error,
+			// O(dp^2), is below round-off).
+			fl += dfl * dp
+			fr += dfr * dp
+			c := 1 + 0.5*g1/gamma*dp/p
+			rL *= c
+			rR *= c
 			p = pn
-			fl, _ = pressureFn(gamma, p, rl, pl, s.AL)
-			fr, _ = pressureFn(gamma, p, rr, pr, s.AR)
 			break
 		}
 		switch {
@@ -177,9 +208,12 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 	s.PStar = p
 	s.UStar = 0.5*(ul+ur) + 0.5*(fr-fl) // Toro 2009 eq. 4.9
 
-	// Star densities and wave speeds (Toro 2009 §4.4, §4.5).
+	// Star densities and wave speeds (Toro 2009 §4.4, §4.5). On a
+	// rarefaction side (p/p_K)^(1/gamma) = r_K^n with n = 2/(gamma-1), and
+	// the sound speed behind the fan is a_K r_K.
 	gr := g1 / (gamma + 1)
 	z := 0.5 * g1 / gamma
+	n := 2 / g1
 	if p > pl {
 		s.Left = Shock
 		q := p / pl
@@ -188,9 +222,9 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		s.LeftHead, s.LeftTail = sl, sl
 	} else {
 		s.Left = Rarefaction
-		s.RhoStarL = rl * math.Pow(p/pl, 1/gamma)
+		s.RhoStarL = rl * powFan(rL, n)
 		s.LeftHead = ul - s.AL
-		s.LeftTail = s.UStar - s.AL*math.Pow(p/pl, z)
+		s.LeftTail = s.UStar - s.AL*rL
 	}
 	if p > pr {
 		s.Right = Shock
@@ -200,9 +234,9 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		s.RightHead, s.RightTail = sr, sr
 	} else {
 		s.Right = Rarefaction
-		s.RhoStarR = rr * math.Pow(p/pr, 1/gamma)
+		s.RhoStarR = rr * powFan(rR, n)
 		s.RightHead = ur + s.AR
-		s.RightTail = s.UStar + s.AR*math.Pow(p/pr, z)
+		s.RightTail = s.UStar + s.AR*rR
 	}
 	return s
 }
@@ -261,10 +295,9 @@ func (s RiemannSolution) sampleLeftFan(xi float64) (rho, u, p float64) {
 	}
 	g := s.Gamma
 	c := 2/(g+1) + (g-1)/((g+1)*s.AL)*(s.UL-xi)
-	rho = s.RhoL * math.Pow(c, 2/(g-1))
+	cn := powFan(c, 2/(g-1))
 	u = 2 / (g + 1) * (s.AL + 0.5*(g-1)*s.UL + xi)
-	p = s.PL * math.Pow(c, 2*g/(g-1))
-	return rho, u, p
+	return s.RhoL * cn, u, s.PL * cn * c * c // c^(2 gamma/(gamma-1)) = c^n c^2
 }
 
 // sampleRightFan returns the right state for xi >= RightHead and the state
@@ -275,8 +308,7 @@ func (s RiemannSolution) sampleRightFan(xi float64) (rho, u, p float64) {
 	}
 	g := s.Gamma
 	c := 2/(g+1) - (g-1)/((g+1)*s.AR)*(s.UR-xi)
-	rho = s.RhoR * math.Pow(c, 2/(g-1))
+	cn := powFan(c, 2/(g-1))
 	u = 2 / (g + 1) * (-s.AR + 0.5*(g-1)*s.UR + xi)
-	p = s.PR * math.Pow(c, 2*g/(g-1))
-	return rho, u, p
+	return s.RhoR * cn, u, s.PR * cn * c * c
 }
