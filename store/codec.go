@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -151,8 +152,27 @@ func DecodeSweep(data []byte) (SweepRecord, error) {
 	return r, nil
 }
 
-// statusOf reads only the status of a stored result record.
+// Status markers as encoding/json writes them. Inside a JSON string a quote
+// is escaped, so the first marker found in a record this package wrote is its
+// status field.
+var (
+	markDone   = []byte(`"status":"done"`)
+	markFailed = []byte(`"status":"failed"`)
+	markStatus = []byte(`"status":"`)
+)
+
+// statusOf reads only the status of a stored result record: a scan for the
+// marker of the record's status field, and a full decode when the record
+// does not have the layout this package writes.
 func statusOf(data []byte) (string, error) {
+	if i := bytes.Index(data, markStatus); i >= 0 && len(data) > 0 && data[0] == '{' && data[len(data)-1] == '}' {
+		switch {
+		case bytes.HasPrefix(data[i:], markDone):
+			return StatusDone, nil
+		case bytes.HasPrefix(data[i:], markFailed):
+			return StatusFailed, nil
+		}
+	}
 	var s struct {
 		Status string `json:"status"`
 	}

@@ -3,6 +3,7 @@ package store
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"fmt"
 
 	bolt "go.etcd.io/bbolt"
@@ -62,13 +63,22 @@ func (db *DB) PutOutcomes(outs []sweep.Outcome) (written int, err error) {
 			}
 			written++
 		}
+		if written == 0 {
+			return errUnchanged // roll back: no commit, no fsync
+		}
 		return nil
 	})
+	if errors.Is(err, errUnchanged) {
+		return 0, nil
+	}
 	if err != nil {
 		return 0, fmt.Errorf("store: %w", err)
 	}
 	return written, nil
 }
+
+// errUnchanged rolls back a write transaction that changed nothing.
+var errUnchanged = errors.New("unchanged")
 
 // Outcome returns the stored outcome of a job and whether there is one.
 func (db *DB) Outcome(jobID string) (sweep.Outcome, bool, error) {

@@ -253,6 +253,14 @@ func TestOutcomePrecedence(t *testing.T) {
 			t.Fatalf("%s: written %d (want %d), stored %+v, want %+v", s.name, n, s.written, got, s.want)
 		}
 	}
+	// A batch that changes nothing commits nothing.
+	before := txID(t, db)
+	if n, err := db.PutOutcomes([]sweep.Outcome{done, done2, failed}); n != 0 || err != nil {
+		t.Fatalf("all-duplicate batch: %d %v", n, err)
+	}
+	if after := txID(t, db); after != before {
+		t.Fatalf("all-duplicate batch committed: txid %d -> %d", before, after)
+	}
 	// Within one batch the later record sees the earlier one.
 	k := testJobs("p")[1]
 	n, err := db.PutOutcomes([]sweep.Outcome{testOutcome(k, StatusFailed), testOutcome(k, StatusDone), testOutcome(k, StatusDone)})
@@ -580,4 +588,34 @@ func TestVerifyFindsBadRecords(t *testing.T) {
 	if _, _, err := db.Outcome("abc"); err == nil {
 		t.Fatal("Outcome decoded a truncated record")
 	}
+}
+
+func TestStatusOf(t *testing.T) {
+	cases := []struct {
+		data, want string
+		ok         bool
+	}{
+		{`{"job_id":"a","sweep":"s","status":"done","worker":"w"}`, StatusDone, true},
+		{`{"job_id":"a","sweep":"s","status":"failed","error":"\"status\":\"done\""}`, StatusFailed, true},
+		{`{"status": "failed"}`, StatusFailed, true}, // not this package's layout: full decode
+		{`{"job_id":"a","status":"queued"}`, "", false},
+		{`{"job_id":"a","status":"do`, "", false},
+		{`{}`, "", false},
+	}
+	for _, c := range cases {
+		got, err := statusOf([]byte(c.data))
+		if got != c.want || (err == nil) != c.ok {
+			t.Errorf("statusOf(%s) = %q, %v; want %q, ok=%v", c.data, got, err, c.want, c.ok)
+		}
+	}
+}
+
+// txID is the ID of the last committed transaction.
+func txID(t *testing.T, db *DB) int {
+	t.Helper()
+	var id int
+	if err := db.bolt.View(func(tx *bolt.Tx) error { id = tx.ID(); return nil }); err != nil {
+		t.Fatal(err)
+	}
+	return id
 }
