@@ -1,5 +1,7 @@
 package fv2d
 
+import "math"
+
 // Cost is an estimate of the work and memory of one run, made without
 // running it.
 type Cost struct {
@@ -11,14 +13,73 @@ type Cost struct {
 // Work is Cells * Steps: the estimated number of cell updates.
 func (c Cost) Work() float64 { return float64(c.Cells) * c.Steps }
 
-// Estimate returns the cost of the run v. (Placeholder estimate; the solver
-// refines it from the initial wave speeds.)
+// estimateSamples is the most sample points per direction Estimate uses.
+const estimateSamples = 64
+
+// Estimate returns the cost of the run v without running it. It sets up the
+// case's problem, samples the initial state at up to 64 x 64 points to
+// find the largest wave speeds smax_x = max(|u|+a), smax_y = max(|v|+a)
+// (Burgers: |u|), and counts steps = ceil(t_end / dt) with the CFL step
+// dt = cfl / max(smax_x/dx, smax_y/dy) of the solver. The wave speeds of
+// the initial state are a guess: shocks and fans change them as the run
+// goes (typically by tens of percent). Bytes counts the state (with ghost
+// layers), the y-sweep scratch of every thread and, when the case has an
+// exact solution, the exact cell averages. A run that cannot be set up
+// costs its cell count and zero steps.
 func Estimate(v Values) Cost {
 	nx, ny := v.Int("nx"), v.Int("ny")
-	n := nx
-	if ny > n {
-		n = ny
+	cost := Cost{Cells: nx * ny}
+	c, err := LookupCase(v.Case)
+	if err != nil {
+		return cost
 	}
-	nv := 4
-	return Cost{Cells: nx * ny, Steps: float64(n), Bytes: int64((nx + 4) * (ny + 4) * nv * 8 * 3)}
+	p, err := c.Setup(v)
+	if err != nil || p.Initial == nil {
+		return cost
+	}
+	g := 1
+	if v.Get("scheme") == "muscl" {
+		g = 2
+	}
+	nv := len(p.Eq.Vars())
+	state := int64(nv) * int64(nx+2*g) * int64(ny+2*g) * 8
+	cost.Bytes = state + int64(v.Int("threads"))*int64(nv)*blockCols*int64(ny+2*g)*8
+	if p.Exact != nil {
+		cost.Bytes += state
+	}
+	tEnd := v.Float("t_end")
+	if p.TEnd > 0 {
+		tEnd = p.TEnd
+	}
+	dx, dy := (p.X1-p.X0)/float64(nx), (p.Y1-p.Y0)/float64(ny)
+	sx, sy := sampleSpeeds(p, min(nx, estimateSamples), min(ny, estimateSamples))
+	rate := math.Max(sx/dx, sy/dy) / v.Float("cfl") // 1/dt
+	if tEnd > 0 {
+		cost.Steps = math.Max(1, math.Ceil(tEnd*rate))
+	}
+	return cost
+}
+
+// sampleSpeeds returns the largest wave speeds in x and y of the initial
+// state of p sampled at the centres of an mx x my grid.
+func sampleSpeeds(p *Problem, mx, my int) (sx, sy float64) {
+	w := make([]float64, len(p.Eq.PrimVars()))
+	for j := 0; j < my; j++ {
+		y := p.Y0 + (float64(j)+0.5)*(p.Y1-p.Y0)/float64(my)
+		for i := 0; i < mx; i++ {
+			x := p.X0 + (float64(i)+0.5)*(p.X1-p.X0)/float64(mx)
+			p.Initial(x, y, w)
+			if p.Eq == Burgers {
+				sx = math.Max(sx, math.Abs(w[0]))
+				continue
+			}
+			a := math.Sqrt(p.Gamma * w[3] / w[0])
+			sx = math.Max(sx, math.Abs(w[1])+a)
+			sy = math.Max(sy, math.Abs(w[2])+a)
+		}
+	}
+	if p.Eq == Burgers {
+		sy = sx
+	}
+	return sx, sy
 }

@@ -79,6 +79,7 @@ type worker struct {
 	j0, j1 int
 	b0, b1 int
 	jobs   chan job
+	sp     sweepParams // of the current sweep (a field, so kernels' pointer to it does not escape per call)
 	yb     [4][]float64
 	src    []float64
 	sx, sy float64
@@ -300,9 +301,11 @@ func (w *worker) do(j job) {
 	w.sx, w.sy, w.bad = 0, 0, false
 	switch j.kind {
 	case jobSweepX:
-		w.sweepX(&j.sp)
+		w.sp = j.sp
+		w.sweepX(&w.sp)
 	case jobSweepY:
-		w.sweepY(&j.sp)
+		w.sp = j.sp
+		w.sweepY(&w.sp)
 	case jobSource:
 		w.source(j.t, j.dt)
 		w.speeds(j.sp.speed)

@@ -1,0 +1,60 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"fvsweep/fv2d"
+)
+
+func init() {
+	register(command{name: "cases", summary: "list the cases with their parameters and defaults",
+		run: func(args []string) int { return casesMain(args, os.Stdout, os.Stderr) }})
+}
+
+// casesMain is `fvsweep cases [CASE]`: without an argument every case with
+// its own parameters (and the common ones it overrides), then the common
+// scheme parameters; with CASE its full parameter list.
+func casesMain(args []string, stdout, stderr io.Writer) int {
+	if len(args) > 1 || (len(args) == 1 && strings.HasPrefix(args[0], "-")) {
+		fmt.Fprintln(stderr, "usage: fvsweep cases [CASE]")
+		if len(args) == 1 && (args[0] == "-h" || args[0] == "--help") {
+			return 0
+		}
+		return 2
+	}
+	if len(args) == 1 {
+		c, err := fv2d.LookupCase(args[0])
+		if err != nil {
+			fmt.Fprintf(stderr, "fvsweep cases: %v\n", err)
+			return 1
+		}
+		fmt.Fprintf(stdout, "%s (%s): %s\n", c.Name(), c.Equation(), c.Summary())
+		printParams(stdout, fv2d.ParamsOf(c))
+		return 0
+	}
+	for _, c := range fv2d.Cases() {
+		fmt.Fprintf(stdout, "%s (%s): %s\n", c.Name(), c.Equation(), c.Summary())
+		printParams(stdout, c.Params())
+		fmt.Fprintln(stdout)
+	}
+	for _, eq := range []fv2d.Equation{fv2d.Euler, fv2d.Burgers} {
+		fmt.Fprintf(stdout, "common parameters of %s cases (a case's own list overrides them):\n", eq)
+		printParams(stdout, fv2d.CommonParams(eq))
+		fmt.Fprintln(stdout)
+	}
+	fmt.Fprintln(stdout, "Run 'fvsweep cases CASE' for the full list of one case.")
+	return 0
+}
+
+func printParams(w io.Writer, ps []fv2d.Param) {
+	for _, p := range ps {
+		typ := p.Kind.String()
+		if p.Kind == fv2d.Choice {
+			typ = strings.Join(p.Choices, "|")
+		}
+		fmt.Fprintf(w, "  %-10s %-8s %-28s %s\n", p.Name, p.Default, typ, p.Doc)
+	}
+}

@@ -1,0 +1,227 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"os/signal"
+	"sort"
+	"strconv"
+	"strings"
+
+	"fvsweep/fv2d"
+)
+
+func init() {
+	register(command{name: "solve", summary: "run one case locally and report totals, errors and speed",
+		run: func(args []string) int { return solveMain(args, os.Stdout, os.Stderr) }})
+}
+
+// kvFlags collects repeated -p key=value settings.
+type kvFlags map[string]string
+
+func (kv kvFlags) String() string { return "" }
+
+func (kv kvFlags) Set(s string) error {
+	k, val, ok := strings.Cut(s, "=")
+	k = strings.TrimSpace(k)
+	if !ok || k == "" {
+		return fmt.Errorf("%q is not key=value", s)
+	}
+	if _, dup := kv[k]; dup {
+		return fmt.Errorf("parameter %s given twice", k)
+	}
+	kv[k] = strings.TrimSpace(val)
+	return nil
+}
+
+// solveMain is `fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv]`.
+func solveMain(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("solve", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	kv := kvFlags{}
+	fs.Var(kv, "p", "parameter `key=value` (repeatable; see 'fvsweep cases CASE')")
+	asJSON := fs.Bool("json", false, "print the report as JSON")
+	dump := fs.String("dump", "", "write the final cell averages as CSV to `FILE`")
+	fs.Usage = func() {
+		fmt.Fprintln(stderr, "usage: fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv]")
+		fs.PrintDefaults()
+	}
+	// The case name may come before or after the flags.
+	var name string
+	if len(args) > 0 && !strings.HasPrefix(args[0], "-") {
+		name, args = args[0], args[1:]
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return 0
+		}
+		return 2
+	}
+	rest := fs.Args()
+	if name == "" && len(rest) > 0 {
+		name = rest[0]
+		if err := fs.Parse(rest[1:]); err != nil {
+			return 2
+		}
+		rest = fs.Args()
+	}
+	if name == "" {
+		fmt.Fprintln(stderr, "fvsweep solve: missing CASE (see 'fvsweep cases')")
+		return 2
+	}
+	if len(rest) > 0 {
+		fmt.Fprintf(stderr, "fvsweep solve: unexpected argument %q\n", rest[0])
+		return 2
+	}
+	v, err := fv2d.Resolve(name, kv)
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep solve: %v\n", err)
+		return 1
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	res, err := fv2d.Run(ctx, v)
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep solve: %s: %v\n", name, err)
+		return 1
+	}
+	if *dump != "" {
+		if err := dumpCSV(*dump, res.Final); err != nil {
+			fmt.Fprintf(stderr, "fvsweep solve: --dump %s: %v\n", *dump, err)
+			return 1
+		}
+	}
+	if *asJSON {
+		b, err := json.MarshalIndent(reportJSON(res), "", "  ")
+		if err != nil {
+			fmt.Fprintf(stderr, "fvsweep solve: %v\n", err)
+			return 1
+		}
+		fmt.Fprintf(stdout, "%s\n", b)
+		return 0
+	}
+	printReport(stdout, res)
+	return 0
+}
+
+// num is a float64 that encodes NaN and Inf as JSON null.
+type num float64
+
+func (x num) MarshalJSON() ([]byte, error) {
+	f := float64(x)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(f)
+}
+
+// reportJSON is the Result as JSON with non-finite numbers as null.
+func reportJSON(r *fv2d.Result) map[string]any {
+	out := map[string]any{
+		"case": r.Case, "params": r.Params, "nx": r.NX, "ny": r.NY, "steps": r.Steps,
+		"t_final": num(r.TFinal), "wall_s": num(r.WallS), "cell_updates_per_s": num(r.CellUpdatesPerS),
+	}
+	totals := map[string]map[string]num{}
+	for k, t := range r.Totals {
+		totals[k] = map[string]num{"initial": num(t.Initial), "final": num(t.Final)}
+	}
+	out["totals"] = totals
+	if r.Errors != nil {
+		errs := map[string]map[string]num{}
+		for k, n := range r.Errors {
+			errs[k] = map[string]num{"l1": num(n.L1), "l2": num(n.L2), "linf": num(n.Linf)}
+		}
+		out["errors"] = errs
+	}
+	if r.Functionals != nil {
+		fn := map[string]num{}
+		for k, x := range r.Functionals {
+			fn[k] = num(x)
+		}
+		out["functionals"] = fn
+	}
+	return out
+}
+
+func printReport(w io.Writer, r *fv2d.Result) {
+	vars := r.Final.Eq.Vars()
+	fmt.Fprintf(w, "case        %s\n", r.Case)
+	keys := make([]string, 0, len(r.Params))
+	for k := range r.Params {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	var ps []string
+	for _, k := range keys {
+		ps = append(ps, k+"="+r.Params[k])
+	}
+	fmt.Fprintf(w, "params      %s\n", strings.Join(ps, " "))
+	fmt.Fprintf(w, "grid        %d x %d cells, %d steps to t = %.6g\n", r.NX, r.NY, r.Steps, r.TFinal)
+	fmt.Fprintf(w, "wall        %.3f s, %.4g cell updates/s\n", r.WallS, r.CellUpdatesPerS)
+	fmt.Fprintf(w, "\n%-10s %22s %22s %12s\n", "total", "initial", "final", "rel. change")
+	for _, k := range vars {
+		t := r.Totals[k]
+		rel := (t.Final - t.Initial) / math.Max(math.Abs(t.Initial), math.SmallestNonzeroFloat64)
+		if t.Initial == 0 {
+			rel = t.Final - t.Initial
+		}
+		fmt.Fprintf(w, "%-10s %22.15g %22.15g %12.3e\n", k, t.Initial, t.Final, rel)
+	}
+	if r.Errors != nil {
+		fmt.Fprintf(w, "\n%-10s %12s %12s %12s\n", "error", "L1", "L2", "Linf")
+		for _, k := range vars {
+			n := r.Errors[k]
+			fmt.Fprintf(w, "%-10s %12.5e %12.5e %12.5e\n", k, n.L1, n.L2, n.Linf)
+		}
+	}
+	if len(r.Functionals) > 0 {
+		fmt.Fprintf(w, "\n%-12s %22s\n", "functional", "value")
+		names := make([]string, 0, len(r.Functionals))
+		for k := range r.Functionals {
+			names = append(names, k)
+		}
+		sort.Strings(names)
+		for _, k := range names {
+			fmt.Fprintf(w, "%-12s %22.15g\n", k, r.Functionals[k])
+		}
+	}
+}
+
+// dumpCSV writes one row per cell: the centre and the primitive variables.
+func dumpCSV(path string, s *fv2d.State) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	bw := bufio.NewWriter(f)
+	bw.WriteString("x,y," + strings.Join(s.Eq.PrimVars(), ",") + "\n")
+	w := make([]float64, len(s.U))
+	var line []byte
+	for j := 0; j < s.NY; j++ {
+		for i := 0; i < s.NX; i++ {
+			x, y := s.Center(i, j)
+			s.Primitive(i, j, w)
+			line = strconv.AppendFloat(line[:0], x, 'g', -1, 64)
+			line = append(line, ',')
+			line = strconv.AppendFloat(line, y, 'g', -1, 64)
+			for _, q := range w {
+				line = append(line, ',')
+				line = strconv.AppendFloat(line, q, 'g', -1, 64)
+			}
+			line = append(line, '\n')
+			bw.Write(line)
+		}
+	}
+	if err := bw.Flush(); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
