@@ -127,6 +127,37 @@ func TestEulerFluxStationaryContact(t *testing.T) {
 	}
 }
 
+// A contact moving with the flow (u_L = u_R = u0 != 0, p_L = p_R, jumps in
+// density and tangential velocity) is resolved exactly by the exact, HLLC
+// and Roe fluxes: the flux is the upwind physical flux (common practice;
+// Toro 2009 §10.4, §11.2). This also exercises the shear wave of Roe.
+func TestEulerFluxMovingContact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(25, 26))
+	fl := allEulerFluxes(t)
+	for range 500 {
+		g := 1.4
+		p := math.Pow(10, 4*rng.Float64()-2)
+		u0 := rng.NormFloat64()
+		l := prim{math.Pow(10, 2*rng.Float64()-1), u0, rng.NormFloat64(), p}
+		r := prim{math.Pow(10, 2*rng.Float64()-1), u0, rng.NormFloat64(), p}
+		up := l
+		if u0 < 0 {
+			up = r
+		}
+		var want [4]float64
+		want[0], want[1], want[2], want[3] = EulerPhysicalFlux(g, up.r, up.u, up.v, up.p)
+		sc := fluxScale(g, up)
+		for _, name := range []string{"exact", "hllc", "roe"} {
+			got := eval(fl[name], g, l, r)
+			for k := range 4 {
+				if math.Abs(got[k]-want[k]) > 1e-13*sc[k] {
+					t.Fatalf("%s: moving contact L=%+v R=%+v: component %d = %.17g, want %.17g", name, l, r, k, got[k], want[k])
+				}
+			}
+		}
+	}
+}
+
 // shockStates returns the state behind a right-moving shock of Mach number
 // ms (relative to the state ahead) running into ahead at speed s, from the
 // normal-shock relations (law, Toro 2009 §3.1.3).

@@ -252,7 +252,8 @@ func (s RiemannSolution) Waves() (left, right WaveKind) { return s.Left, s.Right
 
 // Sample returns the self-similar solution at xi = (x - x0)/t (Toro 2009
 // §4.5). At a discontinuity (xi equal to a shock or contact speed) it returns
-// the state on its left side.
+// the state on its left side. xi = ±Inf (t = 0) gives the initial data; xi
+// must not be NaN.
 func (s RiemannSolution) Sample(xi float64) (rho, u, p float64) {
 	if s.vacuum {
 		switch {

@@ -253,7 +253,8 @@ func TestRiemannErrors(t *testing.T) {
 
 // Random states without vacuum, spanning 8 decades of density and pressure
 // ratio and strong collisions: the solver converges (f(p*) = 0 to round-off),
-// gives finite positive star values, and never needs many iterations.
+// gives finite positive star values and samples, no NaN in the exact flux,
+// and never needs many iterations.
 func TestRiemannRandomRobustness(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 8))
 	n := 20000
@@ -287,6 +288,17 @@ func TestRiemannRandomRobustness(t *testing.T) {
 				i, g, rl, ul, pl, rr, ur, pr, r, s.Iterations)
 		}
 		maxIter = max(maxIter, s.Iterations)
+		// Sampled states are finite and positive, and so is the exact flux.
+		for _, xi := range []float64{s.LeftHead, 0.5 * (s.LeftHead + s.LeftTail), s.UStar, 0.5 * (s.UStar + s.RightTail), s.RightHead, 0} {
+			r, u, p := s.Sample(xi)
+			if !(r > 0) || !(p > 0) || math.IsNaN(u) || math.IsInf(r+u+p, 0) {
+				t.Fatalf("state %d (g=%g, %g %g %g | %g %g %g): Sample(%g) = (%g, %g, %g)", i, g, rl, ul, pl, rr, ur, pr, xi, r, u, p)
+			}
+		}
+		f0, f1, f2, f3 := EulerExact(g, rl, ul, 1, pl, rr, ur, -1, pr)
+		if f := f0 + f1 + f2 + f3; math.IsNaN(f) || math.IsInf(f, 0) {
+			t.Fatalf("state %d: exact flux (%g %g %g %g)", i, f0, f1, f2, f3)
+		}
 	}
 	if maxIter > 30 {
 		t.Errorf("up to %d Newton iterations", maxIter)
