@@ -67,21 +67,48 @@ func srgbToLab(c color.NRGBA) lab {
 	return linearToLab(linearise(float64(c.R)/255), linearise(float64(c.G)/255), linearise(float64(c.B)/255))
 }
 
-// labToSRGB converts L*a*b* to 8-bit sRGB, clipping each channel to the
-// gamut.
-func labToSRGB(c lab) color.NRGBA {
+// labToLinear converts L*a*b* to linear-light sRGB, each channel clipped
+// to [0, 1] (the gamut).
+func labToLinear(c lab) (r, g, b float64) {
 	fy := (c.L + 16) / 116
 	fx := fy + c.A/500
 	fz := fy - c.B/200
 	x, y, z := whiteX*labFInv(fx), whiteY*labFInv(fy), whiteZ*labFInv(fz)
-	r := 3.2404542*x - 1.5371385*y - 0.4985314*z
-	g := -0.9692660*x + 1.8760108*y + 0.0415560*z
-	b := 0.0556434*x - 0.2040259*y + 1.0572252*z
-	q := func(v float64) uint8 {
-		v = delinearise(math.Min(1, math.Max(0, v)))
-		return uint8(math.Round(255 * v))
+	cl := func(v float64) float64 { return math.Min(1, math.Max(0, v)) }
+	r = cl(3.2404542*x - 1.5371385*y - 0.4985314*z)
+	g = cl(-0.9692660*x + 1.8760108*y + 0.0415560*z)
+	b = cl(0.0556434*x - 0.2040259*y + 1.0572252*z)
+	return r, g, b
+}
+
+// labToSRGB converts L*a*b* to 8-bit sRGB, clipped to the gamut. Of the
+// eight colours that round each channel down or up it returns the one
+// nearest to c, with lightness errors weighted four times: plain rounding
+// can lower L* where the hue turns fast, which would put dips into a ramp
+// that is monotone before rounding.
+func labToSRGB(c lab) color.NRGBA {
+	r, g, b := labToLinear(c)
+	want := linearToLab(r, g, b)
+	ch := [3]float64{255 * delinearise(r), 255 * delinearise(g), 255 * delinearise(b)}
+	var best color.NRGBA
+	bestCost := math.Inf(1)
+	for m := range 8 {
+		var q [3]uint8
+		for k := range 3 {
+			v := math.Floor(ch[k])
+			if m&(1<<k) != 0 {
+				v = math.Ceil(ch[k])
+			}
+			q[k] = uint8(v)
+		}
+		cand := color.NRGBA{R: q[0], G: q[1], B: q[2], A: 255}
+		got := srgbToLab(cand)
+		dl, da, db := got.L-want.L, got.A-want.A, got.B-want.B
+		if cost := 5*dl*dl + da*da + db*db; cost < bestCost {
+			best, bestCost = cand, cost
+		}
 	}
-	return color.NRGBA{R: q(r), G: q(g), B: q(b), A: 255}
+	return best
 }
 
 // lightness returns the CIE L* of any colour (alpha ignored).

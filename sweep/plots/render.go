@@ -266,7 +266,12 @@ func (logTicks) Ticks(min, max float64) []plot.Tick {
 // form ("1e-4", "2.5e6") when exp is set.
 func tickLabel(v float64, exp bool) string {
 	if !exp {
-		return strconv.FormatFloat(v, 'g', 3, 64)
+		s := strconv.FormatFloat(v, 'g', 3, 64)
+		if strings.Contains(s, "e") { // 'g' writes 1000 as 1e+03
+			r, _ := strconv.ParseFloat(s, 64)
+			s = strconv.FormatFloat(r, 'f', -1, 64)
+		}
+		return s
 	}
 	s := strconv.FormatFloat(v, 'e', -1, 64) // "1e-04"
 	mant, e, _ := strings.Cut(s, "e")

@@ -121,8 +121,9 @@ func NewSequential(min, max float64) *Sequential {
 	return s
 }
 
-// colourAt returns the colour at parameter t in [0, 1] (clamped).
-func (s *Sequential) colourAt(t float64) color.NRGBA {
+// labAt returns the interpolated L*a*b* colour at parameter t in [0, 1]
+// (clamped).
+func (s *Sequential) labAt(t float64) lab {
 	t = math.Min(1, math.Max(0, t))
 	k := 1
 	for k < len(s.at)-1 && t > s.at[k] {
@@ -130,7 +131,12 @@ func (s *Sequential) colourAt(t float64) color.NRGBA {
 	}
 	w := (t - s.at[k-1]) / (s.at[k] - s.at[k-1])
 	a, b := s.pts[k-1], s.pts[k]
-	c := labToSRGB(lab{L: a.L + w*(b.L-a.L), A: a.A + w*(b.A-a.A), B: a.B + w*(b.B-a.B)})
+	return lab{L: a.L + w*(b.L-a.L), A: a.A + w*(b.A-a.A), B: a.B + w*(b.B-a.B)}
+}
+
+// colourAt returns the 8-bit colour at parameter t in [0, 1] (clamped).
+func (s *Sequential) colourAt(t float64) color.NRGBA {
+	c := labToSRGB(s.labAt(t))
 	c.A = uint8(math.Round(255 * s.alpha))
 	return c
 }
