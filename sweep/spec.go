@@ -58,8 +58,9 @@ type Spec struct {
 // Axis is one varied parameter: its name and canonical values in file order.
 type Axis struct {
 	Name   string
-	Values []string
-	Line   int // line of the key in the spec
+	Values  []string
+	Line    int    // line of the key in the spec
+	Follows string // the axis this one copies (ny follows nx), "" if the spec lists it
 }
 
 // Study is one [[study]] table: a case, fixed parameters, crossed axes,
@@ -514,7 +515,7 @@ func (sp *studyParser) follow() error {
 				"%s follows %s: %s (set %s in fixed to keep it apart)", other, lead.Name, trimParam(err, other), other)
 		}
 	}
-	sp.st.Grid = append(sp.st.Grid, Axis{Name: other, Values: append([]string(nil), lead.Values...), Line: lead.Line})
+	sp.st.Grid = append(sp.st.Grid, Axis{Name: other, Values: append([]string(nil), lead.Values...), Line: lead.Line, Follows: lead.Name})
 	return nil
 }
 

@@ -104,7 +104,7 @@ func TestParseSpecGood(t *testing.T) {
 	if len(a.Together) != 1 || a.Together[0][0].Name != "flux" || a.Together[0][1].Values[1] != "0.3" {
 		t.Errorf("together = %+v", a.Together)
 	}
-	if a.Refine != "nx" || len(a.Grid) != 2 || a.Grid[1].Name != "ny" || a.Grid[1].Values[2] != "64" {
+	if a.Refine != "nx" || len(a.Grid) != 2 || a.Grid[1].Name != "ny" || a.Grid[1].Values[2] != "64" || a.Grid[1].Follows != "nx" {
 		t.Errorf("grid = %+v (ny should follow nx)", a.Grid)
 	}
 	if a.Var != "rho" || a.Norm != "l1" {
