@@ -57,7 +57,7 @@ type Spec struct {
 
 // Axis is one varied parameter: its name and canonical values in file order.
 type Axis struct {
-	Name   string
+	Name    string
 	Values  []string
 	Line    int    // line of the key in the spec
 	Follows string // the axis this one copies (ny follows nx), "" if the spec lists it
