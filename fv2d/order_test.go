@@ -40,6 +40,8 @@ var (
 	eulerVars = []string{"rho", "mx", "my", "E"}
 )
 
+// with (solver_test.go) copies a parameter map with extra settings.
+
 const (
 	srcSmooth  = "common practice: second-order MUSCL on smooth solutions, 1.85..2.6 on the finest pair of 32..256 (CHECKS.md section 6)"
 	srcFirst   = "common practice: first-order Godunov on smooth solutions, 1 +- 0.1 (CHECKS.md section 6)"
@@ -48,19 +50,8 @@ const (
 	srcSplit   = "common practice: Lie splitting X(dt) Y(dt) is first order in time; with dt ~ h the error falls like h"
 )
 
-func withParams(kv map[string]string, more ...string) map[string]string {
-	out := map[string]string{}
-	for k, v := range kv {
-		out[k] = v
-	}
-	for i := 0; i+1 < len(more); i += 2 {
-		out[more[i]] = more[i+1]
-	}
-	return out
-}
-
 func orderStudies() []orderStudy {
-	contactFirst := withParams(contactKV, "scheme", "godunov")
+	contactFirst := with(contactKV, "scheme", "godunov")
 	return []orderStudy{
 		{"vortex muscl strang", "vortex", map[string]string{"t_end": "1"}, smoothGrids, false, eulerVars, 1.85, 2.6, srcSmooth},
 		{"euler-mms muscl", "euler-mms", map[string]string{"t_end": "0.05"}, smoothGrids, false, eulerVars, 1.85, 2.6, srcSmooth},
@@ -84,7 +75,7 @@ func runStudy(t *testing.T, s orderStudy) map[string][]float64 {
 	t.Helper()
 	errs := map[string][]float64{}
 	for _, n := range s.ns {
-		kv := withParams(s.kv, "nx", strconv.Itoa(n), "ny", strconv.Itoa(n))
+		kv := with(s.kv, "nx", strconv.Itoa(n), "ny", strconv.Itoa(n))
 		if s.oneD {
 			kv["ny"] = "1"
 		}
