@@ -131,6 +131,11 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		ev := h * (u1 * dv)
 		ep := h * (g*p1*du + u1*dp)
 		lr, lu, lv, lp := r1-0.5*dr-er, u1-0.5*du-eu, v1-0.5*dv-ev, p1-0.5*dp-ep
+		rr, ru, rv, rp := r1+0.5*dr-er, u1+0.5*du-eu, v1+0.5*dv-ev, p1+0.5*dp-ep
+		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
+			lr, lu, lv, lp = r1, u1, v1, p1
+			rr, ru, rv, rp = r1, u1, v1, p1
+		}
 		if i >= 2 { // face i-1/2
 			f0, f1, f2, f3 := flux(g, xr, xu, xv, xp, lr, lu, lv, lp)
 			if i >= 3 { // both faces of cell i-1 known
@@ -138,7 +143,7 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 			}
 			q0, q1, q2, q3 = f0, f1, f2, f3
 		}
-		xr, xu, xv, xp = r1+0.5*dr-er, u1+0.5*du-eu, v1+0.5*dv-ev, p1+0.5*dp-ep
+		xr, xu, xv, xp = rr, ru, rv, rp
 		r0, u0, v0, p0 = r1, u1, v1, p1
 		r1, u1, v1, p1 = r2, u2, v2, p2
 	}
@@ -147,7 +152,10 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 
 // eulerMUSCLCons is the MUSCL-Hancock scheme in conserved variables (Toro
 // 2009 §14.4.1): limited slopes of U, face values U -+ dU/2 evolved by
-// -dt/(2dx) (F(U_R) - F(U_L)), converted to primitive for the numerical flux.
+// -dt/(2dx) (F(U_R) - F(U_L)), converted to primitive for the numerical flux;
+// with the same first-order fallback as eulerMUSCLPrim. Limiting conserved
+// variables is less robust than limiting primitive ones: near strong
+// rarefactions the face pressure E - |m|^2/(2 rho) can lose positivity.
 func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m := len(rho)
 	mn, mt, en = mn[:m], mt[:m], en[:m]
@@ -170,8 +178,15 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		fb0, fb1, fb2, fb3 := EulerPhysicalFlux(g, b0, bu, bv, bp)
 		e0, e1, e2, e3 := h*(fb0-fa0), h*(fb1-fa1), h*(fb2-fa2), h*(fb3-fa3)
 		a0, a1, a2, a3 = a0-e0, a1-e1, a2-e2, a3-e3
-		lr := a0
+		b0, b1, b2, b3 = b0-e0, b1-e1, b2-e2, b3-e3
+		lr, rr := a0, b0
 		lu, lv, lp := cellEuler(gm1, a0, a1, a2, a3)
+		ru, rv, rp := cellEuler(gm1, b0, b1, b2, b3)
+		if !(au == au && bu == bu && lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
+			lr, rr = rho[i], rho[i]
+			lu, lv, lp = cellEuler(gm1, rho[i], mn[i], mt[i], en[i])
+			ru, rv, rp = lu, lv, lp
+		}
 		if i >= 2 {
 			f0, f1, f2, f3 := flux(g, xr, xu, xv, xp, lr, lu, lv, lp)
 			if i >= 3 {
@@ -179,9 +194,7 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 			}
 			q0, q1, q2, q3 = f0, f1, f2, f3
 		}
-		b0, b1, b2, b3 = b0-e0, b1-e1, b2-e2, b3-e3
-		xr = b0
-		xu, xv, xp = cellEuler(gm1, b0, b1, b2, b3)
+		xr, xu, xv, xp = rr, ru, rv, rp
 	}
 	return res
 }
