@@ -17,12 +17,13 @@ func (c Cost) Work() float64 { return float64(c.Cells) * c.Steps }
 const estimateSamples = 64
 
 // Estimate returns the cost of the run v without running it. It sets up the
-// case's problem, samples the initial state at up to 64 x 64 points to
-// find the largest wave speeds smax_x = max(|u|+a), smax_y = max(|v|+a)
-// (Burgers: |u|), and counts steps = ceil(t_end / dt) with the CFL step
-// dt = cfl / max(smax_x/dx, smax_y/dy) of the solver. The wave speeds of
-// the initial state are a guess: shocks and fans change them as the run
-// goes (typically by tens of percent). Bytes counts the state (with ghost
+// case's problem, samples the initial state (and, where the case has one,
+// the exact solution at t_end) at up to 64 x 64 points to find the largest
+// wave speeds smax_x = max(|u|+a), smax_y = max(|v|+a) (Burgers: |u|), and
+// counts steps = ceil(t_end / dt) with the CFL step
+// dt = cfl / max(smax_x/dx, smax_y/dy) of the solver. Without an exact
+// solution the initial speeds are a guess: shocks and fans change them as
+// the run goes (by tens of percent in a 2-D Riemann problem). Bytes counts the state (with ghost
 // layers), the y-sweep scratch of every thread and, when the case has an
 // exact solution, the exact cell averages. A run that cannot be set up
 // costs its cell count and zero steps.
@@ -52,7 +53,12 @@ func Estimate(v Values) Cost {
 		tEnd = p.TEnd
 	}
 	dx, dy := (p.X1-p.X0)/float64(nx), (p.Y1-p.Y0)/float64(ny)
-	sx, sy := sampleSpeeds(p, min(nx, estimateSamples), min(ny, estimateSamples))
+	mx, my := min(nx, estimateSamples), min(ny, estimateSamples)
+	sx, sy := sampleSpeeds(p, p.Initial, mx, my)
+	if p.Exact != nil && tEnd > 0 { // waves that the initial data do not show yet (shock tubes)
+		ex, ey := sampleSpeeds(p, func(x, y float64, w []float64) { p.Exact(x, y, tEnd, w) }, mx, my)
+		sx, sy = math.Max(sx, ex), math.Max(sy, ey)
+	}
 	rate := math.Max(sx/dx, sy/dy) / v.Float("cfl") // 1/dt
 	if tEnd > 0 {
 		cost.Steps = math.Max(1, math.Ceil(tEnd*rate))
@@ -60,15 +66,15 @@ func Estimate(v Values) Cost {
 	return cost
 }
 
-// sampleSpeeds returns the largest wave speeds in x and y of the initial
-// state of p sampled at the centres of an mx x my grid.
-func sampleSpeeds(p *Problem, mx, my int) (sx, sy float64) {
+// sampleSpeeds returns the largest wave speeds in x and y of the primitive
+// field f on the domain of p, sampled at the centres of an mx x my grid.
+func sampleSpeeds(p *Problem, f func(x, y float64, w []float64), mx, my int) (sx, sy float64) {
 	w := make([]float64, len(p.Eq.PrimVars()))
 	for j := 0; j < my; j++ {
 		y := p.Y0 + (float64(j)+0.5)*(p.Y1-p.Y0)/float64(my)
 		for i := 0; i < mx; i++ {
 			x := p.X0 + (float64(i)+0.5)*(p.X1-p.X0)/float64(mx)
-			p.Initial(x, y, w)
+			f(x, y, w)
 			if p.Eq == Burgers {
 				sx = math.Max(sx, math.Abs(w[0]))
 				continue

@@ -290,7 +290,9 @@ func TestRandomRiemannPositivity(t *testing.T) {
 		n = 300
 	}
 	rng := rand.New(rand.NewPCG(2, 9))
-	logU := func(lo, hi float64) float64 { return math.Exp(math.Log(lo) + rng.Float64()*(math.Log(hi)-math.Log(lo))) }
+	logU := func(lo, hi float64) float64 {
+		return math.Exp(math.Log(lo) + rng.Float64()*(math.Log(hi)-math.Log(lo)))
+	}
 	for i := 0; i < n; i++ {
 		rl, rr := logU(1e-3, 1e3), logU(1e-3, 1e3)
 		pl, pr := logU(1e-3, 1e3), logU(1e-3, 1e3)
