@@ -11,6 +11,8 @@ import (
 	"testing"
 	"time"
 
+	bolt "go.etcd.io/bbolt"
+
 	"fvsweep/sweep"
 )
 
@@ -37,8 +39,8 @@ func crashJobs(k int) []sweep.Job {
 
 // TestCrashChild is the child of TestKillWhileWriting; without crashEnv it
 // does nothing. It continues from what the store holds and, batch after
-// batch, adds crashBatch jobs in one transaction and their outcomes in a
-// second, printing the batch number after both commit, until it is killed.
+// batch, adds crashBatch jobs (every other batch through the staged path of
+// PutSweep, in several transactions) and then their outcomes, printing the batch number after both commit, until it is killed.
 func TestCrashChild(t *testing.T) {
 	path := os.Getenv(crashEnv)
 	if path == "" {
@@ -53,6 +55,10 @@ func TestCrashChild(t *testing.T) {
 		k = c.Done / crashBatch // a batch killed between its two commits is redone
 	}
 	for ; ; k++ {
+		putChunk = 10_000
+		if k%2 == 0 {
+			putChunk = 40 // the staged path (100 new jobs > 40) of PutSweep
+		}
 		jobs := crashJobs(k)
 		if _, _, err := db.PutSweep(SweepRecord{Name: "crash", Spec: fmt.Sprint("batch ", k)}, jobs); err != nil {
 			t.Fatal(err)
@@ -107,6 +113,7 @@ func TestKillWhileWriting(t *testing.T) {
 			t.Fatalf("round %d: child reported no batch", round)
 		}
 
+		staged := stagingLeft(t, path)
 		db, err := Open(path, Options{})
 		if err != nil {
 			t.Fatalf("round %d: reopen after kill: %v", round, err)
@@ -128,7 +135,7 @@ func TestKillWhileWriting(t *testing.T) {
 		}
 		db.Close()
 		committed := (last + 1) * crashBatch
-		t.Logf("round %d: child reported batch %d; store holds %d jobs, %d results", round, last, len(jobs), tally.Done)
+		t.Logf("round %d: child reported batch %d; store holds %d jobs, %d results; killed while staging: %v", round, last, len(jobs), tally.Done, staged)
 		switch {
 		case rec.Jobs != len(jobs) || tally.Jobs != len(jobs):
 			t.Fatalf("round %d: sweep record counts %d jobs, bucket holds %d", round, rec.Jobs, len(jobs))
@@ -143,4 +150,19 @@ func TestKillWhileWriting(t *testing.T) {
 		}
 		prevJobs = len(jobs)
 	}
+}
+
+// stagingLeft reports whether the store at path holds a staging bucket, the
+// trace of a PutSweep killed half-way.
+func stagingLeft(t *testing.T, path string) bool {
+	b, err := bolt.Open(path, 0, &bolt.Options{ReadOnly: true, Timeout: time.Second})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer b.Close()
+	left := false
+	b.View(func(tx *bolt.Tx) error {
+		return tx.Bucket(bucketStaging).ForEachBucket(func([]byte) error { left = true; return nil })
+	})
+	return left
 }

@@ -5,10 +5,11 @@
 //
 // Top-level buckets, all keys and values are bytes:
 //
-//	meta              "schema_version" -> decimal ASCII, "1"
-//	sweeps            sweep name -> JSON SweepRecord
-//	jobs/<sweep name> job ID -> JSON sweep.Job (one nested bucket per sweep)
-//	results           job ID -> JSON sweep.Outcome
+//	meta                 "schema_version" -> decimal ASCII, "1"
+//	sweeps               sweep name -> JSON SweepRecord
+//	jobs/<sweep name>    job ID -> JSON sweep.Job (one nested bucket per sweep)
+//	results              job ID -> JSON sweep.Outcome
+//	staging/<sweep name> job ID -> JSON sweep.Job, only during a large PutSweep
 //
 // Job IDs are sweep.JobID values (32 hex digits). Results are keyed by job ID
 // alone, so a job that belongs to two sweeps has one result.
@@ -37,7 +38,14 @@
 // # Transactions and locking
 //
 // Every exported write is one bbolt transaction, committed with fsync: a
-// crash leaves either all of a batch or none of it. bbolt takes an flock on
+// crash leaves either all of a batch or none of it. The exception is a
+// PutSweep adding more than 10,000 jobs: it writes them (merged with the
+// sweep's stored jobs) into staging/<sweep name> 10,000 per transaction, and
+// one last transaction swaps that bucket in for jobs/<sweep name> and writes
+// the record, so memory stays bounded and readers still see all or nothing.
+// A crash before the swap leaves only the staging bucket, which the next
+// read-write Open deletes. A write that changes nothing (a batch of duplicate
+// outcomes) is rolled back rather than committed. bbolt takes an flock on
 // the file: exclusive for a read-write Open, shared for a read-only one. So a
 // second coordinator on the same file, and a read-only reader (status, table,
 // export) while a coordinator holds it, get an error wrapping ErrInUse after

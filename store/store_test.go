@@ -619,3 +619,88 @@ func txID(t *testing.T, db *DB) int {
 	}
 	return id
 }
+
+// TestPutSweepStaged runs the large-sweep path of PutSweep with a small
+// chunk: new sweep, growth of an existing one, staging cleaned up.
+func TestPutSweepStaged(t *testing.T) {
+	defer func(n int) { putChunk = n }(putChunk)
+	putChunk = 7
+	path := filepath.Join(t.TempDir(), "staged.db")
+	db, err := Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	all := benchJobs("big", 90)
+	first := all[:50]
+	added, stored, err := db.PutSweep(SweepRecord{Name: "big", Spec: "v1"}, first)
+	if err != nil || added != 50 || stored != 0 {
+		t.Fatalf("new sweep: added %d stored %d %v", added, stored, err)
+	}
+	if _, err := db.PutOutcomes([]sweep.Outcome{testOutcome(first[3], StatusDone)}); err != nil {
+		t.Fatal(err)
+	}
+	// Grow it: 40 new jobs among 20 old ones (one with an edited cost, which
+	// must not replace the stored job), given in reverse order with repeats.
+	edited := first[10]
+	edited.Cost = 1
+	var more []sweep.Job
+	more = append(more, all[50:]...)
+	more = append(more, first[:20]...)
+	more = append(more, edited, all[60], first[3])
+	slices.Reverse(more)
+	added, stored, err = db.PutSweep(SweepRecord{Name: "big", Spec: "v2"}, more)
+	if err != nil || added != 40 || stored != 1 {
+		t.Fatalf("grown sweep: added %d stored %d %v", added, stored, err)
+	}
+	rec, _ := db.Sweep("big")
+	jobs, err := db.Jobs("big")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.Jobs != 90 || len(jobs) != 90 || rec.Spec != "v2" {
+		t.Fatalf("record %+v, %d jobs; want 90", rec, len(jobs))
+	}
+	if j, _ := db.Job("big", edited.ID); j.Cost != first[10].Cost {
+		t.Fatalf("a resubmitted job replaced the stored one: cost %v", j.Cost)
+	}
+	for _, j := range all {
+		if g, err := db.Job("big", j.ID); err != nil || !reflect.DeepEqual(g, j) {
+			t.Fatalf("job %s: %+v %v", j.ID, g, err)
+		}
+	}
+	// An invalid job anywhere: nothing changes.
+	bad := append(slices.Clone(benchJobs("big", 120)), sweep.Job{ID: "x"})
+	if _, _, err := db.PutSweep(SweepRecord{Name: "big", Spec: "v3"}, bad); err == nil || !strings.Contains(err.Error(), "job 120") {
+		t.Fatalf("bad large PutSweep: %v", err)
+	}
+	if rec, _ := db.Sweep("big"); rec.Jobs != 90 || rec.Spec != "v2" {
+		t.Fatalf("bad large PutSweep changed the record: %+v", rec)
+	}
+	if err := db.Verify(); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+
+	// A PutSweep killed half-way leaves a staging bucket: Open drops it.
+	writeRaw(t, path, func(tx *bolt.Tx) error {
+		b, err := tx.Bucket(bucketStaging).CreateBucket([]byte("big"))
+		if err != nil {
+			return err
+		}
+		return b.Put([]byte("k"), []byte("half"))
+	})
+	db, err = Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	db.bolt.View(func(tx *bolt.Tx) error {
+		if tx.Bucket(bucketStaging).Bucket([]byte("big")) != nil {
+			t.Error("Open left a staging bucket")
+		}
+		return nil
+	})
+	if jobs, _ := db.Jobs("big"); len(jobs) != 90 {
+		t.Fatalf("%d jobs after reopen", len(jobs))
+	}
+}

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"slices"
@@ -23,6 +24,12 @@ type SweepRecord struct {
 	Jobs     int       `json:"jobs"` // number of jobs in the sweep
 }
 
+// putChunk is the most jobs one write transaction of PutSweep adds. A bbolt
+// transaction holds every value it writes, and at commit a page buffer for
+// each dirty page, on the heap: about 1 KiB per job, so 100 MiB for a
+// 100,000-job sweep in one transaction.
+var putChunk = 10_000
+
 // PutSweep creates the sweep named rec.Name, or updates its SpecFile, Spec
 // and Updated, and adds the jobs not already in it (by Job.ID); a job already
 // in the sweep is left as stored. Created (now when zero) and Canceled are
@@ -30,84 +37,244 @@ type SweepRecord struct {
 // job's Sweep must be rec.Name or empty (it is stored as rec.Name).
 //
 // It returns how many jobs were new to the sweep and how many of the given
-// jobs (distinct IDs) already have a stored outcome, done or failed. On any
-// invalid job nothing is written.
+// jobs (distinct IDs) already have a stored outcome, done or failed.
+//
+// The change is atomic: on an invalid job or any error nothing is written,
+// and readers see the sweep before or after, never between. Up to putChunk
+// new jobs go in one transaction; more are first written, putChunk per
+// transaction, into a staging bucket that the last transaction moves into
+// place, so memory stays bounded for any size of sweep.
 func (db *DB) PutSweep(rec SweepRecord, jobs []sweep.Job) (added, stored int, err error) {
-	if err := checkKey("sweep name", rec.Name); err != nil {
-		return 0, 0, fmt.Errorf("store: %w", err)
-	}
-	now := time.Now().UTC()
-	// Insert in key order: bbolt fills pages sequentially and touches each
-	// leaf once.
-	order := make([]int, len(jobs))
-	for i := range order {
-		order[i] = i
-	}
-	slices.SortStableFunc(order, func(a, b int) int { return strings.Compare(jobs[a].ID, jobs[b].ID) })
-
-	err = db.bolt.Update(func(tx *bolt.Tx) error {
-		added, stored = 0, 0
-		name := []byte(rec.Name)
-		sweeps := tx.Bucket(bucketSweeps)
-		cur := rec
-		if cur.Created.IsZero() {
-			cur.Created = now
-		}
-		cur.Jobs = 0
-		if v := sweeps.Get(name); v != nil {
-			old, err := DecodeSweep(v)
-			if err != nil {
-				return err
-			}
-			cur.Created, cur.Canceled, cur.Jobs = old.Created, old.Canceled, old.Jobs
-		}
-		cur.Updated = rec.Updated
-		if cur.Updated.IsZero() {
-			cur.Updated = now
-		}
-		jb, err := tx.Bucket(bucketJobs).CreateBucketIfNotExists(name)
+	defer func() {
 		if err != nil {
-			return err
+			added, stored, err = 0, 0, fmt.Errorf("store: sweep %q: %w", rec.Name, err)
 		}
+	}()
+	if err := checkKey("sweep name", rec.Name); err != nil {
+		return 0, 0, err
+	}
+	uniq, err := uniqueJobs(rec.Name, jobs)
+	if err != nil {
+		return 0, 0, err
+	}
+	db.putMu.Lock()
+	defer db.putMu.Unlock()
+
+	fresh := 0
+	err = db.bolt.View(func(tx *bolt.Tx) error {
+		jb := tx.Bucket(bucketJobs).Bucket([]byte(rec.Name))
 		results := tx.Bucket(bucketResults)
-		prev := ""
-		for _, i := range order {
-			j := jobs[i]
-			if err := checkJob(j, rec.Name); err != nil {
-				return fmt.Errorf("job %d: %w", i, err)
-			}
-			if j.ID == prev {
-				continue
-			}
-			prev = j.ID
+		for _, j := range uniq {
 			key := []byte(j.ID)
 			if results.Get(key) != nil {
 				stored++
 			}
+			if jb == nil || jb.Get(key) == nil {
+				fresh++
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return 0, 0, err
+	}
+	if fresh > putChunk {
+		added, err = db.putStaged(rec, uniq)
+		return added, stored, err
+	}
+	err = db.bolt.Update(func(tx *bolt.Tx) error {
+		added = 0
+		cur, err := nextRecord(tx, rec)
+		if err != nil {
+			return err
+		}
+		jb, err := jobBucket(tx, rec.Name)
+		if err != nil {
+			return err
+		}
+		for _, j := range uniq {
+			key := []byte(j.ID)
 			if jb.Get(key) != nil {
 				continue
 			}
-			j.Sweep = rec.Name
-			data, err := json.Marshal(j)
-			if err != nil {
-				return fmt.Errorf("job %s: %w", j.ID, err)
-			}
-			if err := jb.Put(key, data); err != nil {
-				return fmt.Errorf("job %s: %w", j.ID, err)
+			if err := putJob(jb, j); err != nil {
+				return err
 			}
 			added++
 		}
 		cur.Jobs += added
-		data, err := json.Marshal(cur)
+		return putRecord(tx, cur)
+	})
+	return added, stored, err
+}
+
+// uniqueJobs checks every job and returns them sorted by ID without repeats,
+// each with Sweep set to name: the order in which bbolt fills pages best.
+func uniqueJobs(name string, jobs []sweep.Job) ([]sweep.Job, error) {
+	for i, j := range jobs {
+		if err := checkJob(j, name); err != nil {
+			return nil, fmt.Errorf("job %d: %w", i, err)
+		}
+	}
+	uniq := slices.Clone(jobs)
+	slices.SortStableFunc(uniq, func(a, b sweep.Job) int { return strings.Compare(a.ID, b.ID) })
+	uniq = slices.CompactFunc(uniq, func(a, b sweep.Job) bool { return a.ID == b.ID })
+	for i := range uniq {
+		uniq[i].Sweep = name
+	}
+	return uniq, nil
+}
+
+// nextRecord is the sweep record PutSweep writes: rec over the stored one,
+// keeping its Created, Canceled and Jobs.
+func nextRecord(tx *bolt.Tx, rec SweepRecord) (SweepRecord, error) {
+	now := time.Now().UTC()
+	cur := rec
+	if cur.Created.IsZero() {
+		cur.Created = now
+	}
+	cur.Jobs = 0
+	if v := tx.Bucket(bucketSweeps).Get([]byte(rec.Name)); v != nil {
+		old, err := DecodeSweep(v)
+		if err != nil {
+			return SweepRecord{}, err
+		}
+		cur.Created, cur.Canceled, cur.Jobs = old.Created, old.Canceled, old.Jobs
+	}
+	if cur.Updated.IsZero() {
+		cur.Updated = now
+	}
+	return cur, nil
+}
+
+func putRecord(tx *bolt.Tx, r SweepRecord) error {
+	data, err := json.Marshal(r)
+	if err != nil {
+		return err
+	}
+	return tx.Bucket(bucketSweeps).Put([]byte(r.Name), data)
+}
+
+// jobBucket returns the sweep's job bucket, creating it (filled densely: its
+// first jobs arrive in key order) when there is none.
+func jobBucket(tx *bolt.Tx, name string) (*bolt.Bucket, error) {
+	root := tx.Bucket(bucketJobs)
+	if b := root.Bucket([]byte(name)); b != nil {
+		return b, nil
+	}
+	b, err := root.CreateBucket([]byte(name))
+	if err != nil {
+		return nil, err
+	}
+	b.FillPercent = 1
+	return b, nil
+}
+
+func putJob(b *bolt.Bucket, j sweep.Job) error {
+	data, err := json.Marshal(j)
+	if err != nil {
+		return fmt.Errorf("job %s: %w", j.ID, err)
+	}
+	if err := b.Put([]byte(j.ID), data); err != nil {
+		return fmt.Errorf("job %s: %w", j.ID, err)
+	}
+	return nil
+}
+
+// putStaged is PutSweep for more than putChunk new jobs. It merges the
+// stored jobs of the sweep (a cursor over its bucket) with uniq (sorted by
+// ID) into staging/<name>, putChunk records per transaction, then in one last
+// transaction replaces jobs/<name> with the staged bucket and writes the
+// record. A crash before that leaves only the staging bucket, which the next
+// read-write Open deletes.
+func (db *DB) putStaged(rec SweepRecord, uniq []sweep.Job) (added int, err error) {
+	name := []byte(rec.Name)
+	err = db.bolt.Update(func(tx *bolt.Tx) error {
+		st := tx.Bucket(bucketStaging)
+		if st.Bucket(name) != nil {
+			if err := st.DeleteBucket(name); err != nil {
+				return err
+			}
+		}
+		_, err := st.CreateBucket(name)
+		return err
+	})
+	if err != nil {
+		return 0, err
+	}
+	defer func() {
+		if err != nil {
+			db.bolt.Update(func(tx *bolt.Tx) error { return tx.Bucket(bucketStaging).DeleteBucket(name) })
+		}
+	}()
+
+	var last []byte // the last key staged
+	next, total, done := 0, 0, false
+	for !done {
+		err = db.bolt.Update(func(tx *bolt.Tx) error {
+			sb := tx.Bucket(bucketStaging).Bucket(name)
+			sb.FillPercent = 1
+			var k, v []byte
+			var c *bolt.Cursor
+			if old := tx.Bucket(bucketJobs).Bucket(name); old != nil {
+				c = old.Cursor()
+				if last == nil {
+					k, v = c.First()
+				} else if k, v = c.Seek(last); bytes.Equal(k, last) {
+					k, v = c.Next()
+				}
+			}
+			for n := 0; n < putChunk; n++ {
+				switch {
+				case k == nil && next == len(uniq):
+					done = true
+					return nil
+				case k != nil && (next == len(uniq) || bytes.Compare(k, []byte(uniq[next].ID)) <= 0):
+					if next < len(uniq) && string(k) == uniq[next].ID {
+						next++ // already in the sweep
+					}
+					if err := sb.Put(bytes.Clone(k), bytes.Clone(v)); err != nil {
+						return err
+					}
+					last = bytes.Clone(k)
+					k, v = c.Next()
+				default:
+					if err := putJob(sb, uniq[next]); err != nil {
+						return err
+					}
+					last = []byte(uniq[next].ID)
+					next++
+					added++
+				}
+				total++
+			}
+			return nil
+		})
+		if err != nil {
+			return 0, err
+		}
+	}
+	err = db.bolt.Update(func(tx *bolt.Tx) error {
+		cur, err := nextRecord(tx, rec)
 		if err != nil {
 			return err
 		}
-		return sweeps.Put(name, data)
+		cur.Jobs = total
+		root := tx.Bucket(bucketJobs)
+		if root.Bucket(name) != nil {
+			if err := root.DeleteBucket(name); err != nil {
+				return err
+			}
+		}
+		if err := tx.MoveBucket(name, tx.Bucket(bucketStaging), root); err != nil {
+			return err
+		}
+		return putRecord(tx, cur)
 	})
 	if err != nil {
-		return 0, 0, fmt.Errorf("store: sweep %q: %w", rec.Name, err)
+		return 0, err
 	}
-	return added, stored, nil
+	return added, nil
 }
 
 // Sweep returns the record of the sweep named name; the error wraps
@@ -159,11 +326,7 @@ func (db *DB) SetCanceled(name string, canceled bool) error {
 		}
 		r.Canceled = canceled
 		r.Updated = time.Now().UTC()
-		data, err := json.Marshal(r)
-		if err != nil {
-			return err
-		}
-		return tx.Bucket(bucketSweeps).Put([]byte(name), data)
+		return putRecord(tx, r)
 	})
 }
 
