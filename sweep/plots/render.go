@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -159,6 +160,7 @@ func (f *Figure) plot() (*plot.Plot, error) {
 		p.Y.Scale, p.Y.Tick.Marker = plot.LogScale{}, logTicks{}
 	}
 	p.Add(plotter.NewGrid())
+	setRanges(f, p)
 	for _, r := range f.Refs {
 		l, err := plotter.NewLine(plotter.XYs{{X: r.From.X, Y: r.From.Y}, {X: r.To.X, Y: r.To.Y}})
 		if err != nil {
@@ -199,6 +201,48 @@ func (f *Figure) plot() (*plot.Plot, error) {
 	return p, nil
 }
 
+// logMargin is the factor by which a log axis extends past its data, so
+// that markers do not sit on the frame.
+const logMargin = 1.15
+
+// setRanges fixes the axis ranges from the data and reference lines: on a
+// log axis a margin of logMargin either side; an axis whose data all share
+// one value gets a range around it (a factor 2 either way on a log axis,
+// ±1 % or ±1 otherwise), since gonum cannot scale an empty range.
+func setRanges(f *Figure, p *plot.Plot) {
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	add := func(q XY) {
+		xmin, xmax = math.Min(xmin, q.X), math.Max(xmax, q.X)
+		ymin, ymax = math.Min(ymin, q.Y), math.Max(ymax, q.Y)
+	}
+	for _, l := range f.Lines {
+		for _, q := range l.Points {
+			add(q)
+		}
+	}
+	for _, r := range f.Refs {
+		add(r.From)
+		add(r.To)
+	}
+	set := func(a *plot.Axis, lo, hi float64, log bool) {
+		switch {
+		case log && lo == hi:
+			a.Min, a.Max = lo/2, hi*2
+		case log:
+			a.Min, a.Max = lo/logMargin, hi*logMargin
+		case lo != hi:
+			// gonum's own range, padded for the markers
+		case lo == 0:
+			a.Min, a.Max = -1, 1
+		default:
+			d := 0.01 * math.Abs(lo)
+			a.Min, a.Max = lo-d, hi+d
+		}
+	}
+	set(&p.X, xmin, xmax, f.LogX)
+	set(&p.Y, ymin, ymax, f.LogY)
+}
+
 // refLabel draws a reference line's label along the line, just below it,
 // at the end the prepared figure chose. The angle on screen is known only
 // at drawing time, so it is a plotter of its own.
@@ -226,17 +270,31 @@ func (l refLabel) Plot(c draw.Canvas, plt *plot.Plot) {
 }
 
 // logTicks labels a log axis at 1, 2 and 5 times the powers of ten when
-// the range spans fewer than three decades and at the powers of ten
-// otherwise, with minor ticks at every integer multiple. Labels are plain
-// decimals, or all in exponent form ("2e-4") when one of them would be
-// smaller than 1e-3 or at least 1e4.
+// the range spans fewer than three decades (at every integer multiple when
+// that gives fewer than three labels) and at the powers of ten otherwise,
+// with minor ticks at every integer multiple. Labels are plain decimals,
+// or all in exponent form ("2e-4") when one of them would be smaller than
+// 1e-3 or at least 1e4.
 type logTicks struct{}
 
 func (logTicks) Ticks(min, max float64) []plot.Tick {
 	if !(min > 0) || !(max > min) {
 		return nil
 	}
-	dense := math.Log10(max/min) < 3
+	levels := []int{1}
+	if math.Log10(max/min) < 3 {
+		levels = []int{1, 2, 5}
+	}
+	ticks := logTickSet(min, max, levels)
+	if len(levels) > 1 && labelled(ticks) < 3 {
+		ticks = logTickSet(min, max, []int{1, 2, 3, 4, 5, 6, 7, 8, 9})
+	}
+	return ticks
+}
+
+// logTickSet returns a tick at every integer multiple of the powers of ten
+// in [min, max], labelled where the multiple is one of levels.
+func logTickSet(min, max float64, levels []int) []plot.Tick {
 	var ticks []plot.Tick
 	exp := false
 	for e := math.Floor(math.Log10(min)); e <= math.Ceil(math.Log10(max)); e++ {
@@ -247,7 +305,7 @@ func (logTicks) Ticks(min, max float64) []plot.Tick {
 				continue
 			}
 			t := plot.Tick{Value: v}
-			if m == 1 || (dense && (m == 2 || m == 5)) {
+			if slices.Contains(levels, m) {
 				t.Label = "label"
 				exp = exp || v < 1e-3*(1-1e-9) || v >= 1e4
 			}
@@ -260,6 +318,16 @@ func (logTicks) Ticks(min, max float64) []plot.Tick {
 		}
 	}
 	return ticks
+}
+
+func labelled(ticks []plot.Tick) int {
+	n := 0
+	for _, t := range ticks {
+		if t.Label != "" {
+			n++
+		}
+	}
+	return n
 }
 
 // tickLabel prints v with at most three significant digits, in exponent

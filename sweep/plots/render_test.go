@@ -111,6 +111,25 @@ func TestSaveAllKinds(t *testing.T) {
 	}
 }
 
+// One point, or a flat line, still draws: the degenerate range is widened.
+func TestDrawDegenerate(t *testing.T) {
+	one, err := Convergence([]Series{{Label: "a", X: []float64{0.1}, Y: []float64{0.01}}}, Axes{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	flat, err := Cut(Field{Name: "u", NX: 4, NY: 1, X0: 0, X1: 1, Y0: 0, Y1: 1, V: []float64{0, 0, 0, 0}}, CutOptions{Axis: "x", At: math.NaN()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, d := range []Drawer{one, flat} {
+		var buf bytes.Buffer
+		if err := Write(&buf, "svg", d); err != nil {
+			t.Fatal(err)
+		}
+		wellFormed(t, buf.Bytes())
+	}
+}
+
 func TestSaveBadFormat(t *testing.T) {
 	f, _ := Cost(sampleGroups(), Axes{})
 	p := filepath.Join(t.TempDir(), "x.gif")
@@ -142,6 +161,7 @@ func TestLogTicks(t *testing.T) {
 		{0.03, 0.35, "0.05 0.1 0.2"},                                // under three decades: 1-2-5
 		{2e-5, 0.1, "1e-4 1e-3 1e-2 1e-1"},                          // more: decades, exponent form for all
 		{3e-4, 0.2, "5e-4 1e-3 2e-3 5e-3 1e-2 2e-2 5e-2 1e-1 2e-1"}, // one label below 1e-3: all in exponent form
+		{0.15, 0.65, "0.2 0.3 0.4 0.5 0.6"},                         // 1-2-5 gives two labels: every multiple
 		{1, 1000, "1 10 100 1000"},                                  // three decades: powers of ten
 	} {
 		if got := strings.Join(labels(tc.min, tc.max), " "); got != tc.want {

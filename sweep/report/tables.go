@@ -1,0 +1,299 @@
+// Package report gathers the results of a sweep into convergence tables,
+// per study and per parameter group, and writes them with their plots, the
+// spec, the failures and the machine into one self-contained HTML file.
+//
+// The table model (Study, Group, GridRow, Failure) is plain data with JSON
+// tags, built by Build from jobs and outcomes alone, so that a live status
+// page can build it from a running sweep and render it with WriteTables.
+package report
+
+import (
+	"fmt"
+	"maps"
+	"math"
+	"slices"
+	"sort"
+	"strconv"
+	"strings"
+
+	"fvsweep/fv2d"
+	"fvsweep/sweep"
+)
+
+// GridRow is one grid of a convergence table.
+type GridRow struct {
+	JobID  string  `json:"job_id"`
+	NX     int     `json:"nx"`
+	NY     int     `json:"ny"`
+	H      float64 `json:"h"`      // (X1 - X0) / nx
+	Status string  `json:"status"` // done | failed | pending
+	// Err is the chosen norm of the chosen variable, NaN when there is none
+	// (not done yet, failed, or the case has no exact solution).
+	Err float64 `json:"err"`
+	// Order is the observed order between this grid and the next coarser
+	// one, NaN on the coarsest grid or where either error is missing.
+	Order float64 `json:"order"`
+	WallS float64 `json:"wall_s"`
+	CPUS  float64 `json:"cpu_s"` // wall seconds x threads
+}
+
+// Group is one convergence table: the runs of a study that differ only in
+// their grid.
+type Group struct {
+	Label   string             `json:"label"`  // the parameters that vary between groups of the study, "k=v ..."
+	Ident   string             `json:"ident"`  // sweep.Job.Group: every parameter but the grid
+	Params  map[string]string  `json:"params"` // parameters of the coarsest grid's job
+	Rows    []GridRow          `json:"rows"`   // coarsest grid first
+	Fitted  bool               `json:"fitted"`
+	Fit     sweep.Fit          `json:"fit"`
+	Verdict sweep.OrderVerdict `json:"verdict"`
+}
+
+// Study is the convergence tables of one [[study]] of a spec.
+type Study struct {
+	Index   int     `json:"index"` // 1-based
+	Label   string  `json:"label"`
+	Case    string  `json:"case"`
+	Var     string  `json:"var"`
+	Norm    string  `json:"norm"`
+	Design  float64 `json:"design_order"` // 0: from each group's scheme
+	Tol     float64 `json:"order_tol"`
+	Groups  []Group `json:"groups"`
+	Done    int     `json:"done"`
+	Failed  int     `json:"failed"`
+	Pending int     `json:"pending"`
+}
+
+// Failure is a job recorded as failed, with its reason.
+type Failure struct {
+	JobID    string `json:"job_id"`
+	Study    int    `json:"study"`
+	Params   string `json:"params"` // canonical "k=v ..." of the job
+	Attempts int    `json:"attempts"`
+	Worker   string `json:"worker"`
+	Reason   string `json:"error"`
+}
+
+// Options choose what the tables judge. Empty fields take the study's
+// setting from the spec, and without a spec the first conserved variable of
+// the case, the L1 norm, the design order of the scheme and
+// sweep.DefaultOrderTol.
+type Options struct {
+	Var, Norm string
+}
+
+// Norms are the names Options.Norm accepts.
+var Norms = []string{"l1", "l2", "linf"}
+
+func normOf(n fv2d.Norms, name string) float64 {
+	switch name {
+	case "l1":
+		return n.L1
+	case "l2":
+		return n.L2
+	case "linf":
+		return n.Linf
+	}
+	return math.NaN()
+}
+
+// Build groups the sweep's jobs into studies and convergence tables and
+// collects the failures. spec may be nil (the stored source could not be
+// parsed): studies are then formed from the jobs' study indices alone.
+// Outcomes are keyed by job ID; a job without one is pending. It is an
+// error when o names an unknown norm, or a variable that no outcome of a
+// study reports while some report others.
+func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome, o Options) ([]Study, []Failure, error) {
+	if o.Norm != "" && !slices.Contains(Norms, o.Norm) {
+		return nil, nil, fmt.Errorf("norm %q: want one of %s", o.Norm, strings.Join(Norms, ", "))
+	}
+	byStudy := map[int][]sweep.Job{}
+	for _, j := range jobs {
+		byStudy[j.Study] = append(byStudy[j.Study], j)
+	}
+	idx := make([]int, 0, len(byStudy))
+	for k := range byStudy {
+		idx = append(idx, k)
+	}
+	sort.Ints(idx)
+	var studies []Study
+	var fails []Failure
+	for _, k := range idx {
+		sj := byStudy[k]
+		st := Study{Index: k, Case: sj[0].Case, Tol: sweep.DefaultOrderTol, Norm: "l1"}
+		if spec != nil && k >= 1 && k <= len(spec.Studies) {
+			ss := spec.Studies[k-1]
+			st.Var, st.Design, st.Tol = ss.Var, ss.DesignOrder, ss.OrderTol
+			if ss.Label != ss.Case {
+				st.Label = ss.Label
+			}
+			if ss.Norm != "" {
+				st.Norm = ss.Norm
+			}
+		}
+		if o.Var != "" {
+			st.Var = o.Var
+		}
+		if o.Norm != "" {
+			st.Norm = o.Norm
+		}
+		if st.Var == "" {
+			if c, err := fv2d.LookupCase(st.Case); err == nil {
+				st.Var = c.Equation().Vars()[0]
+			}
+		}
+		if err := st.fill(sj, outcomes); err != nil {
+			return nil, nil, fmt.Errorf("study %d: %w", k, err)
+		}
+		for _, j := range sj {
+			if out, ok := outcomes[j.ID]; ok && out.Status == sweep.StatusFailed {
+				fails = append(fails, Failure{JobID: j.ID, Study: k, Params: canonical(j.Params),
+					Attempts: out.Attempts, Worker: out.Worker, Reason: out.Error})
+			}
+		}
+		studies = append(studies, st)
+	}
+	return studies, fails, nil
+}
+
+// fill builds the groups of st from its jobs.
+func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error {
+	byGroup := map[string][]sweep.Job{}
+	var order []string
+	for _, j := range jobs {
+		if _, seen := byGroup[j.Group]; !seen {
+			order = append(order, j.Group)
+		}
+		byGroup[j.Group] = append(byGroup[j.Group], j)
+	}
+	sort.Strings(order)
+	varying := varyingKeys(byGroup)
+	seenVar, otherVars := false, map[string]bool{}
+	for _, ident := range order {
+		gj := byGroup[ident]
+		g := Group{Ident: ident}
+		for _, j := range gj {
+			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]), H: spacing(j),
+				Status: "pending", Err: math.NaN(), Order: math.NaN()}
+			if out, ok := outcomes[j.ID]; ok {
+				r.Status, r.WallS = out.Status, out.WallS
+				r.CPUS = out.WallS * math.Max(1, float64(atoi(j.Params["threads"])))
+				if n, ok := out.Errors[st.Var]; ok && out.Status == sweep.StatusDone {
+					r.Err = normOf(n, st.Norm)
+					seenVar = true
+				}
+				for v := range out.Errors {
+					otherVars[v] = true
+				}
+			}
+			g.Rows = append(g.Rows, r)
+		}
+		sort.SliceStable(g.Rows, func(a, b int) bool { return g.Rows[a].H > g.Rows[b].H })
+		g.Params = gj[0].Params
+		g.Label = label(g.Params, varying, st.Case)
+		st.judge(&g)
+		st.Groups = append(st.Groups, g)
+		for _, r := range g.Rows {
+			switch r.Status {
+			case sweep.StatusDone:
+				st.Done++
+			case sweep.StatusFailed:
+				st.Failed++
+			default:
+				st.Pending++
+			}
+		}
+	}
+	if !seenVar && len(otherVars) > 0 {
+		names := slices.Sorted(maps.Keys(otherVars))
+		return fmt.Errorf("no result reports errors of %q (they report %s)", st.Var, strings.Join(names, ", "))
+	}
+	return nil
+}
+
+// judge fills the observed orders, the least-squares fit and the verdict of
+// g from its rows.
+func (st *Study) judge(g *Group) {
+	var hs, es []float64
+	for i := range g.Rows {
+		r := &g.Rows[i]
+		if i > 0 {
+			c := g.Rows[i-1]
+			if p := sweep.ObservedOrders([]float64{c.H, r.H}, []float64{c.Err, r.Err}); len(p) == 1 {
+				r.Order = p[0]
+			}
+		}
+		if r.Err > 0 && !math.IsInf(r.Err, 0) && r.H > 0 {
+			hs, es = append(hs, r.H), append(es, r.Err)
+		}
+	}
+	if fit, err := sweep.FitOrder(hs, es); err == nil {
+		g.Fit, g.Fitted = fit, true
+	}
+	design, ok := st.Design, st.Design > 0
+	if !ok {
+		design, ok = sweep.DesignOrder(g.Params["scheme"])
+	}
+	if !ok {
+		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Summary: "no design order: set design_order in the study"}
+		return
+	}
+	g.Verdict = sweep.Verdict(hs, es, design, st.Tol)
+}
+
+// spacing is the grid spacing of a job in x, (X1 - X0) / nx, from the
+// case's domain; NaN when the case or its parameters are unknown here.
+func spacing(j sweep.Job) float64 {
+	v, err := fv2d.Resolve(j.Case, j.Params)
+	if err != nil {
+		return math.NaN()
+	}
+	c, err := fv2d.LookupCase(j.Case)
+	if err != nil {
+		return math.NaN()
+	}
+	p, err := c.Setup(v)
+	if err != nil || v.Int("nx") <= 0 {
+		return math.NaN()
+	}
+	return (p.X1 - p.X0) / float64(v.Int("nx"))
+}
+
+// varyingKeys returns the parameters, other than the grid, whose values
+// differ between the groups, sorted.
+func varyingKeys(groups map[string][]sweep.Job) []string {
+	vals := map[string]map[string]bool{}
+	for _, gj := range groups {
+		for k, v := range gj[0].Params {
+			if vals[k] == nil {
+				vals[k] = map[string]bool{}
+			}
+			vals[k][v] = true
+		}
+	}
+	var keys []string
+	for k, vs := range vals {
+		if len(vs) > 1 && k != "nx" && k != "ny" {
+			keys = append(keys, k)
+		}
+	}
+	sort.Strings(keys)
+	return keys
+}
+
+func label(params map[string]string, keys []string, fallback string) string {
+	if len(keys) == 0 {
+		return fallback
+	}
+	parts := make([]string, len(keys))
+	for i, k := range keys {
+		parts[i] = k + "=" + params[k]
+	}
+	return strings.Join(parts, " ")
+}
+
+func canonical(params map[string]string) string {
+	return label(params, slices.Sorted(maps.Keys(params)), "")
+}
+
+func atoi(s string) int { n, _ := strconv.Atoi(s); return n }
