@@ -1,0 +1,220 @@
+package coordinator
+
+import (
+	"context"
+	"encoding/json"
+	"time"
+
+	"github.com/nats-io/nats.go"
+
+	"fvsweep/store"
+	"fvsweep/sweep"
+)
+
+// tallyMaxAge is how stale a cached count may be while outcomes arrive.
+const tallyMaxAge = 250 * time.Millisecond
+
+// bump invalidates the cached counts.
+func (c *Coordinator) bump() {
+	c.mu.Lock()
+	c.gen++
+	c.mu.Unlock()
+}
+
+// count returns the stored tally of a sweep, recounted only when outcomes
+// were written since and the cached one is older than tallyMaxAge.
+func (c *Coordinator) count(name string) (store.Tally, error) {
+	now := time.Now()
+	c.mu.Lock()
+	t, ok := c.tallies[name]
+	gen := c.gen
+	c.mu.Unlock()
+	if ok && (t.gen == gen || now.Sub(t.at) < tallyMaxAge) {
+		return t.t, nil
+	}
+	n, err := c.db.Count(name)
+	if err != nil {
+		return n, err
+	}
+	c.mu.Lock()
+	c.tallies[name] = tally{t: n, gen: gen, at: now}
+	c.mu.Unlock()
+	return n, nil
+}
+
+// Status counts the jobs of sweep name, or of every sweep when name is "".
+func (c *Coordinator) Status(name string) ([]sweep.SweepStatus, error) {
+	now := time.Now()
+	return SweepStatuses(c.db, name, c.count, func(s string) int { return c.reg.runningIn(s, now) })
+}
+
+// SweepStatuses builds the status of sweep name (all sweeps for "") from
+// the store: count tallies a sweep (nil: db.Count), running counts its jobs
+// running now (nil: none, as when no coordinator is up).
+func SweepStatuses(db *store.DB, name string, count func(string) (store.Tally, error), running func(string) int) ([]sweep.SweepStatus, error) {
+	if count == nil {
+		count = db.Count
+	}
+	var recs []store.SweepRecord
+	if name == "" {
+		var err error
+		if recs, err = db.Sweeps(); err != nil {
+			return nil, err
+		}
+	} else {
+		r, err := db.Sweep(name)
+		if err != nil {
+			return nil, err
+		}
+		recs = []store.SweepRecord{r}
+	}
+	out := make([]sweep.SweepStatus, 0, len(recs))
+	for _, r := range recs {
+		t, err := count(r.Name)
+		if err != nil {
+			return nil, err
+		}
+		s := sweep.SweepStatus{
+			Sweep: r.Name, SpecFile: r.SpecFile, JobsTotal: t.Jobs, Done: t.Done, Failed: t.Failed,
+			Canceled: r.Canceled, Created: r.Created, Updated: r.Updated,
+		}
+		left := t.Jobs - t.Done - t.Failed
+		if running != nil && !r.Canceled {
+			s.Running = min(running(r.Name), left)
+		}
+		s.Queued = left - s.Running
+		out = append(out, s)
+	}
+	return out, nil
+}
+
+// Rows returns every job of sweep name in dispatch order with its state;
+// running maps the job IDs running now to their worker (nil: none).
+func Rows(db *store.DB, name string, running map[string]string) ([]sweep.Row, error) {
+	rs, err := db.Query(name, nil)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]sweep.Row, len(rs))
+	for i, r := range rs {
+		row := sweep.Row{Job: r.Job, Outcome: r.Outcome, Status: "queued"}
+		switch {
+		case r.Outcome != nil:
+			row.Status = r.Outcome.Status
+			row.Worker = r.Outcome.Worker
+		case running[r.Job.ID] != "":
+			row.Status = "running"
+			row.Worker = running[r.Job.ID]
+		}
+		out[i] = row
+	}
+	return out, nil
+}
+
+// reply sends v as the JSON answer to a request.
+func (c *Coordinator) reply(m *nats.Msg, v any) {
+	data, err := json.Marshal(v)
+	if err == nil {
+		err = m.Respond(data)
+	}
+	if err != nil {
+		c.log.Warn("answering request", "subject", m.Subject, "error", err)
+	}
+}
+
+func errString(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
+
+func (c *Coordinator) onStatus(m *nats.Msg) {
+	var req sweep.SweepRequest
+	if err := sweep.Decode("status request", m.Data, &req); err != nil {
+		c.reply(m, sweep.StatusReply{Error: err.Error()})
+		return
+	}
+	st, err := c.Status(req.Sweep)
+	c.reply(m, sweep.StatusReply{Sweeps: st, Workers: c.Workers(), Error: errString(err)})
+}
+
+// rowsChunk is the payload size at which a rows reply is sent and a new
+// one started (well under NATS's 1 MiB default max_payload).
+const rowsChunk = 256 << 10
+
+// onRows streams the rows of a sweep to the requester's inbox in chunks,
+// the last one marked Last.
+func (c *Coordinator) onRows(m *nats.Msg) {
+	var req sweep.RowsRequest
+	if err := sweep.Decode("rows request", m.Data, &req); err != nil {
+		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+		return
+	}
+	rows, err := Rows(c.db, req.Sweep, c.reg.running(time.Now()))
+	if err != nil {
+		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+		return
+	}
+	var (
+		page []sweep.Row
+		size int
+		seq  int
+	)
+	send := func(last bool) bool {
+		data, err := json.Marshal(sweep.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last})
+		if err == nil {
+			err = c.nc.Publish(m.Reply, data)
+		}
+		if err != nil {
+			c.log.Warn("sending rows", "sweep", req.Sweep, "error", err)
+			return false
+		}
+		seq++
+		page, size = page[:0], 0
+		return true
+	}
+	for _, r := range rows {
+		b, err := json.Marshal(r)
+		if err != nil {
+			continue
+		}
+		if size+len(b) > rowsChunk && len(page) > 0 && !send(false) {
+			return
+		}
+		page = append(page, r)
+		size += len(b)
+	}
+	send(true)
+}
+
+func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {
+	var req sweep.SubmitRequest
+	if err := sweep.Decode("submit request", m.Data, &req); err != nil {
+		c.reply(m, sweep.SubmitReply{Error: err.Error()})
+		return
+	}
+	if c.cfg.ParseSpec == nil {
+		c.reply(m, sweep.SubmitReply{Error: "this coordinator takes no submissions"})
+		return
+	}
+	spec, err := c.cfg.ParseSpec(req.File, req.Source)
+	if err != nil {
+		c.reply(m, sweep.SubmitReply{Error: err.Error()})
+		return
+	}
+	rep, err := c.Submit(ctx, spec, req.RetryFailed)
+	rep.Error = errString(err)
+	c.reply(m, rep)
+}
+
+func (c *Coordinator) onCancel(ctx context.Context, m *nats.Msg) {
+	var req sweep.SweepRequest
+	if err := sweep.Decode("cancel request", m.Data, &req); err != nil {
+		c.reply(m, sweep.CancelReply{Error: err.Error()})
+		return
+	}
+	rep, err := c.Cancel(ctx, req.Sweep)
+	rep.Error = errString(err)
+	c.reply(m, rep)
+}

@@ -1,0 +1,177 @@
+package coordinator
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/nats-io/nats.go"
+
+	"fvsweep/sweep"
+)
+
+// DialOptions say how a command, a worker or a coordinator connects to NATS.
+// Every connection of fvsweep is made by Dial, so that credentials and TLS
+// settings are added in one place.
+type DialOptions struct {
+	// URL is a NATS URL, or a comma-separated list of a cluster's URLs.
+	URL string
+	// InProcess, if set, connects to an embedded server without a socket.
+	InProcess nats.InProcessConnProvider
+	// Name is the connection name the server shows.
+	Name string
+	// Token authenticates with a token, if not empty.
+	Token string
+	// Timeout bounds the first connection (default 5 s).
+	Timeout time.Duration
+}
+
+// Dial connects to NATS. A worker or coordinator keeps reconnecting for as
+// long as the process runs; the first connection fails with an error naming
+// the URL.
+func Dial(o DialOptions) (*nats.Conn, error) {
+	if o.Timeout <= 0 {
+		o.Timeout = 5 * time.Second
+	}
+	opts := []nats.Option{
+		nats.Name(o.Name),
+		nats.Timeout(o.Timeout),
+		nats.MaxReconnects(-1),
+		nats.ReconnectWait(500 * time.Millisecond),
+	}
+	if o.Token != "" {
+		opts = append(opts, nats.Token(o.Token))
+	}
+	url := o.URL
+	if o.InProcess != nil {
+		opts = append(opts, nats.InProcessServer(o.InProcess))
+		url = "" // nats.go ignores the URL
+	} else if url == "" {
+		return nil, errors.New("no NATS URL (--nats or FVSWEEP_NATS)")
+	}
+	nc, err := nats.Connect(url, opts...)
+	if err != nil {
+		if url == "" {
+			url = "embedded server"
+		}
+		return nil, fmt.Errorf("connecting to NATS at %s: %w", url, err)
+	}
+	return nc, nil
+}
+
+// ErrNoCoordinator is returned (wrapped) by the Client when no coordinator
+// answers on the connection.
+var ErrNoCoordinator = errors.New("no coordinator is answering")
+
+// Client sends the API requests of the commands to a running coordinator.
+type Client struct {
+	nc    *nats.Conn
+	names sweep.Names
+	// Timeout bounds a request (default 10 s); Submit waits up to ten times
+	// as long, since a large sweep takes a while to queue.
+	Timeout time.Duration
+}
+
+// NewClient returns a client on nc.
+func NewClient(nc *nats.Conn, names sweep.Names) *Client {
+	return &Client{nc: nc, names: names, Timeout: 10 * time.Second}
+}
+
+// request sends req to verb and decodes the reply into rep.
+func (c *Client) request(ctx context.Context, verb string, timeout time.Duration, req, rep any) error {
+	data, err := json.Marshal(req)
+	if err != nil {
+		return err
+	}
+	ctx, cancel := context.WithTimeout(ctx, timeout)
+	defer cancel()
+	m, err := c.nc.RequestWithContext(ctx, c.names.API(verb), data)
+	if errors.Is(err, nats.ErrNoResponders) || errors.Is(err, context.DeadlineExceeded) || errors.Is(err, nats.ErrTimeout) {
+		return fmt.Errorf("%s: %w (%v)", verb, ErrNoCoordinator, err)
+	}
+	if err != nil {
+		return fmt.Errorf("%s: %w", verb, err)
+	}
+	return sweep.Decode(verb+" reply", m.Data, rep)
+}
+
+func replyErr(s string) error {
+	if s == "" {
+		return nil
+	}
+	return errors.New(s)
+}
+
+// Status asks for the status of sweep name ("" for all) and the live workers.
+func (c *Client) Status(ctx context.Context, name string) (sweep.StatusReply, error) {
+	var rep sweep.StatusReply
+	if err := c.request(ctx, sweep.VerbStatus, c.Timeout, sweep.SweepRequest{Sweep: name}, &rep); err != nil {
+		return rep, err
+	}
+	return rep, replyErr(rep.Error)
+}
+
+// Submit sends a spec's source to be expanded and queued.
+func (c *Client) Submit(ctx context.Context, req sweep.SubmitRequest) (sweep.SubmitReply, error) {
+	var rep sweep.SubmitReply
+	if err := c.request(ctx, sweep.VerbSubmit, 10*c.Timeout, req, &rep); err != nil {
+		return rep, err
+	}
+	return rep, replyErr(rep.Error)
+}
+
+// Cancel cancels sweep name.
+func (c *Client) Cancel(ctx context.Context, name string) (sweep.CancelReply, error) {
+	var rep sweep.CancelReply
+	if err := c.request(ctx, sweep.VerbCancel, c.Timeout, sweep.SweepRequest{Sweep: name}, &rep); err != nil {
+		return rep, err
+	}
+	return rep, replyErr(rep.Error)
+}
+
+// Rows fetches every job of sweep name with its state; the coordinator
+// sends them in chunks.
+func (c *Client) Rows(ctx context.Context, name string) ([]sweep.Row, error) {
+	inbox := c.nc.NewRespInbox()
+	sub, err := c.nc.SubscribeSync(inbox)
+	if err != nil {
+		return nil, err
+	}
+	defer sub.Unsubscribe()
+	sub.SetPendingLimits(-1, -1)
+	data, _ := json.Marshal(sweep.RowsRequest{Sweep: name})
+	if err := c.nc.PublishRequest(c.names.API(sweep.VerbRows), inbox, data); err != nil {
+		return nil, err
+	}
+	var rows []sweep.Row
+	for seq := 0; ; seq++ {
+		ctx, cancel := context.WithTimeout(ctx, c.Timeout)
+		m, err := sub.NextMsgWithContext(ctx)
+		cancel()
+		if err != nil {
+			if seq == 0 {
+				return nil, fmt.Errorf("rows: %w (%v)", ErrNoCoordinator, err)
+			}
+			return nil, fmt.Errorf("rows: after %d chunks: %w", seq, err)
+		}
+		if len(m.Data) == 0 && m.Header.Get("Status") == "503" {
+			return nil, fmt.Errorf("rows: %w (no responders)", ErrNoCoordinator)
+		}
+		var rep sweep.RowsReply
+		if err := sweep.Decode("rows reply", m.Data, &rep); err != nil {
+			return nil, err
+		}
+		if rep.Error != "" {
+			return nil, errors.New(rep.Error)
+		}
+		if rep.Seq != seq {
+			return nil, fmt.Errorf("rows: chunk %d arrived as number %d", rep.Seq, seq)
+		}
+		rows = append(rows, rep.Rows...)
+		if rep.Last {
+			return rows, nil
+		}
+	}
+}

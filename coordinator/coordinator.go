@@ -1,0 +1,331 @@
+package coordinator
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"sync"
+	"time"
+
+	"github.com/hashicorp/go-hclog"
+	"github.com/nats-io/nats.go"
+	"github.com/nats-io/nats.go/jetstream"
+
+	"fvsweep/store"
+	"fvsweep/sweep"
+)
+
+// Config configures a Coordinator. The zero value of every field but Store
+// is usable.
+type Config struct {
+	Names    sweep.Names
+	Delivery Delivery
+	// Batch is the most outcomes written to the store in one transaction
+	// (default 512); Flush the longest an outcome waits for its batch to
+	// fill (default 20 ms).
+	Batch int
+	Flush time.Duration
+	// ParseSpec turns a submitted spec (file name for messages, TOML text)
+	// into a Spec; submit requests over NATS fail without it.
+	ParseSpec func(file, source string) (*sweep.Spec, error)
+	// OnStored, if set, is called after each batch of outcomes is stored.
+	OnStored func([]sweep.Outcome)
+	Log      hclog.Logger
+}
+
+// Coordinator owns the sweeps of one store: it publishes their jobs,
+// collects outcomes into the store (and only then acks them), records jobs
+// that ran out of deliveries as failed, and answers the API requests of the
+// client commands.
+type Coordinator struct {
+	nc   *nats.Conn
+	js   jetstream.JetStream
+	db   *store.DB
+	cfg  Config
+	log  hclog.Logger
+	jobs jetstream.Stream
+	kv   jetstream.KeyValue
+	reg  *registry
+
+	mu      sync.Mutex
+	gen     uint64 // store writes so far
+	tallies map[string]tally
+}
+
+type tally struct {
+	t   store.Tally
+	gen uint64
+	at  time.Time
+}
+
+// New creates the streams, consumers and buckets (EnsureStreams) and
+// returns a coordinator writing to db. Run starts it.
+func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordinator, error) {
+	if cfg.Batch <= 0 {
+		cfg.Batch = 512
+	}
+	if cfg.Flush <= 0 {
+		cfg.Flush = 20 * time.Millisecond
+	}
+	if cfg.Log == nil {
+		cfg.Log = hclog.NewNullLogger()
+	}
+	cfg.Delivery = cfg.Delivery.withDefaults()
+	js, err := jetstream.New(nc, jetstream.WithPublishAsyncMaxPending(4096))
+	if err != nil {
+		return nil, fmt.Errorf("jetstream: %w", err)
+	}
+	if err := EnsureStreams(ctx, js, cfg.Names, cfg.Delivery); err != nil {
+		return nil, err
+	}
+	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(), tallies: map[string]tally{}}
+	if c.jobs, err = js.Stream(ctx, cfg.Names.JobStream()); err != nil {
+		return nil, fmt.Errorf("stream %s: %w", cfg.Names.JobStream(), err)
+	}
+	if c.kv, err = js.KeyValue(ctx, cfg.Names.CancelBucket()); err != nil {
+		return nil, fmt.Errorf("bucket %s: %w", cfg.Names.CancelBucket(), err)
+	}
+	if err := c.syncCanceled(ctx); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// syncCanceled puts the cancel marks of the store into the bucket (a cancel
+// done with no coordinator running is recorded only in the store).
+func (c *Coordinator) syncCanceled(ctx context.Context) error {
+	recs, err := c.db.Sweeps()
+	if err != nil {
+		return err
+	}
+	for _, r := range recs {
+		if !r.Canceled {
+			continue
+		}
+		if err := c.markCanceled(ctx, r.Name); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// Run collects outcomes, watches worker reports and delivery advisories
+// and serves the API until ctx is done; then it stops taking outcomes,
+// stores the batch in hand and returns.
+func (c *Coordinator) Run(ctx context.Context) error {
+	cons, err := c.js.Consumer(ctx, c.cfg.Names.ResultStream(), c.cfg.Names.CoordinatorConsumer())
+	if err != nil {
+		return fmt.Errorf("consumer %s: %w", c.cfg.Names.CoordinatorConsumer(), err)
+	}
+	in := make(chan jetstream.Msg, 4*c.cfg.Batch)
+	cc, err := cons.Consume(func(m jetstream.Msg) { in <- m },
+		jetstream.PullMaxMessages(2*c.cfg.Batch),
+		jetstream.ConsumeErrHandler(func(_ jetstream.ConsumeContext, err error) {
+			if !errors.Is(err, jetstream.ErrNoHeartbeat) {
+				c.log.Debug("results consumer", "error", err)
+			}
+		}))
+	if err != nil {
+		return fmt.Errorf("consume results: %w", err)
+	}
+	var subs []*nats.Subscription
+	sub := func(subject string, h nats.MsgHandler) error {
+		s, err := c.nc.Subscribe(subject, h)
+		if err != nil {
+			return fmt.Errorf("subscribe %s: %w", subject, err)
+		}
+		subs = append(subs, s)
+		return nil
+	}
+	adv := fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", c.cfg.Names.JobStream(), c.cfg.Names.WorkerConsumer())
+	for _, s := range []struct {
+		subject string
+		h       nats.MsgHandler
+	}{
+		{c.cfg.Names.WorkerFilter(), c.onReport},
+		{adv, func(m *nats.Msg) { c.onMaxDeliveries(ctx, m) }},
+		{c.cfg.Names.API(sweep.VerbStatus), c.onStatus},
+		{c.cfg.Names.API(sweep.VerbRows), c.onRows},
+		{c.cfg.Names.API(sweep.VerbSubmit), func(m *nats.Msg) { c.onSubmit(ctx, m) }},
+		{c.cfg.Names.API(sweep.VerbCancel), func(m *nats.Msg) { c.onCancel(ctx, m) }},
+	} {
+		if err := sub(s.subject, s.h); err != nil {
+			cc.Stop()
+			return err
+		}
+	}
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		c.collect(in, ctx.Done())
+	}()
+	<-ctx.Done()
+	for _, s := range subs {
+		s.Unsubscribe()
+	}
+	cc.Stop()
+	<-done
+	// Outcomes that arrived after the stop stay unacked and come again.
+	for {
+		select {
+		case m := <-in:
+			m.Nak()
+		default:
+			return nil
+		}
+	}
+}
+
+// collect gathers outcomes into batches of at most Batch, each written
+// within Flush of its first outcome.
+func (c *Coordinator) collect(in <-chan jetstream.Msg, stop <-chan struct{}) {
+	batch := make([]jetstream.Msg, 0, c.cfg.Batch)
+	timer := time.NewTimer(time.Hour)
+	timer.Stop()
+	flush := func() {
+		if len(batch) > 0 {
+			c.store(batch)
+			batch = batch[:0]
+		}
+	}
+	for {
+		select {
+		case m := <-in:
+			if len(batch) == 0 {
+				timer.Reset(c.cfg.Flush)
+			}
+			batch = append(batch, m)
+			if len(batch) >= c.cfg.Batch {
+				timer.Stop()
+				flush()
+			}
+		case <-timer.C:
+			flush()
+		case <-stop:
+			timer.Stop()
+			flush()
+			return
+		}
+	}
+}
+
+// store writes one batch of result messages in one transaction and acks
+// them; malformed or unknown results are terminated, a failed write naks
+// the whole batch so that it comes again.
+func (c *Coordinator) store(msgs []jetstream.Msg) {
+	outs := make([]sweep.Outcome, 0, len(msgs))
+	keep := msgs[:0:0]
+	for _, m := range msgs {
+		o, err := c.checkResult(m.Data())
+		if err != nil {
+			c.log.Warn("dropping result", "subject", m.Subject(), "error", err)
+			m.Term()
+			continue
+		}
+		outs = append(outs, o)
+		keep = append(keep, m)
+	}
+	if len(outs) == 0 {
+		return
+	}
+	written, err := c.db.PutOutcomes(outs)
+	if err != nil {
+		c.log.Error("storing results; they will come again", "count", len(outs), "error", err)
+		for _, m := range keep {
+			m.NakWithDelay(time.Second)
+		}
+		return
+	}
+	c.mu.Lock()
+	c.gen++
+	c.mu.Unlock()
+	for _, m := range keep {
+		m.Ack()
+	}
+	c.log.Debug("stored results", "batch", len(outs), "written", written)
+	if c.cfg.OnStored != nil {
+		c.cfg.OnStored(outs)
+	}
+}
+
+// checkResult decodes a result and checks that it is for a job the store
+// knows.
+func (c *Coordinator) checkResult(data []byte) (sweep.Outcome, error) {
+	o, err := sweep.DecodeOutcome(data)
+	if err != nil {
+		return o, err
+	}
+	if err := store.CheckOutcome(o); err != nil {
+		return o, err
+	}
+	if _, err := c.db.Job(o.Sweep, o.JobID); err != nil {
+		return o, fmt.Errorf("result for a job not in the store: %w", err)
+	}
+	return o, nil
+}
+
+// onReport records a worker's report.
+func (c *Coordinator) onReport(m *nats.Msg) {
+	r, err := sweep.DecodeWorkerReport(m.Data)
+	if err != nil {
+		c.log.Warn("dropping worker report", "subject", m.Subject, "error", err)
+		return
+	}
+	if r.Leaving {
+		c.log.Info("worker left", "worker", r.ID, "done", r.Done, "failed", r.Failed)
+	}
+	c.reg.update(r, time.Now())
+}
+
+// maxDeliveries is the part of the server's max-deliveries advisory used.
+type maxDeliveries struct {
+	StreamSeq  uint64 `json:"stream_seq"`
+	Deliveries uint64 `json:"deliveries"`
+}
+
+// onMaxDeliveries records a job that ran out of deliveries without any
+// result (its worker was lost, hung or killed each time) as failed, and
+// removes it from the queue.
+func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
+	var a maxDeliveries
+	if err := json.Unmarshal(m.Data, &a); err != nil || a.StreamSeq == 0 {
+		c.log.Warn("bad max-deliveries advisory", "error", err)
+		return
+	}
+	raw, err := c.jobs.GetMsg(ctx, a.StreamSeq)
+	if err != nil {
+		c.log.Debug("max-deliveries: job already gone", "seq", a.StreamSeq, "error", err)
+		return
+	}
+	job, err := sweep.DecodeJob(raw.Data)
+	if err != nil {
+		c.log.Warn("max-deliveries: malformed job removed", "seq", a.StreamSeq, "error", err)
+		c.jobs.DeleteMsg(ctx, a.StreamSeq)
+		return
+	}
+	if _, found, err := c.db.Outcome(job.ID); err == nil && !found {
+		o := sweep.Outcome{
+			JobID: job.ID, Sweep: job.Sweep, Status: sweep.StatusFailed, Attempts: int(a.Deliveries),
+			Error: fmt.Sprintf("no result after %d deliveries (ack wait %v each): the worker was lost, hung or killed",
+				a.Deliveries, c.cfg.Delivery.AckWait),
+		}
+		if _, err := c.db.PutOutcomes([]sweep.Outcome{o}); err != nil {
+			c.log.Error("max-deliveries: storing failure", "job", job.ID, "error", err)
+			return
+		}
+		c.mu.Lock()
+		c.gen++
+		c.mu.Unlock()
+		c.log.Warn("job failed: delivery limit reached", "job", job.ID, "sweep", job.Sweep, "deliveries", a.Deliveries)
+		if c.cfg.OnStored != nil {
+			c.cfg.OnStored([]sweep.Outcome{o})
+		}
+	}
+	if err := c.jobs.DeleteMsg(ctx, a.StreamSeq); err != nil {
+		c.log.Debug("max-deliveries: removing job", "seq", a.StreamSeq, "error", err)
+	}
+}
+
+// Workers returns the reports of the live workers.
+func (c *Coordinator) Workers() []sweep.WorkerReport { return c.reg.live(time.Now()) }

@@ -1,0 +1,88 @@
+package coordinator
+
+import (
+	"fmt"
+	"net"
+	"path/filepath"
+	"strconv"
+	"time"
+
+	"github.com/hashicorp/go-hclog"
+	"github.com/nats-io/nats-server/v2/server"
+)
+
+// ServerOptions configure the embedded NATS server.
+type ServerOptions struct {
+	// Dir holds the JetStream file store (DATA/nats).
+	Dir string
+	// Listen is HOST:PORT for client connections. Empty means 127.0.0.1 on a
+	// random port; port 0 or -1 also means random.
+	Listen string
+	// Name is the server name (default "fvsweep").
+	Name string
+	// Log receives the server's notices and errors (nil: discard).
+	Log hclog.Logger
+}
+
+// StartServer starts an in-process NATS server with JetStream and file
+// storage under o.Dir and waits until it accepts connections. The caller
+// shuts it down with Shutdown and WaitForShutdown.
+func StartServer(o ServerOptions) (*server.Server, error) {
+	host, port := "127.0.0.1", server.RANDOM_PORT
+	if o.Listen != "" {
+		h, p, err := net.SplitHostPort(o.Listen)
+		if err != nil {
+			return nil, fmt.Errorf("listen address %q: %w", o.Listen, err)
+		}
+		n, err := strconv.Atoi(p)
+		if err != nil || n < -1 || n > 65535 {
+			return nil, fmt.Errorf("listen address %q: bad port %q", o.Listen, p)
+		}
+		if h != "" {
+			host = h
+		}
+		if n > 0 {
+			port = n
+		}
+	}
+	name := o.Name
+	if name == "" {
+		name = "fvsweep"
+	}
+	opts := &server.Options{
+		ServerName: name,
+		Host:       host,
+		Port:       port,
+		JetStream:  true,
+		StoreDir:   filepath.Clean(o.Dir),
+		NoSigs:     true,
+		NoLog:      o.Log == nil,
+		// A 100,000-job sweep is published in one go; let the in-process
+		// and loopback clients have room.
+		MaxPending: 256 << 20,
+	}
+	s, err := server.NewServer(opts)
+	if err != nil {
+		return nil, fmt.Errorf("nats server: %w", err)
+	}
+	if o.Log != nil {
+		s.SetLoggerV2(serverLog{o.Log.Named("nats")}, false, false, false)
+	}
+	go s.Start()
+	if !s.ReadyForConnections(15 * time.Second) {
+		s.Shutdown()
+		return nil, fmt.Errorf("nats server on %s:%d did not become ready (store %s)", host, port, o.Dir)
+	}
+	return s, nil
+}
+
+// serverLog adapts hclog to the NATS server's logger; server notices are
+// debug-level chatter for fvsweep users.
+type serverLog struct{ l hclog.Logger }
+
+func (s serverLog) Noticef(f string, v ...any) { s.l.Debug(fmt.Sprintf(f, v...)) }
+func (s serverLog) Warnf(f string, v ...any)   { s.l.Warn(fmt.Sprintf(f, v...)) }
+func (s serverLog) Fatalf(f string, v ...any)  { s.l.Error(fmt.Sprintf(f, v...)) }
+func (s serverLog) Errorf(f string, v ...any)  { s.l.Error(fmt.Sprintf(f, v...)) }
+func (s serverLog) Debugf(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }
+func (s serverLog) Tracef(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }

@@ -1,0 +1,128 @@
+package coordinator
+
+import (
+	"context"
+	"fmt"
+	"time"
+
+	"github.com/nats-io/nats.go/jetstream"
+
+	"fvsweep/sweep"
+)
+
+// Delivery tunes the work-queue consumer that all workers share.
+type Delivery struct {
+	// AckWait is how long a delivered job may go without an ack or an
+	// in-progress heartbeat before it is delivered again. Workers send a
+	// heartbeat every AckWait/3. Default 30 s.
+	AckWait time.Duration
+	// MaxDeliver bounds the deliveries of one job; after the last one the job
+	// is recorded as failed with its last error. Default 3.
+	MaxDeliver int
+	// DupWindow is the window in which a job or result published twice under
+	// the same message ID is stored once. Default 10 min.
+	DupWindow time.Duration
+	// Replicas is the replica count of every stream and bucket (1 on a single
+	// server, up to the cluster size). Default 1.
+	Replicas int
+}
+
+func (d Delivery) withDefaults() Delivery {
+	if d.AckWait <= 0 {
+		d.AckWait = 30 * time.Second
+	}
+	if d.MaxDeliver <= 0 {
+		d.MaxDeliver = 3
+	}
+	if d.DupWindow <= 0 {
+		d.DupWindow = 10 * time.Minute
+	}
+	if d.Replicas <= 0 {
+		d.Replicas = 1
+	}
+	return d
+}
+
+// EnsureStreams creates or updates the jobs and results streams, the worker
+// and coordinator consumers, the cancel bucket and the field object store.
+//
+// The jobs stream is a work queue with one message per subject: a job that
+// is already queued or running cannot be queued a second time (the publish
+// is refused), whatever the duplicate window. Jobs are delivered in the order
+// they were published.
+func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d Delivery) error {
+	d = d.withDefaults()
+	_, err := js.CreateOrUpdateStream(ctx, jetstream.StreamConfig{
+		Name:                 n.JobStream(),
+		Description:          "fvsweep jobs, one message per job subject",
+		Subjects:             []string{n.JobFilter("")},
+		Retention:            jetstream.WorkQueuePolicy,
+		Storage:              jetstream.FileStorage,
+		Discard:              jetstream.DiscardNew,
+		MaxMsgsPerSubject:    1,
+		DiscardNewPerSubject: true,
+		Duplicates:           d.DupWindow,
+		MaxMsgSize:           sweep.MaxMessage,
+		Replicas:             d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("stream %s: %w", n.JobStream(), err)
+	}
+	_, err = js.CreateOrUpdateStream(ctx, jetstream.StreamConfig{
+		Name:        n.ResultStream(),
+		Description: "fvsweep job outcomes, removed once stored",
+		Subjects:    []string{n.ResultFilter()},
+		Retention:   jetstream.WorkQueuePolicy,
+		Storage:     jetstream.FileStorage,
+		Duplicates:  d.DupWindow,
+		MaxMsgSize:  sweep.MaxMessage,
+		Replicas:    d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("stream %s: %w", n.ResultStream(), err)
+	}
+	_, err = js.CreateOrUpdateConsumer(ctx, n.JobStream(), jetstream.ConsumerConfig{
+		Durable:       n.WorkerConsumer(),
+		Description:   "fvsweep workers",
+		AckPolicy:     jetstream.AckExplicitPolicy,
+		AckWait:       d.AckWait,
+		MaxDeliver:    d.MaxDeliver,
+		MaxAckPending: 100000,
+		MaxWaiting:    4096,
+		Replicas:      d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("consumer %s: %w", n.WorkerConsumer(), err)
+	}
+	_, err = js.CreateOrUpdateConsumer(ctx, n.ResultStream(), jetstream.ConsumerConfig{
+		Durable:       n.CoordinatorConsumer(),
+		Description:   "fvsweep coordinator: outcomes to the store",
+		AckPolicy:     jetstream.AckExplicitPolicy,
+		AckWait:       time.Minute,
+		MaxDeliver:    -1,
+		MaxAckPending: 20000,
+		Replicas:      d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("consumer %s: %w", n.CoordinatorConsumer(), err)
+	}
+	_, err = js.CreateOrUpdateKeyValue(ctx, jetstream.KeyValueConfig{
+		Bucket:      n.CancelBucket(),
+		Description: "fvsweep canceled sweeps",
+		Storage:     jetstream.FileStorage,
+		Replicas:    d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("bucket %s: %w", n.CancelBucket(), err)
+	}
+	_, err = js.CreateOrUpdateObjectStore(ctx, jetstream.ObjectStoreConfig{
+		Bucket:      n.FieldBucket(),
+		Description: "fvsweep field snapshots (float32)",
+		Storage:     jetstream.FileStorage,
+		Replicas:    d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("object store %s: %w", n.FieldBucket(), err)
+	}
+	return nil
+}

@@ -1,0 +1,73 @@
+package coordinator
+
+import (
+	"sort"
+	"sync"
+	"time"
+
+	"fvsweep/sweep"
+)
+
+// registry keeps the latest report of every live worker. A worker is live
+// until three report intervals pass without a report, or it says it leaves.
+type registry struct {
+	mu      sync.Mutex
+	workers map[string]seen
+}
+
+type seen struct {
+	r  sweep.WorkerReport
+	at time.Time
+}
+
+func newRegistry() *registry { return &registry{workers: map[string]seen{}} }
+
+func (g *registry) update(r sweep.WorkerReport, now time.Time) {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	if r.Leaving {
+		delete(g.workers, r.ID)
+		return
+	}
+	g.workers[r.ID] = seen{r: r, at: now}
+}
+
+// live returns the live workers' reports sorted by ID, dropping the dead.
+func (g *registry) live(now time.Time) []sweep.WorkerReport {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	out := make([]sweep.WorkerReport, 0, len(g.workers))
+	for id, s := range g.workers {
+		if now.Sub(s.at) > 3*s.r.Every {
+			delete(g.workers, id)
+			continue
+		}
+		out = append(out, s.r)
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].ID < out[j].ID })
+	return out
+}
+
+// running maps the job IDs live workers run now to the worker's ID.
+func (g *registry) running(now time.Time) map[string]string {
+	out := map[string]string{}
+	for _, r := range g.live(now) {
+		for _, j := range r.Current {
+			out[j.JobID] = r.ID
+		}
+	}
+	return out
+}
+
+// runningIn counts the jobs of sweep name that live workers run now.
+func (g *registry) runningIn(name string, now time.Time) int {
+	n := 0
+	for _, r := range g.live(now) {
+		for _, j := range r.Current {
+			if j.Sweep == name {
+				n++
+			}
+		}
+	}
+	return n
+}

@@ -1,0 +1,423 @@
+package sweep
+
+// The wire protocol between coordinator, workers and client commands: the
+// names of the NATS subjects, streams, consumers and buckets, and the
+// messages sent on them, each with a strict decoder. This file is pure: it
+// imports nothing of NATS, so every side shares one definition.
+//
+// Subjects, with P the prefix (default "fvsweep") and S the sweep token:
+//
+//	P.job.S.ID      a Job, on the work-queue stream P_JOBS (one message per subject)
+//	P.result.S.ID   an Outcome, on the work-queue stream P_RESULTS
+//	P.worker.ID     a WorkerReport, core NATS, every few seconds
+//	P.api.VERB      request/reply to the coordinator (status, rows, submit, cancel)
+//
+// The cancel marks live in the key-value bucket P_canceled (key S), field
+// snapshots in the object store P_fields (object ID).
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+)
+
+// DefaultPrefix is the first token of every fvsweep subject and the stem of
+// every stream and bucket name.
+const DefaultPrefix = "fvsweep"
+
+// MaxMessage is the largest message the decoders accept (NATS's default
+// max_payload is 1 MiB).
+const MaxMessage = 1 << 20
+
+// Names derives every subject, stream, consumer and bucket name from one
+// prefix, so two deployments can share a NATS server.
+type Names struct {
+	Prefix string
+}
+
+// NewNames returns the names for prefix; "" means DefaultPrefix. The prefix
+// must be one subject token of letters, digits, '-' or '_'.
+func NewNames(prefix string) (Names, error) {
+	if prefix == "" {
+		prefix = DefaultPrefix
+	}
+	if !isToken(prefix) {
+		return Names{}, fmt.Errorf("prefix %q: want letters, digits, '-' or '_'", prefix)
+	}
+	return Names{Prefix: prefix}, nil
+}
+
+func (n Names) p() string {
+	if n.Prefix == "" {
+		return DefaultPrefix
+	}
+	return n.Prefix
+}
+
+func (n Names) upper() string { return strings.ToUpper(strings.ReplaceAll(n.p(), "-", "_")) }
+
+// JobStream is the work-queue stream of jobs.
+func (n Names) JobStream() string { return n.upper() + "_JOBS" }
+
+// ResultStream is the work-queue stream of outcomes.
+func (n Names) ResultStream() string { return n.upper() + "_RESULTS" }
+
+// WorkerConsumer is the durable pull consumer all workers share.
+func (n Names) WorkerConsumer() string { return "workers" }
+
+// CoordinatorConsumer is the durable pull consumer of the results stream.
+func (n Names) CoordinatorConsumer() string { return "coordinator" }
+
+// CancelBucket is the key-value bucket of canceled sweeps (key: sweep token).
+func (n Names) CancelBucket() string { return n.p() + "_canceled" }
+
+// FieldBucket is the object store of field snapshots (object: job ID).
+func (n Names) FieldBucket() string { return n.p() + "_fields" }
+
+// JobSubject is the subject of job id of sweep.
+func (n Names) JobSubject(sweep, id string) string {
+	return n.p() + ".job." + SweepToken(sweep) + "." + id
+}
+
+// JobFilter matches every job of sweep ("" for every sweep).
+func (n Names) JobFilter(sweep string) string {
+	if sweep == "" {
+		return n.p() + ".job.>"
+	}
+	return n.p() + ".job." + SweepToken(sweep) + ".*"
+}
+
+// ResultSubject is the subject of the outcome of job id of sweep.
+func (n Names) ResultSubject(sweep, id string) string {
+	return n.p() + ".result." + SweepToken(sweep) + "." + id
+}
+
+// ResultFilter matches every outcome.
+func (n Names) ResultFilter() string { return n.p() + ".result.>" }
+
+// WorkerSubject is where worker id reports itself.
+func (n Names) WorkerSubject(id string) string { return n.p() + ".worker." + id }
+
+// WorkerFilter matches every worker report.
+func (n Names) WorkerFilter() string { return n.p() + ".worker.*" }
+
+// API verbs of the coordinator.
+const (
+	VerbStatus = "status"
+	VerbRows   = "rows"
+	VerbSubmit = "submit"
+	VerbCancel = "cancel"
+)
+
+// API is the request subject of verb.
+func (n Names) API(verb string) string { return n.p() + ".api." + verb }
+
+// SweepToken maps a sweep name to one subject token and key-value key: the
+// name itself when it is made of letters, digits, '-' and '_' (at most 64),
+// otherwise "h" and 16 hex digits of its SHA-256.
+func SweepToken(name string) string {
+	if len(name) <= 64 && isToken(name) {
+		return name
+	}
+	sum := sha256.Sum256([]byte(name))
+	return "h" + hex.EncodeToString(sum[:8])
+}
+
+func isToken(s string) bool {
+	if s == "" {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '-' || c == '_') {
+			return false
+		}
+	}
+	return true
+}
+
+// ValidJobID reports whether id looks like a JobID: 32 lower-case hex digits.
+func ValidJobID(id string) bool {
+	if len(id) != 32 {
+		return false
+	}
+	for i := 0; i < len(id); i++ {
+		c := id[i]
+		if !(c >= '0' && c <= '9' || c >= 'a' && c <= 'f') {
+			return false
+		}
+	}
+	return true
+}
+
+// decodeStrict unmarshals one JSON value into v, refusing unknown fields,
+// trailing data and messages over MaxMessage.
+func decodeStrict(what string, data []byte, v any) error {
+	if len(data) > MaxMessage {
+		return fmt.Errorf("%s: message of %d bytes exceeds %d", what, len(data), MaxMessage)
+	}
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(v); err != nil {
+		return fmt.Errorf("%s: %w", what, err)
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		return fmt.Errorf("%s: trailing data after the JSON value", what)
+	}
+	return nil
+}
+
+// EncodeJob is the job message.
+func EncodeJob(j Job) ([]byte, error) { return json.Marshal(j) }
+
+// DecodeJob parses a job message and checks its shape: a valid ID, a sweep,
+// a case, parameters, a finite cost. It does not check the ID against the
+// parameters (that needs the case registry; the worker does it).
+func DecodeJob(data []byte) (Job, error) {
+	var j Job
+	if err := decodeStrict("job", data, &j); err != nil {
+		return Job{}, err
+	}
+	switch {
+	case !ValidJobID(j.ID):
+		return Job{}, fmt.Errorf("job: job_id %q is not 32 hex digits", j.ID)
+	case j.Sweep == "":
+		return Job{}, fmt.Errorf("job %s: no sweep", j.ID)
+	case j.Case == "":
+		return Job{}, fmt.Errorf("job %s: no case", j.ID)
+	case len(j.Params) == 0:
+		return Job{}, fmt.Errorf("job %s: no params", j.ID)
+	case math.IsNaN(j.Cost) || math.IsInf(j.Cost, 0) || j.Cost < 0:
+		return Job{}, fmt.Errorf("job %s: cost %v is not a finite non-negative number", j.ID, j.Cost)
+	}
+	return j, nil
+}
+
+// Outcome statuses.
+const (
+	StatusDone   = "done"
+	StatusFailed = "failed"
+)
+
+// EncodeOutcome is the result message.
+func EncodeOutcome(o Outcome) ([]byte, error) { return json.Marshal(o) }
+
+// DecodeOutcome parses a result message and checks its shape.
+func DecodeOutcome(data []byte) (Outcome, error) {
+	var o Outcome
+	if err := decodeStrict("result", data, &o); err != nil {
+		return Outcome{}, err
+	}
+	switch {
+	case !ValidJobID(o.JobID):
+		return Outcome{}, fmt.Errorf("result: job_id %q is not 32 hex digits", o.JobID)
+	case o.Sweep == "":
+		return Outcome{}, fmt.Errorf("result %s: no sweep", o.JobID)
+	case o.Status != StatusDone && o.Status != StatusFailed:
+		return Outcome{}, fmt.Errorf("result %s: status %q is neither done nor failed", o.JobID, o.Status)
+	case o.Status == StatusFailed && o.Error == "":
+		return Outcome{}, fmt.Errorf("result %s: failed without a reason", o.JobID)
+	case o.Attempts < 0:
+		return Outcome{}, fmt.Errorf("result %s: negative attempts", o.JobID)
+	}
+	return o, nil
+}
+
+// RunningJob is a job a worker is running now.
+type RunningJob struct {
+	JobID string    `json:"job_id"`
+	Sweep string    `json:"sweep"`
+	Since time.Time `json:"since"`
+}
+
+// WorkerReport is what a worker publishes about itself every Every.
+type WorkerReport struct {
+	ID          string        `json:"id"`
+	Host        string        `json:"host"`
+	Cores       int           `json:"cores"`
+	Concurrency int           `json:"concurrency"`
+	Started     time.Time     `json:"started"`
+	Sent        time.Time     `json:"sent"`
+	Every       time.Duration `json:"every"` // the report interval
+	Done        int           `json:"done"`
+	Failed      int           `json:"failed"`
+	Busy        float64       `json:"busy"` // fraction of slot time spent running jobs
+	Current     []RunningJob  `json:"current"`
+	Leaving     bool          `json:"leaving,omitempty"` // draining: the last report
+}
+
+// DecodeWorkerReport parses a worker report.
+func DecodeWorkerReport(data []byte) (WorkerReport, error) {
+	var r WorkerReport
+	if err := decodeStrict("worker report", data, &r); err != nil {
+		return WorkerReport{}, err
+	}
+	if !isToken(r.ID) {
+		return WorkerReport{}, fmt.Errorf("worker report: id %q is not a subject token", r.ID)
+	}
+	if r.Every <= 0 {
+		return WorkerReport{}, fmt.Errorf("worker report %s: interval %v", r.ID, r.Every)
+	}
+	return r, nil
+}
+
+// SubmitRequest asks the coordinator to expand and run a spec it is sent in
+// full (the coordinator may not see the submitter's files).
+type SubmitRequest struct {
+	File        string `json:"file"`   // for messages only
+	Source      string `json:"source"` // the TOML text
+	RetryFailed bool   `json:"retry_failed,omitempty"`
+}
+
+// SubmitReply says what a submission did.
+type SubmitReply struct {
+	Sweep   string `json:"sweep"`
+	Jobs    int    `json:"jobs"`    // expanded
+	Stored  int    `json:"stored"`  // already had an outcome
+	Retried int    `json:"retried"` // failed outcomes deleted to run again
+	Queued  int    `json:"queued"`  // published now (or already queued)
+	Error   string `json:"error,omitempty"`
+}
+
+// SweepRequest names a sweep ("" for all, where a verb allows it).
+type SweepRequest struct {
+	Sweep string `json:"sweep"`
+}
+
+// SweepStatus counts a sweep's jobs. Queued = JobsTotal - Done - Failed - Running.
+type SweepStatus struct {
+	Sweep     string    `json:"sweep"`
+	SpecFile  string    `json:"spec_file"`
+	JobsTotal int       `json:"jobs_total"`
+	Done      int       `json:"done"`
+	Failed    int       `json:"failed"`
+	Running   int       `json:"running"`
+	Queued    int       `json:"queued"`
+	Canceled  bool      `json:"canceled"`
+	Created   time.Time `json:"created"`
+	Updated   time.Time `json:"updated"`
+}
+
+// StatusReply is the coordinator's answer to status.
+type StatusReply struct {
+	Sweeps  []SweepStatus  `json:"sweeps"`
+	Workers []WorkerReport `json:"workers"`
+	Error   string         `json:"error,omitempty"`
+}
+
+// RowsRequest asks for every job of a sweep with its state. The answer
+// comes as a series of RowsReply messages to the request's reply subject,
+// numbered by Seq, the last one marked Last.
+type RowsRequest struct {
+	Sweep string `json:"sweep"`
+}
+
+// Row is one job with its state: Status is done, failed, running or queued;
+// Outcome is nil unless done or failed.
+type Row struct {
+	Job     Job      `json:"job"`
+	Status  string   `json:"status"`
+	Worker  string   `json:"worker,omitempty"`
+	Outcome *Outcome `json:"outcome,omitempty"`
+}
+
+// RowsReply is one chunk of rows; Total is the sweep's job count.
+type RowsReply struct {
+	Rows  []Row  `json:"rows"`
+	Total int    `json:"total"`
+	Seq   int    `json:"seq"`
+	Last  bool   `json:"last"`
+	Error string `json:"error,omitempty"`
+}
+
+// CancelReply says what a cancel did.
+type CancelReply struct {
+	Purged uint64 `json:"purged"` // queued jobs removed
+	Error  string `json:"error,omitempty"`
+}
+
+// Decode parses a request or reply of the API into v, strictly.
+func Decode(what string, data []byte, v any) error { return decodeStrict(what, data, v) }
+
+// Field snapshots: a little-endian binary object,
+//
+//	"FVF1" | u32 header length | JSON FieldHeader | float32 x NV x NX x NY
+//
+// interior cells only, variable by variable, x fastest.
+
+// FieldHeader describes a snapshot.
+type FieldHeader struct {
+	JobID string   `json:"job_id"`
+	Vars  []string `json:"vars"`
+	NX    int      `json:"nx"`
+	NY    int      `json:"ny"`
+	X0    float64  `json:"x0"`
+	Y0    float64  `json:"y0"`
+	DX    float64  `json:"dx"`
+	DY    float64  `json:"dy"`
+	T     float64  `json:"t"`
+}
+
+const fieldMagic = "FVF1"
+
+// EncodeField writes a snapshot of the interior values data[k][j*NX+i].
+func EncodeField(h FieldHeader, data [][]float32) ([]byte, error) {
+	if len(data) != len(h.Vars) {
+		return nil, fmt.Errorf("field: %d variables for %d names", len(data), len(h.Vars))
+	}
+	hdr, err := json.Marshal(h)
+	if err != nil {
+		return nil, err
+	}
+	n := h.NX * h.NY
+	out := make([]byte, 0, 8+len(hdr)+4*n*len(data))
+	out = append(out, fieldMagic...)
+	out = binary.LittleEndian.AppendUint32(out, uint32(len(hdr)))
+	out = append(out, hdr...)
+	for k, d := range data {
+		if len(d) != n {
+			return nil, fmt.Errorf("field: variable %s has %d values, want %d", h.Vars[k], len(d), n)
+		}
+		for _, x := range d {
+			out = binary.LittleEndian.AppendUint32(out, math.Float32bits(x))
+		}
+	}
+	return out, nil
+}
+
+// DecodeField parses a snapshot written by EncodeField.
+func DecodeField(b []byte) (FieldHeader, [][]float32, error) {
+	var h FieldHeader
+	if len(b) < 8 || string(b[:4]) != fieldMagic {
+		return h, nil, errors.New("field: not an fvsweep field snapshot")
+	}
+	hl := int(binary.LittleEndian.Uint32(b[4:8]))
+	if hl > len(b)-8 {
+		return h, nil, errors.New("field: truncated header")
+	}
+	if err := decodeStrict("field header", b[8:8+hl], &h); err != nil {
+		return h, nil, err
+	}
+	body := b[8+hl:]
+	n := h.NX * h.NY
+	if h.NX <= 0 || h.NY <= 0 || len(body) != 4*n*len(h.Vars) {
+		return h, nil, fmt.Errorf("field: %d data bytes for %d variables of %dx%d", len(body), len(h.Vars), h.NX, h.NY)
+	}
+	data := make([][]float32, len(h.Vars))
+	for k := range data {
+		d := make([]float32, n)
+		for i := range d {
+			d[i] = math.Float32frombits(binary.LittleEndian.Uint32(body[4*(k*n+i):]))
+		}
+		data[k] = d
+	}
+	return h, data, nil
+}

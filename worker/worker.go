@@ -1,0 +1,555 @@
+package worker
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"runtime"
+	"runtime/debug"
+	"strconv"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"github.com/hashicorp/go-hclog"
+	"github.com/nats-io/nats.go"
+	"github.com/nats-io/nats.go/jetstream"
+	"github.com/nats-io/nuid"
+
+	"fvsweep/fv2d"
+	"fvsweep/sweep"
+)
+
+// Runner runs one job. It returns the outcome (Status done, or failed for a
+// run that diverged: a result, not an error) and, optionally, the final
+// state for a snapshot. An error means the attempt failed and the job may
+// be tried again, unless it is Permanent or the delivery limit is reached;
+// then the job is recorded as failed with the error as its reason. The
+// worker fills in the outcome's JobID, Sweep, Worker and Attempts.
+type Runner func(ctx context.Context, job sweep.Job) (sweep.Outcome, *fv2d.State, error)
+
+// Permanent marks an error that no retry can cure (parameters the case
+// refuses, a job ID that does not match its parameters).
+func Permanent(err error) error { return permanent{err} }
+
+type permanent struct{ error }
+
+func (p permanent) Unwrap() error { return p.error }
+
+func isPermanent(err error) bool {
+	var p permanent
+	return errors.As(err, &p)
+}
+
+// Config configures a Worker; the zero value of each field but Run has a
+// default.
+type Config struct {
+	Names sweep.Names
+	// ID names the worker in reports and outcomes (default host-pid-random).
+	ID string
+	// Concurrency is the number of jobs run at once (default NumCPU).
+	Concurrency int
+	// Run runs a job (default Solve, the fv2d solver).
+	Run Runner
+	// ReportEvery is the interval of the worker's reports (default 2 s).
+	ReportEvery time.Duration
+	// Heartbeat is the interval of in-progress acks of a running job
+	// (default a third of the consumer's ack wait).
+	Heartbeat time.Duration
+	// RetryDelay is how long a failed attempt waits before its next
+	// delivery (default 1 s).
+	RetryDelay time.Duration
+	// FetchWait bounds one pull request (default 1 s); a drain waits at most
+	// this long for the fetch in flight.
+	FetchWait time.Duration
+	// DrainTimeout is how long a drain lets running jobs finish before they
+	// are stopped and returned to the queue (0: until they finish).
+	DrainTimeout time.Duration
+	Log          hclog.Logger
+}
+
+// Worker pulls jobs from the shared durable consumer, runs up to
+// Concurrency of them at once, publishes each outcome on the results stream
+// and acks the job only once the outcome is stored by the server.
+type Worker struct {
+	cfg        Config
+	nc         *nats.Conn
+	js         jetstream.JetStream
+	cons       jetstream.Consumer
+	kv         jetstream.KeyValue
+	fields     jetstream.ObjectStore
+	log        hclog.Logger
+	maxDeliver int
+	host       string
+	started    time.Time
+
+	slots chan struct{}
+	wg    sync.WaitGroup
+	abort context.CancelFunc
+	base  context.Context
+
+	mu       sync.Mutex
+	tasks    map[uint64]*task
+	next     uint64
+	canceled map[string]bool // sweep tokens
+
+	done, failed atomic.Int64
+	busy         atomic.Int64 // nanoseconds spent in Run, all slots
+}
+
+// task is a job being run.
+type task struct {
+	job    sweep.Job
+	msg    jetstream.Msg
+	since  time.Time
+	cancel context.CancelFunc
+	ctx    context.Context
+	swept  atomic.Bool // its sweep was canceled
+	key    uint64
+}
+
+// New looks up the worker consumer, the cancel bucket and the field store,
+// waiting (until ctx is done) for a coordinator to have created them.
+func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
+	if cfg.Concurrency <= 0 {
+		cfg.Concurrency = runtime.NumCPU()
+	}
+	if cfg.Run == nil {
+		cfg.Run = Solve
+	}
+	if cfg.ReportEvery <= 0 {
+		cfg.ReportEvery = 2 * time.Second
+	}
+	if cfg.RetryDelay <= 0 {
+		cfg.RetryDelay = time.Second
+	}
+	if cfg.FetchWait <= 0 {
+		cfg.FetchWait = time.Second
+	}
+	if cfg.Log == nil {
+		cfg.Log = hclog.NewNullLogger()
+	}
+	host, _ := os.Hostname()
+	if cfg.ID == "" {
+		cfg.ID = token(host) + "-" + strconv.Itoa(os.Getpid()) + "-" + strings.ToLower(nuid.Next()[16:])
+	}
+	js, err := jetstream.New(nc)
+	if err != nil {
+		return nil, fmt.Errorf("jetstream: %w", err)
+	}
+	w := &Worker{cfg: cfg, nc: nc, js: js, log: cfg.Log.With("worker", cfg.ID), host: host,
+		slots: make(chan struct{}, cfg.Concurrency), tasks: map[uint64]*task{}, canceled: map[string]bool{}}
+	n := cfg.Names
+	for wait := 100 * time.Millisecond; ; wait = min(2*wait, 2*time.Second) {
+		w.cons, err = js.Consumer(ctx, n.JobStream(), n.WorkerConsumer())
+		if err == nil {
+			w.kv, err = js.KeyValue(ctx, n.CancelBucket())
+		}
+		if err == nil {
+			w.fields, err = js.ObjectStore(ctx, n.FieldBucket())
+		}
+		if err == nil {
+			break
+		}
+		if !errors.Is(err, jetstream.ErrStreamNotFound) && !errors.Is(err, jetstream.ErrConsumerNotFound) &&
+			!errors.Is(err, jetstream.ErrBucketNotFound) && !errors.Is(err, jetstream.ErrStreamNotFound) {
+			return nil, fmt.Errorf("worker: %w", err)
+		}
+		w.log.Info("waiting for a coordinator to create the streams", "error", err)
+		select {
+		case <-ctx.Done():
+			return nil, fmt.Errorf("worker: no job stream %s: %w", n.JobStream(), err)
+		case <-time.After(wait):
+		}
+	}
+	ci := w.cons.CachedInfo()
+	w.maxDeliver = ci.Config.MaxDeliver
+	if w.cfg.Heartbeat <= 0 {
+		w.cfg.Heartbeat = max(ci.Config.AckWait/3, 10*time.Millisecond)
+	}
+	return w, nil
+}
+
+// token makes s one subject token.
+func token(s string) string {
+	b := []byte(s)
+	for i, c := range b {
+		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '-' || c == '_') {
+			b[i] = '-'
+		}
+	}
+	if len(b) == 0 {
+		return "worker"
+	}
+	return string(b)
+}
+
+// ID is the worker's name.
+func (w *Worker) ID() string { return w.cfg.ID }
+
+// Run pulls and runs jobs until ctx is done, then drains: it stops
+// fetching, lets the running jobs finish (for at most DrainTimeout, if set;
+// the others go back to the queue), sends a last report and returns.
+func (w *Worker) Run(ctx context.Context) error {
+	w.started = time.Now()
+	w.base, w.abort = context.WithCancel(context.Background())
+	defer w.abort()
+	watch, err := w.kv.WatchAll(w.base)
+	if err != nil {
+		return fmt.Errorf("worker: watching %s: %w", w.cfg.Names.CancelBucket(), err)
+	}
+	defer watch.Stop()
+	ready := make(chan struct{})
+	go w.watchCanceled(watch, ready)
+	select {
+	case <-ready:
+	case <-ctx.Done():
+	}
+	side := make(chan struct{})
+	go w.background(side)
+	w.log.Info("worker started", "concurrency", w.cfg.Concurrency, "max_deliver", w.maxDeliver, "heartbeat", w.cfg.Heartbeat)
+	w.pull(ctx)
+	w.drain()
+	close(side)
+	w.report(true)
+	w.log.Info("worker stopped", "done", w.done.Load(), "failed", w.failed.Load())
+	return nil
+}
+
+// Abort stops the running jobs now and returns them to the queue.
+func (w *Worker) Abort() {
+	if w.abort != nil {
+		w.abort()
+	}
+}
+
+// pull fetches as many jobs as there are free slots, until ctx is done.
+func (w *Worker) pull(ctx context.Context) {
+	for {
+		select {
+		case w.slots <- struct{}{}:
+		case <-ctx.Done():
+			return
+		}
+		n := 1
+	more:
+		for n < w.cfg.Concurrency {
+			select {
+			case w.slots <- struct{}{}:
+				n++
+			default:
+				break more
+			}
+		}
+		batch, err := w.cons.Fetch(n, jetstream.FetchMaxWait(w.cfg.FetchWait))
+		if err != nil {
+			w.release(n)
+			w.log.Warn("fetching jobs", "error", err)
+			select {
+			case <-ctx.Done():
+				return
+			case <-time.After(w.cfg.RetryDelay):
+			}
+			continue
+		}
+		got := 0
+		for m := range batch.Messages() {
+			got++
+			if ctx.Err() != nil {
+				m.Nak()
+				w.release(1)
+				continue
+			}
+			w.wg.Add(1)
+			go w.handle(m)
+		}
+		w.release(n - got)
+		if err := batch.Error(); err != nil && !errors.Is(err, nats.ErrTimeout) && !errors.Is(err, context.DeadlineExceeded) {
+			w.log.Debug("fetch ended", "error", err)
+		}
+		if ctx.Err() != nil {
+			return
+		}
+	}
+}
+
+func (w *Worker) release(n int) {
+	for range n {
+		<-w.slots
+	}
+}
+
+// drain waits for the running jobs, at most DrainTimeout if set.
+func (w *Worker) drain() {
+	finished := make(chan struct{})
+	go func() { w.wg.Wait(); close(finished) }()
+	if n := w.running(); n > 0 {
+		w.log.Info("draining: finishing running jobs", "running", n)
+	}
+	var timeout <-chan time.Time
+	if w.cfg.DrainTimeout > 0 {
+		timeout = time.After(w.cfg.DrainTimeout)
+	}
+	select {
+	case <-finished:
+	case <-timeout:
+		w.log.Warn("drain timeout: returning running jobs to the queue", "running", w.running())
+		w.abort()
+		<-finished
+	}
+}
+
+func (w *Worker) running() int {
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	return len(w.tasks)
+}
+
+// handle runs one delivered job and settles its message.
+func (w *Worker) handle(m jetstream.Msg) {
+	defer w.wg.Done()
+	defer w.release(1)
+	meta, err := m.Metadata()
+	if err != nil {
+		w.log.Warn("job message without metadata", "subject", m.Subject(), "error", err)
+		m.Term()
+		return
+	}
+	job, err := sweep.DecodeJob(m.Data())
+	if err == nil && m.Subject() != w.cfg.Names.JobSubject(job.Sweep, job.ID) {
+		err = fmt.Errorf("job %s on subject %s", job.ID, m.Subject())
+	}
+	if err != nil {
+		w.log.Warn("dropping malformed job", "subject", m.Subject(), "error", err)
+		m.TermWithReason("malformed job")
+		return
+	}
+	t := w.begin(job, m)
+	if t == nil { // sweep canceled
+		w.log.Debug("dropping job of a canceled sweep", "job", job.ID, "sweep", job.Sweep)
+		m.Ack()
+		return
+	}
+	out, st, err := w.safeRun(t.ctx, job)
+	stopped := t.ctx.Err() != nil
+	w.end(t)
+	if stopped {
+		if t.swept.Load() {
+			m.Ack()
+		} else {
+			m.Nak()
+		}
+		return
+	}
+	attempt := int(meta.NumDelivered)
+	last := w.maxDeliver > 0 && attempt >= w.maxDeliver
+	if err == nil && job.Snapshot && st != nil && out.Status == sweep.StatusDone {
+		out.Snapshot, err = w.putSnapshot(context.Background(), job, st)
+	}
+	if err != nil {
+		if !isPermanent(err) && !last {
+			w.log.Warn("job attempt failed; it will be retried", "job", job.ID, "attempt", attempt, "error", err)
+			m.NakWithDelay(w.cfg.RetryDelay)
+			return
+		}
+		out = sweep.Outcome{Status: sweep.StatusFailed, Error: err.Error()}
+		if last && !isPermanent(err) {
+			out.Error = fmt.Sprintf("%s (after %d attempts)", err, attempt)
+		}
+	}
+	out.JobID, out.Sweep, out.Worker, out.Attempts = job.ID, job.Sweep, w.cfg.ID, attempt
+	if out.Status == sweep.StatusFailed && out.Error == "" {
+		out.Error = "failed without a reason"
+	}
+	if err := w.publish(out, meta.Sequence.Stream); err != nil {
+		w.log.Warn("publishing result; the job will be delivered again", "job", job.ID, "error", err)
+		m.Nak()
+		return
+	}
+	m.Ack()
+	if out.Status == sweep.StatusDone {
+		w.done.Add(1)
+	} else {
+		w.failed.Add(1)
+		w.log.Info("job failed", "job", job.ID, "sweep", job.Sweep, "error", out.Error)
+	}
+}
+
+// safeRun calls the runner, turning a panic into an error.
+func (w *Worker) safeRun(ctx context.Context, job sweep.Job) (out sweep.Outcome, st *fv2d.State, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			w.log.Error("job panicked", "job", job.ID, "panic", r, "stack", string(debug.Stack()))
+			out, st, err = sweep.Outcome{}, nil, fmt.Errorf("worker panic: %v", r)
+		}
+	}()
+	if out, st, err = w.cfg.Run(ctx, job); err == nil && out.Status != sweep.StatusDone && out.Status != sweep.StatusFailed {
+		err = fmt.Errorf("runner returned status %q", out.Status)
+	}
+	return out, st, err
+}
+
+// publish puts the outcome on the results stream and waits for the
+// server's ack. The message ID (job and stream sequence of the job
+// message) makes a repeat of the same delivery a duplicate.
+func (w *Worker) publish(o sweep.Outcome, seq uint64) error {
+	data, err := sweep.EncodeOutcome(o)
+	if err != nil {
+		return err
+	}
+	f, err := w.js.PublishAsync(w.cfg.Names.ResultSubject(o.Sweep, o.JobID), data,
+		jetstream.WithMsgID(o.JobID+"-"+strconv.FormatUint(seq, 10)),
+		jetstream.WithExpectStream(w.cfg.Names.ResultStream()))
+	if err != nil {
+		return err
+	}
+	select {
+	case <-f.Ok():
+		return nil
+	case err := <-f.Err():
+		return err
+	case <-time.After(30 * time.Second):
+		return errors.New("no ack for the result within 30s")
+	}
+}
+
+// begin registers a running job; nil if its sweep is canceled.
+func (w *Worker) begin(job sweep.Job, m jetstream.Msg) *task {
+	key := sweep.SweepToken(job.Sweep)
+	w.mu.Lock()
+	stale := w.canceled[key]
+	w.mu.Unlock()
+	if stale && w.stillCanceled(key) {
+		return nil
+	}
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	t := &task{job: job, msg: m, since: time.Now()}
+	t.ctx, t.cancel = context.WithCancel(w.base)
+	w.next++
+	t.key = w.next
+	w.tasks[t.key] = t
+	return t
+}
+
+func (w *Worker) end(t *task) {
+	w.busy.Add(int64(time.Since(t.since)))
+	t.cancel()
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	delete(w.tasks, t.key)
+}
+
+// stillCanceled asks the bucket whether the sweep is canceled: a
+// resubmission clears the mark just before it queues the jobs, and the
+// watcher may not have seen that yet.
+func (w *Worker) stillCanceled(key string) bool {
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	_, err := w.kv.Get(ctx, key)
+	if errors.Is(err, jetstream.ErrKeyNotFound) {
+		w.mu.Lock()
+		delete(w.canceled, key)
+		w.mu.Unlock()
+		return false
+	}
+	return true
+}
+
+// watchCanceled keeps the set of canceled sweeps and stops their running
+// jobs. ready is closed once the initial values are in.
+func (w *Worker) watchCanceled(watch jetstream.KeyWatcher, ready chan struct{}) {
+	once := sync.OnceFunc(func() { close(ready) })
+	defer once()
+	for e := range watch.Updates() {
+		if e == nil {
+			once()
+			continue
+		}
+		key := e.Key()
+		w.mu.Lock()
+		if e.Operation() == jetstream.KeyValuePut {
+			w.canceled[key] = true
+			for _, t := range w.tasks {
+				if sweep.SweepToken(t.job.Sweep) == key {
+					t.swept.Store(true)
+					t.cancel()
+				}
+			}
+		} else {
+			delete(w.canceled, key)
+		}
+		w.mu.Unlock()
+		if e.Operation() == jetstream.KeyValuePut {
+			w.log.Info("sweep canceled", "sweep", string(e.Value()))
+		}
+	}
+}
+
+// background sends the reports and the in-progress heartbeats until stop
+// is closed.
+func (w *Worker) background(stop <-chan struct{}) {
+	rep := time.NewTicker(w.cfg.ReportEvery)
+	hb := time.NewTicker(w.cfg.Heartbeat)
+	defer rep.Stop()
+	defer hb.Stop()
+	w.report(false)
+	for {
+		select {
+		case <-stop:
+			return
+		case <-rep.C:
+			w.report(false)
+		case now := <-hb.C:
+			w.mu.Lock()
+			for _, t := range w.tasks {
+				if now.Sub(t.since) >= w.cfg.Heartbeat/2 {
+					t.msg.InProgress()
+				}
+			}
+			w.mu.Unlock()
+		}
+	}
+}
+
+// Stats is what a worker has done so far.
+type Stats struct {
+	Done, Failed int
+	// Busy is the fraction of slot time spent running jobs since Run
+	// started: sum of run times / (Concurrency x elapsed).
+	Busy float64
+}
+
+// Stats returns the worker's counters.
+func (w *Worker) Stats() Stats {
+	s := Stats{Done: int(w.done.Load()), Failed: int(w.failed.Load())}
+	if el := time.Since(w.started); el > 0 && !w.started.IsZero() {
+		s.Busy = float64(w.busy.Load()) / (float64(w.cfg.Concurrency) * float64(el))
+	}
+	return s
+}
+
+// report publishes the worker's report (core NATS, fire and forget).
+func (w *Worker) report(leaving bool) {
+	st := w.Stats()
+	r := sweep.WorkerReport{
+		ID: w.cfg.ID, Host: w.host, Cores: runtime.NumCPU(), Concurrency: w.cfg.Concurrency,
+		Started: w.started, Sent: time.Now(), Every: w.cfg.ReportEvery,
+		Done: st.Done, Failed: st.Failed, Busy: st.Busy, Leaving: leaving,
+	}
+	w.mu.Lock()
+	for _, t := range w.tasks {
+		r.Current = append(r.Current, sweep.RunningJob{JobID: t.job.ID, Sweep: t.job.Sweep, Since: t.since})
+	}
+	w.mu.Unlock()
+	data, err := json.Marshal(r)
+	if err == nil {
+		err = w.nc.Publish(w.cfg.Names.WorkerSubject(w.cfg.ID), data)
+	}
+	if err != nil {
+		w.log.Debug("sending report", "error", err)
+	}
+}
