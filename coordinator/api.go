@@ -156,13 +156,22 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
 		return
 	}
+	rec, err := c.db.Sweep(req.Sweep)
+	if err != nil {
+		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+		return
+	}
 	var (
 		page []sweep.Row
 		size int
 		seq  int
 	)
 	send := func(last bool) bool {
-		data, err := json.Marshal(sweep.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last})
+		rep := sweep.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last}
+		if seq == 0 {
+			rep.SpecFile, rep.Spec = rec.SpecFile, rec.Spec
+		}
+		data, err := json.Marshal(rep)
 		if err == nil {
 			err = c.nc.Publish(m.Reply, data)
 		}

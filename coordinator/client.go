@@ -104,6 +104,17 @@ func replyErr(s string) error {
 	return errors.New(s)
 }
 
+// Ping checks that a coordinator answers and returns its store's path.
+func (c *Client) Ping(ctx context.Context) (string, error) {
+	ctx, cancel := context.WithTimeout(ctx, c.Timeout)
+	defer cancel()
+	m, err := c.nc.RequestWithContext(ctx, c.names.API(sweep.VerbPing), nil)
+	if err != nil {
+		return "", fmt.Errorf("ping: %w (%v)", ErrNoCoordinator, err)
+	}
+	return string(m.Data), nil
+}
+
 // Status asks for the status of sweep name ("" for all) and the live workers.
 func (c *Client) Status(ctx context.Context, name string) (sweep.StatusReply, error) {
 	var rep sweep.StatusReply
@@ -134,16 +145,29 @@ func (c *Client) Cancel(ctx context.Context, name string) (sweep.CancelReply, er
 // Rows fetches every job of sweep name with its state; the coordinator
 // sends them in chunks.
 func (c *Client) Rows(ctx context.Context, name string) ([]sweep.Row, error) {
+	rows, _, err := c.rows(ctx, name)
+	return rows, err
+}
+
+// RowsSpec is Rows and the sweep's spec as last submitted (file name and
+// TOML source), for study settings such as design orders.
+func (c *Client) RowsSpec(ctx context.Context, name string) (rows []sweep.Row, specFile, spec string, err error) {
+	rows, first, err := c.rows(ctx, name)
+	return rows, first.SpecFile, first.Spec, err
+}
+
+func (c *Client) rows(ctx context.Context, name string) ([]sweep.Row, sweep.RowsReply, error) {
+	var first sweep.RowsReply
 	inbox := c.nc.NewRespInbox()
 	sub, err := c.nc.SubscribeSync(inbox)
 	if err != nil {
-		return nil, err
+		return nil, first, err
 	}
 	defer sub.Unsubscribe()
 	sub.SetPendingLimits(-1, -1)
 	data, _ := json.Marshal(sweep.RowsRequest{Sweep: name})
 	if err := c.nc.PublishRequest(c.names.API(sweep.VerbRows), inbox, data); err != nil {
-		return nil, err
+		return nil, first, err
 	}
 	var rows []sweep.Row
 	for seq := 0; ; seq++ {
@@ -152,26 +176,29 @@ func (c *Client) Rows(ctx context.Context, name string) ([]sweep.Row, error) {
 		cancel()
 		if err != nil {
 			if seq == 0 {
-				return nil, fmt.Errorf("rows: %w (%v)", ErrNoCoordinator, err)
+				return nil, first, fmt.Errorf("rows: %w (%v)", ErrNoCoordinator, err)
 			}
-			return nil, fmt.Errorf("rows: after %d chunks: %w", seq, err)
+			return nil, first, fmt.Errorf("rows: after %d chunks: %w", seq, err)
 		}
 		if len(m.Data) == 0 && m.Header.Get("Status") == "503" {
-			return nil, fmt.Errorf("rows: %w (no responders)", ErrNoCoordinator)
+			return nil, first, fmt.Errorf("rows: %w (no responders)", ErrNoCoordinator)
 		}
 		var rep sweep.RowsReply
 		if err := sweep.Decode("rows reply", m.Data, &rep); err != nil {
-			return nil, err
+			return nil, first, err
 		}
 		if rep.Error != "" {
-			return nil, errors.New(rep.Error)
+			return nil, first, errors.New(rep.Error)
 		}
 		if rep.Seq != seq {
-			return nil, fmt.Errorf("rows: chunk %d arrived as number %d", rep.Seq, seq)
+			return nil, first, fmt.Errorf("rows: chunk %d arrived as number %d", rep.Seq, seq)
+		}
+		if seq == 0 {
+			first = rep
 		}
 		rows = append(rows, rep.Rows...)
 		if rep.Last {
-			return rows, nil
+			return rows, first, nil
 		}
 	}
 }

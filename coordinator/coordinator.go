@@ -145,6 +145,7 @@ func (c *Coordinator) Run(ctx context.Context) error {
 	}{
 		{c.cfg.Names.WorkerFilter(), c.onReport},
 		{adv, func(m *nats.Msg) { c.onMaxDeliveries(ctx, m) }},
+		{c.cfg.Names.API(sweep.VerbPing), func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) }},
 		{c.cfg.Names.API(sweep.VerbStatus), c.onStatus},
 		{c.cfg.Names.API(sweep.VerbRows), c.onRows},
 		{c.cfg.Names.API(sweep.VerbSubmit), func(m *nats.Msg) { c.onSubmit(ctx, m) }},

@@ -10,7 +10,7 @@ package sweep
 //	P.job.S.ID      a Job, on the work-queue stream P_JOBS (one message per subject)
 //	P.result.S.ID   an Outcome, on the work-queue stream P_RESULTS
 //	P.worker.ID     a WorkerReport, core NATS, every few seconds
-//	P.api.VERB      request/reply to the coordinator (status, rows, submit, cancel)
+//	P.api.VERB      request/reply to the coordinator (ping, status, rows, submit, cancel)
 //
 // The cancel marks live in the key-value bucket P_canceled (key S), field
 // snapshots in the object store P_fields (object ID).
@@ -111,6 +111,7 @@ func (n Names) WorkerFilter() string { return n.p() + ".worker.*" }
 
 // API verbs of the coordinator.
 const (
+	VerbPing   = "ping" // empty request; the reply is the store path
 	VerbStatus = "status"
 	VerbRows   = "rows"
 	VerbSubmit = "submit"
@@ -329,10 +330,13 @@ type Row struct {
 	Outcome *Outcome `json:"outcome,omitempty"`
 }
 
-// RowsReply is one chunk of rows; Total is the sweep's job count.
+// RowsReply is one chunk of rows; Total is the sweep's job count. The
+// first chunk also carries the sweep's spec as last submitted.
 type RowsReply struct {
-	Rows  []Row  `json:"rows"`
-	Total int    `json:"total"`
+	Rows     []Row  `json:"rows"`
+	Total    int    `json:"total"`
+	SpecFile string `json:"spec_file,omitempty"`
+	Spec     string `json:"spec,omitempty"`
 	Seq   int    `json:"seq"`
 	Last  bool   `json:"last"`
 	Error string `json:"error,omitempty"`
