@@ -47,16 +47,17 @@ func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
 }
 
 // checkEuler updates res with the new conserved state of one cell: its
-// positivity and, if wanted, its wave speeds |u_n| + a and |u_t| + a.
+// positivity (rho > 0 and p > 0, i.e. 2 E rho > |m|^2, without a division)
+// and, if wanted, its wave speeds |u_n| + a and |u_t| + a.
 func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
-	inv := 1 / r
-	p := (gamma - 1) * (e - 0.5*(m*m+t*t)*inv)
-	if !(r > 0 && p > 0) {
+	k2 := m*m + t*t
+	if !(r > 0 && 2*e*r > k2) {
 		res.bad = true
 		return
 	}
 	if speed {
-		a := math.Sqrt(gamma * p * inv)
+		inv := 1 / r
+		a := math.Sqrt(gamma * (gamma - 1) * (e - 0.5*k2*inv) * inv)
 		if s := math.Abs(m*inv) + a; s > res.sn {
 			res.sn = s
 		}
