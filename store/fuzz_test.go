@@ -8,7 +8,8 @@ import (
 
 // FuzzDecodeRecords feeds arbitrary bytes to the three record decoders. They
 // must return an error or a record, never panic; a record they accept must
-// survive an encode/decode round trip unchanged.
+// survive an encode/decode round trip unchanged, and a job encodes to the
+// same bytes by appendJob as by encoding/json.
 func FuzzDecodeRecords(f *testing.F) {
 	j := testJob("fz", 32, "minmod")
 	for _, v := range []any{
@@ -41,6 +42,10 @@ func FuzzDecodeRecords(f *testing.F) {
 		}
 		if j, err := DecodeJob(data); err == nil {
 			roundTrip(t, j, func(b []byte) (any, error) { return DecodeJob(b) })
+			want, _ := json.Marshal(j)
+			if got, _ := appendJob(nil, &j, nil); !bytes.Equal(got, want) {
+				t.Fatalf("appendJob\n got %s\nwant %s", got, want)
+			}
 		}
 		if r, err := DecodeSweep(data); err == nil {
 			roundTrip(t, r, func(b []byte) (any, error) { return DecodeSweep(b) })

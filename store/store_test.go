@@ -1,8 +1,10 @@
 package store
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"maps"
@@ -702,5 +704,39 @@ func TestPutSweepStaged(t *testing.T) {
 	})
 	if jobs, _ := db.Jobs("big"); len(jobs) != 90 {
 		t.Fatalf("%d jobs after reopen", len(jobs))
+	}
+}
+
+// TestAppendJobMatchesMarshal checks the hand encoder of job records against
+// encoding/json (the reference: the documented record format is its output).
+func TestAppendJobMatchesMarshal(t *testing.T) {
+	strs := []string{"", "plain", `q"uote`, `back\slash`, "tab\tnl\ncr\r", "\b\f\x00\x1f\x7f", "<a&b>", "caf\u00e9 \u2028\u2029 \U0001F600", "bad\xffutf8\xc3", "\xed\xa0\x80"}
+	floats := []float64{0, 1, -1, 0.5, 1e-6, 9.99e-7, 1e-7, 123456789, 1e20, 1e21, 1.5e300, 5e-324, 2097152, 1.0 / 3}
+	var keys []string
+	for i, s := range strs {
+		j := benchJobs("sw", 3)[i%3]
+		j.Sweep, j.Case, j.Group = s, s+"c", "g"+s
+		j.Params[s] = s
+		j.Cost = floats[i%len(floats)]
+		j.Study = i * 1000
+		j.Snapshot = i%2 == 0
+		if i == 3 {
+			j.Params = nil
+		}
+		if i == 4 {
+			j.Params = map[string]string{}
+		}
+		for _, f := range floats {
+			j.Cost = f
+			want, err := json.Marshal(j)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var got []byte
+			got, keys = appendJob(nil, &j, keys)
+			if !bytes.Equal(got, want) {
+				t.Fatalf("appendJob\n got %s\nwant %s", got, want)
+			}
+		}
 	}
 }

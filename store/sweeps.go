@@ -92,12 +92,12 @@ func (db *DB) PutSweep(rec SweepRecord, jobs []sweep.Job) (added, stored int, er
 		if err != nil {
 			return err
 		}
-		for _, j := range uniq {
-			key := []byte(j.ID)
-			if jb.Get(key) != nil {
+		var w jobWriter
+		for i := range uniq {
+			if jb.Get([]byte(uniq[i].ID)) != nil {
 				continue
 			}
-			if err := putJob(jb, j); err != nil {
+			if err := w.put(jb, &uniq[i]); err != nil {
 				return err
 			}
 			added++
@@ -170,13 +170,26 @@ func jobBucket(tx *bolt.Tx, name string) (*bolt.Bucket, error) {
 	return b, nil
 }
 
-func putJob(b *bolt.Bucket, j sweep.Job) error {
-	data, err := json.Marshal(j)
-	if err != nil {
-		return fmt.Errorf("job %s: %w", j.ID, err)
-	}
-	if err := b.Put([]byte(j.ID), data); err != nil {
-		return fmt.Errorf("job %s: %w", j.ID, err)
+// jobWriter puts job records into buckets of one write transaction.
+type jobWriter struct {
+	a    arena // keys and values, held until the transaction ends
+	buf  []byte
+	keys []string
+}
+
+func (w *jobWriter) put(b *bolt.Bucket, j *sweep.Job) error {
+	w.buf, w.keys = appendJob(w.buf[:0], j, w.keys)
+	return w.putRaw(b, j.ID, w.buf)
+}
+
+// putRaw puts a copy of key and value.
+func (w *jobWriter) putRaw(b *bolt.Bucket, key string, value []byte) error {
+	k := w.a.alloc(len(key))
+	copy(k, key)
+	v := w.a.alloc(len(value))
+	copy(v, value)
+	if err := b.Put(k, v); err != nil {
+		return fmt.Errorf("job %s: %w", key, err)
 	}
 	return nil
 }
@@ -224,6 +237,7 @@ func (db *DB) putStaged(rec SweepRecord, uniq []sweep.Job) (added int, err error
 					k, v = c.Next()
 				}
 			}
+			var w jobWriter
 			for n := 0; n < putChunk; n++ {
 				switch {
 				case k == nil && next == len(uniq):
@@ -233,13 +247,13 @@ func (db *DB) putStaged(rec SweepRecord, uniq []sweep.Job) (added int, err error
 					if next < len(uniq) && string(k) == uniq[next].ID {
 						next++ // already in the sweep
 					}
-					if err := sb.Put(bytes.Clone(k), bytes.Clone(v)); err != nil {
+					if err := w.putRaw(sb, string(k), v); err != nil {
 						return err
 					}
 					last = bytes.Clone(k)
 					k, v = c.Next()
 				default:
-					if err := putJob(sb, uniq[next]); err != nil {
+					if err := w.put(sb, &uniq[next]); err != nil {
 						return err
 					}
 					last = []byte(uniq[next].ID)
