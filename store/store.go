@@ -177,7 +177,8 @@ func (db *DB) Close() error {
 func (db *DB) Path() string { return db.path }
 
 // Verify walks the whole database: bbolt's page consistency check, then a
-// decode of every sweep, job and result record, each filed under its own key.
+// decode of every sweep, job and result record, each filed under its own key,
+// and each sweep's job count against its job bucket.
 // It is what a test or an operator runs after a crash.
 func (db *DB) Verify() error {
 	return db.bolt.View(func(tx *bolt.Tx) error {
@@ -192,10 +193,20 @@ func (db *DB) Verify() error {
 		}
 		err := tx.Bucket(bucketSweeps).ForEach(func(k, v []byte) error {
 			r, err := DecodeSweep(v)
-			if err == nil && r.Name != string(k) {
-				err = fmt.Errorf("sweep record under %q is named %q", k, r.Name)
+			if err != nil {
+				return err
 			}
-			return err
+			if r.Name != string(k) {
+				return fmt.Errorf("sweep record under %q is named %q", k, r.Name)
+			}
+			jb := tx.Bucket(bucketJobs).Bucket(k)
+			if jb == nil {
+				return fmt.Errorf("sweep %q has no job bucket", k)
+			}
+			if n := jb.Stats().KeyN; n != r.Jobs {
+				return fmt.Errorf("sweep %q: record counts %d jobs, bucket holds %d", k, r.Jobs, n)
+			}
+			return nil
 		})
 		if err != nil {
 			return fmt.Errorf("store %s: %w", db.path, err)

@@ -590,6 +590,27 @@ func TestVerifyFindsBadRecords(t *testing.T) {
 	if _, _, err := db.Outcome("abc"); err == nil {
 		t.Fatal("Outcome decoded a truncated record")
 	}
+	if err := db.DeleteOutcomes([]string{"abc"}); err != nil {
+		t.Fatal(err)
+	}
+	if _, _, err := db.PutSweep(SweepRecord{Name: "s"}, testJobs("s")); err != nil {
+		t.Fatal(err)
+	}
+	if err := db.Verify(); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	writeRaw(t, path, func(tx *bolt.Tx) error {
+		return tx.Bucket(bucketJobs).Bucket([]byte("s")).Delete([]byte(testJobs("s")[0].ID))
+	})
+	db, err = Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	if err := db.Verify(); err == nil || !strings.Contains(err.Error(), "record counts 9 jobs, bucket holds 8") {
+		t.Fatalf("Verify of a sweep missing a job: %v", err)
+	}
 }
 
 func TestStatusOf(t *testing.T) {
