@@ -1,0 +1,112 @@
+package deploy
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+	"testing"
+
+	"github.com/nats-io/nats-server/v2/server"
+
+	"fvsweep/sweep"
+)
+
+// loadNode parses nats/node-i.conf with the NATS server's own reader.
+func loadNode(t *testing.T, i int) *server.Options {
+	t.Helper()
+	o, err := server.ProcessConfigFile(fmt.Sprintf("nats/node-%d.conf", i))
+	if err != nil {
+		t.Fatalf("node-%d.conf: %v", i, err)
+	}
+	return o
+}
+
+func setSecrets(t *testing.T) {
+	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", "c0ffee01")
+	t.Setenv("FVSWEEP_WORKER_TOKEN", "deadbeef02")
+}
+
+// TestNodeConfigsFormOneCluster: three servers with distinct names, one
+// cluster name, each routing to the other two, JetStream on a file store.
+func TestNodeConfigsFormOneCluster(t *testing.T) {
+	setSecrets(t)
+	for i := 1; i <= 3; i++ {
+		o := loadNode(t, i)
+		if want := fmt.Sprintf("fvsweep-nats-%d", i); o.ServerName != want {
+			t.Errorf("node %d: server_name %q, want %q", i, o.ServerName, want)
+		}
+		if o.Cluster.Name != "fvsweep" || o.Cluster.Port != 6222 || o.Port != 4222 {
+			t.Errorf("node %d: cluster %q port %d, client port %d", i, o.Cluster.Name, o.Cluster.Port, o.Port)
+		}
+		var peers []string
+		for _, r := range o.Routes {
+			peers = append(peers, r.Host)
+		}
+		slices.Sort(peers)
+		var want []string
+		for j := 1; j <= 3; j++ {
+			if j != i {
+				want = append(want, fmt.Sprintf("fvsweep-nats-%d:6222", j))
+			}
+		}
+		if !slices.Equal(peers, want) {
+			t.Errorf("node %d routes to %v, want %v", i, peers, want)
+		}
+		if !o.JetStream || o.StoreDir != "/var/lib/fvsweep/nats" {
+			t.Errorf("node %d: jetstream %v store %q", i, o.JetStream, o.StoreDir)
+		}
+	}
+}
+
+// TestNodeConfigRefusesMissingSecrets: without the token variables the
+// server does not start (the configuration does not parse).
+func TestNodeConfigRefusesMissingSecrets(t *testing.T) {
+	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", "c0ffee01")
+	_, err := server.ProcessConfigFile("nats/node-1.conf")
+	if err == nil || !strings.Contains(err.Error(), "FVSWEEP_WORKER_TOKEN") {
+		t.Fatalf("no FVSWEEP_WORKER_TOKEN: err %v, want one naming the variable", err)
+	}
+}
+
+// TestNodeUsersRights checks the two users against the names the code
+// uses (sweep.Names with the default prefix).
+func TestNodeUsersRights(t *testing.T) {
+	setSecrets(t)
+	o := loadNode(t, 1)
+	users := map[string]*server.User{}
+	for _, u := range o.Users {
+		users[u.Username] = u
+	}
+	co, wk := users["coordinator"], users["worker"]
+	if co == nil || wk == nil || co.Password != "c0ffee01" || wk.Password != "deadbeef02" {
+		t.Fatalf("users %+v, want coordinator and worker with the passwords from the environment", o.Users)
+	}
+	n := sweep.Names{}
+	mustAllow := []string{
+		"$JS.API.CONSUMER.MSG.NEXT." + n.JobStream() + "." + n.WorkerConsumer(),
+		"$JS.ACK." + n.JobStream() + "." + n.WorkerConsumer() + ".>",
+		"$JS.API.STREAM.INFO.KV_" + n.CancelBucket(),
+		"$JS.API.STREAM.INFO.OBJ_" + n.FieldBucket(),
+		n.ResultFilter(), n.WorkerFilter(),
+	}
+	for _, s := range mustAllow {
+		if !slices.Contains(wk.Permissions.Publish.Allow, s) {
+			t.Errorf("worker may not publish %s", s)
+		}
+	}
+	for _, s := range []string{n.JobFilter(""), n.API(">")} {
+		if !slices.Contains(wk.Permissions.Publish.Deny, s) {
+			t.Errorf("worker is not denied %s", s)
+		}
+	}
+	for _, s := range wk.Permissions.Publish.Allow {
+		if strings.HasPrefix(s, "fvsweep.job") || strings.HasPrefix(s, "fvsweep.api") || strings.HasPrefix(s, "$JS.API.STREAM.CREATE") {
+			t.Errorf("worker may publish %s", s)
+		}
+	}
+	for _, s := range []string{"fvsweep.>", "$JS.API.>", "_INBOX.>"} {
+		if !slices.Contains(co.Permissions.Publish.Allow, s) {
+			t.Errorf("coordinator may not publish %s", s)
+		}
+	}
+}
