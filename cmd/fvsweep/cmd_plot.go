@@ -1,0 +1,261 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"fvsweep/fv2d"
+	"fvsweep/sweep"
+	"fvsweep/sweep/plots"
+	"fvsweep/sweep/report"
+)
+
+const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --out FILE
+
+  convergence  error norm against h, log-log, one line per parameter group,
+               reference slopes of order 1 and 2, fitted order in the legend
+  cost         error norm against CPU seconds (work-precision), log-log
+  field        heat map of a job's final field with a colour bar, or with
+               --cut a line cut through it against the exact solution
+
+The extension of --out (.png or .svg) picks the format. Results come from
+the running coordinator, or from the store in --data opened read-only.
+
+flags:
+  --out       output file (.png or .svg), required
+  --study N   the study to plot (default: the only one with errors to show)
+  --job ID    field: the job (its ID, or a unique prefix of it)
+  --snapshot FILE  field: read the field from this snapshot file
+  --cut x|y   field: a line cut along x or y instead of the heat map
+  --at V      field: the cut passes through the cells nearest to y = V
+              (--cut x) or x = V (--cut y); default: the middle
+  --var V     variable (default: the study's, else the case's first);
+              field: a conserved variable, or u, v, p of an Euler case
+  --norm N    l1, l2 or linf (default: the study's, else l1)
+` + commonUsage
+
+func init() {
+	register(command{name: "plot", summary: "draw convergence, cost or field plots of a sweep (PNG, SVG)",
+		run: func(args []string) int { return runPlot(args, os.Stdout, os.Stderr) }})
+}
+
+// runPlot is the plot command: exit code 0, 1 on failure, 2 on bad usage.
+func runPlot(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("plot", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	var jf judgeFlags
+	jf.register(fs)
+	out := fs.String("out", "", "")
+	studyN := fs.Int("study", 0, "")
+	jobID := fs.String("job", "", "")
+	snapshot := fs.String("snapshot", "", "")
+	cut := fs.String("cut", "", "")
+	at := fs.String("at", "", "")
+	bad := func(format string, a ...any) int {
+		fmt.Fprintf(stderr, "fvsweep plot: "+format+"\n", a...)
+		return 2
+	}
+	failed := func(err error) int {
+		fmt.Fprintf(stderr, "fvsweep plot: %v\n", err)
+		return 1
+	}
+	pos, err := parseArgs(fs, args)
+	if err == flag.ErrHelp {
+		fmt.Fprint(stdout, plotUsage)
+		return 0
+	} else if err != nil {
+		return bad("%v (see fvsweep plot -h)", err)
+	}
+	if len(pos) != 2 {
+		return bad("want SWEEP and one of convergence, cost, field (see fvsweep plot -h)")
+	}
+	name, kind := pos[0], pos[1]
+	if kind != "convergence" && kind != "cost" && kind != "field" {
+		return bad("unknown plot %q: want convergence, cost or field", kind)
+	}
+	if *out == "" {
+		return bad("--out FILE is required")
+	}
+	if _, err := plots.FormatOf(*out); err != nil {
+		return bad("--out %v", err)
+	}
+	if kind != "field" && (*jobID != "" || *snapshot != "" || *cut != "" || *at != "") {
+		return bad("--job, --snapshot, --cut and --at are for the field plot")
+	}
+	if *cut != "" && *cut != "x" && *cut != "y" {
+		return bad("--cut %q: want x or y", *cut)
+	}
+	atV := math.NaN()
+	if *at != "" {
+		if atV, err = strconv.ParseFloat(*at, 64); err != nil || math.IsInf(atV, 0) || math.IsNaN(atV) {
+			return bad("--at %q: not a finite number", *at)
+		}
+	}
+	sd, err := openSweep(&c, name)
+	if err != nil {
+		return failed(err)
+	}
+	var d plots.Drawer
+	var notes []string
+	if kind == "field" {
+		d, notes, err = fieldPlot(sd, *jobID, *snapshot, jf.v, *cut, atV)
+	} else {
+		d, notes, err = studyPlot(sd, kind, *studyN, jf.options())
+	}
+	if err != nil {
+		return failed(err)
+	}
+	if err := plots.Save(*out, d); err != nil {
+		return failed(err)
+	}
+	for _, n := range notes {
+		fmt.Fprintf(stderr, "fvsweep plot: note: %s\n", n)
+	}
+	fmt.Fprintln(stdout, *out)
+	return 0
+}
+
+// studyPlot prepares the convergence or cost plot of one study.
+func studyPlot(sd *sweepData, kind string, n int, o report.Options) (plots.Drawer, []string, error) {
+	studies, _, _, err := sd.tables(o)
+	if err != nil {
+		return nil, nil, err
+	}
+	var st *report.Study
+	var withErrors []string
+	for i := range studies {
+		if studies[i].HasErrors() {
+			withErrors = append(withErrors, strconv.Itoa(studies[i].Index))
+		}
+		if studies[i].Index == n {
+			st = &studies[i]
+		}
+	}
+	switch {
+	case n != 0 && st == nil:
+		return nil, nil, fmt.Errorf("--study %d: the sweep has studies 1 to %d", n, len(studies))
+	case n == 0 && len(withErrors) == 0:
+		return nil, nil, fmt.Errorf("no study has errors to plot yet (no finished grid, or no exact solution)")
+	case n == 0 && len(withErrors) > 1:
+		return nil, nil, fmt.Errorf("studies %s have errors to plot: choose one with --study", strings.Join(withErrors, ", "))
+	case n == 0:
+		k, _ := strconv.Atoi(withErrors[0])
+		for i := range studies {
+			if studies[i].Index == k {
+				st = &studies[i]
+			}
+		}
+	}
+	if !st.HasErrors() {
+		return nil, nil, fmt.Errorf("study %d has no errors to plot yet (no finished grid, or no exact solution)", st.Index)
+	}
+	var f *plots.Figure
+	if kind == "convergence" {
+		f, err = report.ConvergenceFigure(*st)
+	} else {
+		f, err = report.CostFigure(*st)
+	}
+	if err != nil {
+		return nil, nil, err
+	}
+	return f, f.Notes, nil
+}
+
+// fieldPlot prepares the heat map or cut of a job's snapshot.
+func fieldPlot(sd *sweepData, id, file, v, cut string, at float64) (plots.Drawer, []string, error) {
+	if id == "" {
+		return nil, nil, fmt.Errorf("the field plot needs --job ID")
+	}
+	row, err := findJob(sd.rows, id)
+	if err != nil {
+		return nil, nil, err
+	}
+	job := row.Job
+	if err != nil {
+		return nil, nil, err
+	}
+	var raw []byte
+	if file != "" {
+		if raw, err = os.ReadFile(file); err != nil {
+			return nil, nil, fmt.Errorf("--snapshot: %w", err)
+		}
+	} else {
+		out := row.Outcome
+		switch {
+		case out == nil:
+			return nil, nil, fmt.Errorf("job %s has no result yet", job.ID)
+		case out.Snapshot == "":
+			return nil, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", job.ID)
+		}
+		// The snapshot lies in the JetStream object store; no fetch from it
+		// is available to commands yet.
+		return nil, nil, fmt.Errorf("job %s: snapshot %s is in the NATS object store, which plot cannot read yet; pass it with --snapshot FILE", job.ID, out.Snapshot)
+	}
+	hdr, data, err := sweep.DecodeField(raw)
+	if err != nil {
+		return nil, nil, fmt.Errorf("%s: %w", file, err)
+	}
+	var prob *fv2d.Problem
+	var notes []string
+	if vals, err := fv2d.Resolve(job.Case, job.Params); err == nil {
+		if c, err := fv2d.LookupCase(job.Case); err == nil {
+			prob, _ = c.Setup(vals)
+		}
+	}
+	if prob == nil {
+		notes = append(notes, fmt.Sprintf("case %s could not be set up here: no exact solution drawn", job.Case))
+	}
+	if v == "" {
+		v = hdr.Vars[0]
+	}
+	f, exact, err := report.SnapshotField(hdr, data, v, prob)
+	if err != nil {
+		return nil, nil, err
+	}
+	title := fmt.Sprintf("%s, nx=%s, t=%.4g", job.Case, job.Params["nx"], hdr.T)
+	if cut == "" {
+		h, err := plots.HeatMap(f, plots.Axes{Title: v + ": " + title})
+		if err != nil {
+			return nil, nil, err
+		}
+		return h, append(notes, h.Notes...), nil
+	}
+	if exact == nil {
+		notes = append(notes, fmt.Sprintf("case %s has no exact solution: numerical values only", job.Case))
+	}
+	label := job.Params["scheme"]
+	if l := job.Params["limiter"]; l != "" && label == "muscl" {
+		label += " " + l
+	}
+	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label + ", nx=" + job.Params["nx"]})
+	if err != nil {
+		return nil, nil, err
+	}
+	return fig, append(notes, fig.Notes...), nil
+}
+
+// findJob returns the row whose job ID is id or starts with it, uniquely.
+func findJob(rows []sweep.Row, id string) (sweep.Row, error) {
+	var found []sweep.Row
+	for _, r := range rows {
+		if r.Job.ID == id {
+			return r, nil
+		}
+		if strings.HasPrefix(r.Job.ID, id) {
+			found = append(found, r)
+		}
+	}
+	switch len(found) {
+	case 0:
+		return sweep.Row{}, fmt.Errorf("--job %s: no such job in the sweep", id)
+	case 1:
+		return found[0], nil
+	}
+	return sweep.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
+}

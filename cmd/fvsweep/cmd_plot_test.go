@@ -1,0 +1,207 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"image/png"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"fvsweep/fv2d"
+	"fvsweep/store"
+	"fvsweep/sweep"
+	"fvsweep/worker"
+)
+
+const plotTestSpec = `name = "pics"
+[[study]]
+label = "smooth"
+case = "vortex"
+fixed = { t_end = 0.5 }
+axes = { limiter = ["minmod", "mc"] }
+refine = { nx = [16, 32, 64] }
+design_order = 2
+order_tol = 0.5
+snapshot = true
+`
+
+// plotRig runs the spec's jobs with the real solver, stores them in a
+// fresh data directory and writes the snapshot of the finest mc run to a
+// file. It returns the data directory, that job's ID and the snapshot path.
+func plotRig(t *testing.T) (dir, jobID, snap string) {
+	t.Helper()
+	spec, err := sweep.ParseSpec("pics.toml", []byte(plotTestSpec), sweep.Limits{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	jobs, err := spec.Expand()
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir = t.TempDir()
+	db, err := store.Open(filepath.Join(dir, dbFile), store.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	if _, _, err := db.PutSweep(store.SweepRecord{Name: spec.Name, SpecFile: "pics.toml", Spec: plotTestSpec}, jobs); err != nil {
+		t.Fatal(err)
+	}
+	var outs []sweep.Outcome
+	for _, j := range jobs {
+		v, err := fv2d.Resolve(j.Case, j.Params)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := fv2d.Run(context.Background(), v)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := sweep.Outcome{JobID: j.ID, Sweep: spec.Name, Status: sweep.StatusDone, Attempts: 1, Worker: "test",
+			WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal, Errors: res.Errors}
+		if j.Params["limiter"] == "mc" && j.Params["nx"] == "64" {
+			h := sweep.FieldHeader{JobID: j.ID, Vars: res.Final.Eq.Vars(), NX: res.Final.NX, NY: res.Final.NY,
+				X0: res.Final.X0, Y0: res.Final.Y0, DX: res.Final.DX, DY: res.Final.DY, T: res.Final.T}
+			data, err := sweep.EncodeField(h, worker.Field(res.Final))
+			if err != nil {
+				t.Fatal(err)
+			}
+			snap = filepath.Join(dir, "mc64.fvf")
+			if err := os.WriteFile(snap, data, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			jobID, o.Snapshot = j.ID, "fields/"+j.ID
+		}
+		outs = append(outs, o)
+	}
+	if _, err := db.PutOutcomes(outs); err != nil {
+		t.Fatal(err)
+	}
+	return dir, jobID, snap
+}
+
+func checkPNG(t *testing.T, path string) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	if img.Bounds().Dx() < 400 || img.Bounds().Dy() < 200 {
+		t.Errorf("%s: %v is too small", path, img.Bounds())
+	}
+}
+
+func TestPlotCommands(t *testing.T) {
+	dir, id, snap := plotRig(t)
+	outDir := os.Getenv("FVSWEEP_PLOT_DIR") // set it to keep the pictures to look at
+	if outDir == "" {
+		outDir = t.TempDir()
+	}
+	for _, tc := range []struct {
+		name string
+		args []string
+	}{
+		{"convergence.png", []string{"pics", "convergence"}},
+		{"convergence.svg", []string{"pics", "convergence", "--norm", "linf"}},
+		{"cost.png", []string{"pics", "cost"}},
+		{"heat.png", []string{"pics", "field", "--job", id[:8], "--snapshot", snap}},
+		{"heat-p.png", []string{"pics", "field", "--job", id, "--snapshot", snap, "--var", "p"}},
+		{"cut.png", []string{"pics", "field", "--job", id, "--snapshot", snap, "--cut", "x", "--at", "5"}},
+	} {
+		args := tc.args
+		out := filepath.Join(outDir, tc.name)
+		var stdout, stderr bytes.Buffer
+		args = append(args, "--data", dir, "--out", out)
+		if code := runPlot(args, &stdout, &stderr); code != 0 {
+			t.Fatalf("plot %v: exit %d: %s", args, code, stderr.String())
+		}
+		if strings.TrimSpace(stdout.String()) != out {
+			t.Errorf("stdout %q, want the output path", stdout.String())
+		}
+		if strings.HasSuffix(out, ".png") {
+			checkPNG(t, out)
+		} else if b, _ := os.ReadFile(out); !bytes.Contains(b, []byte("<svg")) || !bytes.Contains(b, []byte("Linf(rho)")) {
+			t.Errorf("%s: not an SVG with the Linf axis label", out)
+		}
+	}
+}
+
+func TestPlotErrors(t *testing.T) {
+	dir, id, _ := plotRig(t)
+	out := filepath.Join(t.TempDir(), "x.png")
+	for _, tc := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"pics"}, 2, "want SWEEP and one of"},
+		{[]string{"pics", "histogram", "--out", out}, 2, `unknown plot "histogram"`},
+		{[]string{"pics", "convergence"}, 2, "--out FILE is required"},
+		{[]string{"pics", "convergence", "--out", "x.gif"}, 2, `unknown image format ".gif"`},
+		{[]string{"pics", "convergence", "--out", out, "--cut", "x"}, 2, "are for the field plot"},
+		{[]string{"pics", "field", "--out", out, "--cut", "z"}, 2, `--cut "z"`},
+		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 1, `norm "l7"`},
+		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
+		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
+		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
+		{[]string{"pics", "field", "--out", out, "--job", "ffff"}, 1, "no such job"},
+		{[]string{"pics", "field", "--out", out, "--job", id}, 1, "pass it with --snapshot FILE"},
+	} {
+		var stdout, stderr bytes.Buffer
+		args := append(tc.args, "--data", dir)
+		code := runPlot(args, &stdout, &stderr)
+		if code != tc.code || !strings.Contains(stderr.String(), tc.want) {
+			t.Errorf("plot %v: exit %d, stderr %q; want exit %d and %q", tc.args, code, stderr.String(), tc.code, tc.want)
+		}
+	}
+	var stdout, stderr bytes.Buffer
+	if code := runPlot([]string{"pics", "convergence", "--data", t.TempDir(), "--out", out}, &stdout, &stderr); code != 1 || !strings.Contains(stderr.String(), "no store at") {
+		t.Errorf("empty data dir: exit %d, %q", code, stderr.String())
+	}
+}
+
+func TestReportCommand(t *testing.T) {
+	dir, _, _ := plotRig(t)
+	out := filepath.Join(t.TempDir(), "rep")
+	var stdout, stderr bytes.Buffer
+	if code := runReport([]string{"pics", "--data", dir, "--out", out}, &stdout, &stderr); code != 0 {
+		t.Fatalf("report: exit %d: %s", code, stderr.String())
+	}
+	path := filepath.Join(out, "pics.html")
+	if strings.TrimSpace(stdout.String()) != path {
+		t.Errorf("stdout %q, want %q", stdout.String(), path)
+	}
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := string(b)
+	for _, want := range []string{"<h3>limiter=mc</h3>", "<h3>limiter=minmod</h3>", "<svg", "snapshot = true", "Verdict:", version} {
+		if !strings.Contains(html, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	if n := strings.Count(html, "<svg"); n != 2 {
+		t.Errorf("%d plots, want 2 (convergence and cost)", n)
+	}
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"pics", "--data", dir}, "--out DIR is required"},
+		{[]string{"--data", dir, "--out", out}, "want one SWEEP"},
+		{[]string{"../pics", "--data", dir, "--out", out}, "no path separators"},
+	} {
+		stderr.Reset()
+		if code := runReport(tc.args, &stdout, &stderr); code != 2 || !strings.Contains(stderr.String(), tc.want) {
+			t.Errorf("report %v: exit %d, %q; want %q", tc.args, code, stderr.String(), tc.want)
+		}
+	}
+}

@@ -1,0 +1,108 @@
+package main
+
+import (
+	"bytes"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"fvsweep/sweep/report"
+)
+
+const reportUsage = `usage: fvsweep report SWEEP --out DIR [--var V] [--norm l1|l2|linf] [--data DIR] [--nats URL]
+
+Writes DIR/SWEEP.html: one self-contained HTML file (no external files or
+links) with, per study, the convergence and work-precision plots as inline
+SVG and the convergence tables (h, error, observed order per pair, fitted
+order, verdict); the failures with their reasons; the spec as submitted;
+and the machine, Go and fvsweep versions. Results come from the running
+coordinator, or from the store in --data opened read-only.
+
+flags:
+  --out DIR          directory to write the report into (created if missing)
+  --var V            variable the tables judge (default: the study's, else
+                     the case's first)
+  --norm N           l1, l2 or linf (default: the study's, else l1)
+` + commonUsage
+
+func init() {
+	register(command{name: "report", summary: "write a self-contained HTML report of a sweep",
+		run: func(args []string) int { return runReport(args, os.Stdout, os.Stderr) }})
+}
+
+// judgeFlags are the flags plot and report add to the common ones: what
+// the tables judge.
+type judgeFlags struct{ v, norm string }
+
+func (j *judgeFlags) register(fs *flag.FlagSet) {
+	fs.StringVar(&j.v, "var", "", "")
+	fs.StringVar(&j.norm, "norm", "", "")
+}
+
+func (j judgeFlags) options() report.Options { return report.Options{Var: j.v, Norm: j.norm} }
+
+// runReport is the report command: exit code 0, 1 on failure, 2 on bad usage.
+func runReport(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("report", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	var jf judgeFlags
+	jf.register(fs)
+	out := fs.String("out", "", "")
+	bad := func(format string, a ...any) int {
+		fmt.Fprintf(stderr, "fvsweep report: "+format+"\n", a...)
+		return 2
+	}
+	names, err := parseArgs(fs, args)
+	if err == flag.ErrHelp {
+		fmt.Fprint(stdout, reportUsage)
+		return 0
+	} else if err != nil {
+		return bad("%v (see fvsweep report -h)", err)
+	}
+	if len(names) != 1 {
+		return bad("want one SWEEP, got %d (see fvsweep report -h)", len(names))
+	}
+	if *out == "" {
+		return bad("--out DIR is required")
+	}
+	if strings.ContainsAny(names[0], `/\`) {
+		return bad("sweep name %q: no path separators", names[0])
+	}
+	d, err := openSweep(&c, names[0])
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
+		return 1
+	}
+	studies, fails, _, err := d.tables(jf.options())
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
+		return 1
+	}
+	r := &report.Report{Sweep: names[0], SpecFile: d.specFile, Spec: d.spec, Failures: fails,
+		Machine: report.ThisMachine(version), Generated: time.Now()}
+	for _, s := range studies {
+		r.Studies = append(r.Studies, report.StudyReport{Study: s})
+	}
+	r.AddFigures()
+	var buf bytes.Buffer
+	if err := report.Write(&buf, r); err != nil {
+		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
+		return 1
+	}
+	if err := os.MkdirAll(*out, 0o755); err != nil {
+		fmt.Fprintf(stderr, "fvsweep report: --out: %v\n", err)
+		return 1
+	}
+	path := filepath.Join(*out, names[0]+".html")
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
+		return 1
+	}
+	fmt.Fprintln(stdout, path)
+	return 0
+}
