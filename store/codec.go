@@ -316,3 +316,138 @@ func (a *arena) alloc(n int) []byte {
 	a.block = a.block[:m+n]
 	return a.block[m : m+n : m+n]
 }
+
+// decodeJobFast decodes a job record in exactly the layout appendJob writes,
+// taking its strings from in, and reports false for anything else (escapes
+// included), which the caller then hands to DecodeJob. FuzzDecodeRecords
+// holds that whatever it accepts, DecodeJob decodes to the same job.
+func decodeJobFast(data []byte, in interner) (sweep.Job, bool) {
+	p := jobParser{data: data, in: in}
+	var j sweep.Job
+	ok := p.lit(`{"job_id":`) && p.str(&j.ID) &&
+		p.lit(`,"sweep":`) && p.str(&j.Sweep) &&
+		p.lit(`,"study":`) && p.int(&j.Study) &&
+		p.lit(`,"case":`) && p.str(&j.Case) &&
+		p.lit(`,"params":`) && p.params(&j.Params) &&
+		p.lit(`,"refine":`) && p.str(&j.Refine) &&
+		p.lit(`,"group":`) && p.str(&j.Group) &&
+		p.lit(`,"cost":`) && p.float(&j.Cost) &&
+		p.lit(`,"snapshot":`) && p.bool(&j.Snapshot) &&
+		p.lit(`}`) && len(p.data) == 0 &&
+		checkJob(j, j.Sweep) == nil
+	return j, ok
+}
+
+// jobParser consumes data from the front; each method reports whether the
+// next token is what it expects in appendJob's form.
+type jobParser struct {
+	data []byte
+	in   interner
+}
+
+func (p *jobParser) lit(s string) bool {
+	if !bytes.HasPrefix(p.data, []byte(s)) {
+		return false
+	}
+	p.data = p.data[len(s):]
+	return true
+}
+
+// str reads a string without escapes, control characters or invalid UTF-8.
+func (p *jobParser) str(dst *string) bool {
+	if len(p.data) == 0 || p.data[0] != '"' {
+		return false
+	}
+	end := bytes.IndexByte(p.data[1:], '"')
+	if end < 0 {
+		return false
+	}
+	raw := p.data[1 : 1+end]
+	for _, b := range raw {
+		if b < 0x20 || b == '\\' {
+			return false
+		}
+	}
+	if !utf8.Valid(raw) {
+		return false
+	}
+	*dst = p.in.bytes(raw)
+	p.data = p.data[end+2:]
+	return true
+}
+
+// token cuts the bytes up to the next ',' or '}'.
+func (p *jobParser) token() []byte {
+	n := bytes.IndexAny(p.data, ",}")
+	if n < 0 {
+		n = len(p.data)
+	}
+	t := p.data[:n]
+	p.data = p.data[n:]
+	return t
+}
+
+// int reads a decimal integer in its canonical form.
+func (p *jobParser) int(dst *int) bool {
+	t := p.token()
+	n, err := strconv.Atoi(string(t))
+	if err != nil || strconv.Itoa(n) != string(t) {
+		return false
+	}
+	*dst = n
+	return true
+}
+
+// float reads a number written exactly as appendFloat writes its value.
+func (p *jobParser) float(dst *float64) bool {
+	t := p.token()
+	f, err := strconv.ParseFloat(string(t), 64)
+	if err != nil || math.IsInf(f, 0) || !bytes.Equal(appendFloat(nil, f), t) {
+		return false
+	}
+	*dst = f
+	return true
+}
+
+func (p *jobParser) bool(dst *bool) bool {
+	switch {
+	case p.lit("true"):
+		*dst = true
+	case p.lit("false"):
+		*dst = false
+	default:
+		return false
+	}
+	return true
+}
+
+// params reads null or an object of string values with distinct keys.
+func (p *jobParser) params(dst *map[string]string) bool {
+	if p.lit("null") {
+		return true
+	}
+	if !p.lit("{") {
+		return false
+	}
+	end := bytes.IndexByte(p.data, '}')
+	if end < 0 {
+		return false
+	}
+	m := make(map[string]string, bytes.Count(p.data[:end], []byte(":"))) // a size hint
+
+	for first := true; !p.lit("}"); first = false {
+		var k, v string
+		if !first && !p.lit(",") {
+			return false
+		}
+		if !p.str(&k) || !p.lit(":") || !p.str(&v) {
+			return false
+		}
+		if _, dup := m[k]; dup {
+			return false
+		}
+		m[k] = v
+	}
+	*dst = m
+	return true
+}

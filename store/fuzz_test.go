@@ -3,13 +3,15 @@ package store
 import (
 	"bytes"
 	"encoding/json"
+	"reflect"
 	"testing"
 )
 
 // FuzzDecodeRecords feeds arbitrary bytes to the three record decoders. They
 // must return an error or a record, never panic; a record they accept must
 // survive an encode/decode round trip unchanged, and a job encodes to the
-// same bytes by appendJob as by encoding/json.
+// same bytes by appendJob as by encoding/json; what the fast job decoder
+// accepts, DecodeJob decodes to the same job.
 func FuzzDecodeRecords(f *testing.F) {
 	j := testJob("fz", 32, "minmod")
 	for _, v := range []any{
@@ -45,6 +47,12 @@ func FuzzDecodeRecords(f *testing.F) {
 			want, _ := json.Marshal(j)
 			if got, _ := appendJob(nil, &j, nil); !bytes.Equal(got, want) {
 				t.Fatalf("appendJob\n got %s\nwant %s", got, want)
+			}
+		}
+		if fast, ok := decodeJobFast(data, newInterner()); ok {
+			slow, err := DecodeJob(data)
+			if err != nil || !reflect.DeepEqual(fast, slow) {
+				t.Fatalf("decodeJobFast accepted %q as %+v; DecodeJob: %+v, %v", data, fast, slow, err)
 			}
 		}
 		if r, err := DecodeSweep(data); err == nil {

@@ -761,3 +761,30 @@ func TestAppendJobMatchesMarshal(t *testing.T) {
 		}
 	}
 }
+
+func TestDecodeJobFast(t *testing.T) {
+	in := newInterner()
+	var keys []string
+	jobs := append(benchJobs("sw", 20), sweep.Job{ID: "a", Case: "c", Params: nil, Cost: 1e-9}, sweep.Job{ID: "b", Case: "c", Params: map[string]string{}})
+	for _, j := range jobs {
+		var data []byte
+		data, keys = appendJob(nil, &j, keys)
+		got, ok := decodeJobFast(data, in)
+		if !ok || !reflect.DeepEqual(got, j) {
+			t.Fatalf("decodeJobFast(%s) = %+v, %v", data, got, ok)
+		}
+	}
+	// Not the fast layout: left to DecodeJob.
+	for _, s := range []string{
+		`{"job_id":"a\u0041","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
+		`{"job_id":"a","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0.0,"snapshot":false}`,
+		`{"job_id":"a","sweep":"","study":01,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
+		`{"job_id":"a","sweep":"","study":0,"case":"c","params":{"k":"1","k":"2"},"refine":"","group":"","cost":0,"snapshot":false}`,
+		`{"job_id":"a","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false} `,
+		`{"sweep":"","job_id":"a","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
+	} {
+		if j, ok := decodeJobFast([]byte(s), in); ok {
+			t.Errorf("decodeJobFast accepted %s as %+v", s, j)
+		}
+	}
+}

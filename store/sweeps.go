@@ -376,14 +376,17 @@ func readJobs(tx *bolt.Tx, name string, keep func(*sweep.Job) bool) ([]sweep.Job
 	in := newInterner()
 	var out []sweep.Job
 	err = b.ForEach(func(k, v []byte) error {
-		j, err := DecodeJob(v)
-		if err != nil {
-			return fmt.Errorf("store: sweep %q: job %q: %w", name, k, err)
+		j, ok := decodeJobFast(v, in)
+		if !ok {
+			var err error
+			if j, err = DecodeJob(v); err != nil {
+				return fmt.Errorf("store: sweep %q: job %q: %w", name, k, err)
+			}
+			in.job(&j)
 		}
 		if keep != nil && !keep(&j) {
 			return nil
 		}
-		in.job(&j)
 		out = append(out, j)
 		return nil
 	})
@@ -436,6 +439,16 @@ func (in interner) str(s string) string {
 	if t, ok := in[s]; ok {
 		return t
 	}
+	in[s] = s
+	return s
+}
+
+// bytes is str of string(b), allocating only for a string not seen before.
+func (in interner) bytes(b []byte) string {
+	if t, ok := in[string(b)]; ok {
+		return t
+	}
+	s := string(b)
 	in[s] = s
 	return s
 }
