@@ -1,0 +1,219 @@
+package main
+
+// Flags, logging, connections and data-directory handling shared by the
+// pipeline commands (run, serve, worker, submit, status, cancel, table,
+// export).
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"time"
+
+	"github.com/hashicorp/go-hclog"
+	"github.com/nats-io/nats.go"
+
+	"fvsweep/coordinator"
+	"fvsweep/store"
+	"fvsweep/sweep"
+)
+
+// Data directory layout.
+const (
+	dbFile      = "fvsweep.db"      // the store
+	natsDir     = "nats"            // the embedded server's JetStream files
+	urlFile     = "coordinator.url" // client URL of the running coordinator
+	defaultData = "fvsweep-data"
+)
+
+// common holds the flags every pipeline command takes.
+type common struct {
+	data     string
+	nats     string
+	logLevel string
+	logJSON  bool
+}
+
+// register adds --data, --nats, --log-level and --log-json to fs, with
+// defaults from FVSWEEP_DATA and FVSWEEP_NATS.
+func (c *common) register(fs *flag.FlagSet) {
+	data := os.Getenv("FVSWEEP_DATA")
+	if data == "" {
+		data = defaultData
+	}
+	fs.StringVar(&c.data, "data", data, "")
+	fs.StringVar(&c.nats, "nats", os.Getenv("FVSWEEP_NATS"), "")
+	fs.StringVar(&c.logLevel, "log-level", "info", "")
+	fs.BoolVar(&c.logJSON, "log-json", false, "")
+}
+
+const commonUsage = `  --data DIR         data directory: store, embedded NATS files, coordinator.url
+                     (default $FVSWEEP_DATA or ./fvsweep-data)
+  --nats URL         NATS server or cluster URL(s) (default $FVSWEEP_NATS)
+  --log-level LEVEL  trace, debug, info, warn or error (default info)
+  --log-json         log JSON lines instead of text
+`
+
+// logger returns the command's logger on stderr.
+func (c *common) logger(name string) (hclog.Logger, error) {
+	level := hclog.LevelFromString(c.logLevel)
+	if level == hclog.NoLevel {
+		return nil, fmt.Errorf("--log-level %q: want trace, debug, info, warn or error", c.logLevel)
+	}
+	return hclog.New(&hclog.LoggerOptions{Name: name, Level: level, JSONFormat: c.logJSON, Output: os.Stderr}), nil
+}
+
+// dialOptions are the connection settings from the flags; credentials and
+// TLS settings join them here.
+func (c *common) dialOptions(url, name string) coordinator.DialOptions {
+	return coordinator.DialOptions{URL: url, Name: name}
+}
+
+// dial connects to the NATS server at url.
+func (c *common) dial(url, name string) (*nats.Conn, error) {
+	return coordinator.Dial(c.dialOptions(url, name))
+}
+
+func (c *common) dbPath() string { return filepath.Join(c.data, dbFile) }
+
+// coordinatorURL is --nats, else the URL a running coordinator wrote into
+// the data directory, else "".
+func (c *common) coordinatorURL() string {
+	if c.nats != "" {
+		return c.nats
+	}
+	b, err := os.ReadFile(filepath.Join(c.data, urlFile))
+	if err != nil {
+		return ""
+	}
+	return strings.TrimSpace(string(b))
+}
+
+// source is where a query command reads from: a running coordinator, or
+// the store opened read-only.
+type source struct {
+	client *coordinator.Client
+	nc     *nats.Conn
+	db     *store.DB
+}
+
+func (s *source) close() {
+	if s.nc != nil {
+		s.nc.Close()
+	}
+	if s.db != nil {
+		s.db.Close()
+	}
+}
+
+// open finds the data: the coordinator when one answers, otherwise the
+// store in --data, read-only. With an explicit --nats and no coordinator
+// answering it still falls back to the store, if there is one.
+func (c *common) open(ctx context.Context) (*source, error) {
+	var coordErr error
+	if url := c.coordinatorURL(); url != "" {
+		nc, err := c.dial(url, "fvsweep client")
+		if err == nil {
+			cl := coordinator.NewClient(nc, sweep.Names{})
+			cl.Timeout = 3 * time.Second
+			if _, err = cl.Ping(ctx); err == nil {
+				cl.Timeout = 30 * time.Second
+				return &source{client: cl, nc: nc}, nil
+			}
+			nc.Close()
+		}
+		coordErr = err
+	}
+	db, err := store.Open(c.dbPath(), store.Options{ReadOnly: true, Timeout: 2 * time.Second})
+	if err != nil {
+		if coordErr != nil {
+			return nil, fmt.Errorf("%v; and %v", coordErr, err)
+		}
+		if errors.Is(err, os.ErrNotExist) {
+			return nil, fmt.Errorf("no coordinator running and no store at %s (see --data)", c.dbPath())
+		}
+		return nil, err
+	}
+	return &source{db: db}, nil
+}
+
+// parseArgs parses flags that may come before or after the positional
+// arguments and returns those. A help request returns flag.ErrHelp.
+func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
+	fs.SetOutput(io.Discard)
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		if fs.NArg() == 0 {
+			return pos, nil
+		}
+		pos, args = append(pos, fs.Arg(0)), fs.Args()[1:]
+	}
+}
+
+// usageErr reports a bad command line: exit code 2.
+func usageErr(cmd string, format string, a ...any) int {
+	fmt.Fprintf(os.Stderr, "fvsweep %s: %s (see fvsweep %s -h)\n", cmd, fmt.Sprintf(format, a...), cmd)
+	return 2
+}
+
+// parseCommand parses args for cmd; it prints usage on -h and returns
+// done=true with the exit code when the command should stop.
+func parseCommand(cmd, usage string, fs *flag.FlagSet, args []string, npos func(int) bool) (pos []string, code int, done bool) {
+	pos, err := parseArgs(fs, args)
+	if errors.Is(err, flag.ErrHelp) {
+		fmt.Print(usage)
+		return nil, 0, true
+	}
+	if err != nil {
+		return nil, usageErr(cmd, "%v", err), true
+	}
+	if !npos(len(pos)) {
+		return nil, usageErr(cmd, "unexpected arguments %q", pos), true
+	}
+	return pos, 0, false
+}
+
+// signals returns a context canceled on the first SIGINT or SIGTERM; a
+// second one calls again (if not nil) and a third exits at once.
+func signals(again func()) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	ch := make(chan os.Signal, 3)
+	signal.Notify(ch, os.Interrupt, syscall.SIGTERM)
+	go func() {
+		n := 0
+		for range ch {
+			n++
+			switch n {
+			case 1:
+				cancel()
+			case 2:
+				if again != nil {
+					again()
+				}
+			default:
+				os.Exit(130)
+			}
+		}
+	}()
+	return ctx, func() { signal.Stop(ch); cancel() }
+}
+
+// loadSpec reads and checks a spec file.
+func loadSpec(path string) (*sweep.Spec, error) {
+	return sweep.LoadSpec(path, sweep.DefaultLimits())
+}
+
+// parseSpec is the coordinator's parser of submitted specs.
+func parseSpec(file, src string) (*sweep.Spec, error) {
+	return sweep.ParseSpec(file, []byte(src), sweep.DefaultLimits())
+}

@@ -1,0 +1,154 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"github.com/hashicorp/go-hclog"
+	"github.com/nats-io/nats-server/v2/server"
+	"github.com/nats-io/nats.go"
+
+	"fvsweep/coordinator"
+	"fvsweep/store"
+	"fvsweep/sweep"
+)
+
+const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL]
+
+Runs the coordinator of the store in DIR: it takes submissions, queues jobs
+on NATS JetStream, stores the outcomes workers send back and answers status,
+table and export. Without --nats it starts an embedded NATS server with its
+JetStream files in DIR/nats, listening on --listen (default 127.0.0.1:4222).
+Workers join with 'fvsweep worker --nats URL'. The client URL is written to
+DIR/coordinator.url while it runs, so that the other commands find it.
+SIGINT or SIGTERM stops it after storing the outcomes in hand.
+
+flags:
+  --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222)
+` + commonUsage
+
+func init() {
+	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
+}
+
+// service is a running coordinator with its store and, unless an external
+// NATS server is used, its embedded server.
+type service struct {
+	srv   *server.Server // nil with --nats
+	nc    *nats.Conn
+	db    *store.DB
+	coord *coordinator.Coordinator
+	url   string // client URL
+	log   hclog.Logger
+
+	urlPath string
+	stop    context.CancelFunc
+	done    chan error
+}
+
+// startService opens the store read-write, starts the embedded server on
+// listen (unless c.nats is set), connects, and runs a coordinator.
+func startService(c *common, listen string, log hclog.Logger, onStored func([]sweep.Outcome)) (*service, error) {
+	db, err := store.Open(c.dbPath(), store.Options{})
+	if errors.Is(err, store.ErrInUse) {
+		return nil, fmt.Errorf("%w: another fvsweep run or serve uses %s; send it work with 'fvsweep submit'", err, c.data)
+	}
+	if err != nil {
+		return nil, err
+	}
+	s := &service{db: db, log: log, urlPath: filepath.Join(c.data, urlFile)}
+	o := c.dialOptions(c.nats, "fvsweep coordinator")
+	if c.nats == "" {
+		s.srv, err = coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(c.data, natsDir), Listen: listen, Log: log})
+		if err != nil {
+			db.Close()
+			return nil, err
+		}
+		o.InProcess = s.srv
+		s.url = s.srv.ClientURL()
+	} else {
+		s.url = c.nats
+	}
+	if s.nc, err = coordinator.Dial(o); err != nil {
+		s.close()
+		return nil, err
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	s.coord, err = coordinator.New(ctx, s.nc, db, coordinator.Config{
+		Log: log.Named("coordinator"), ParseSpec: parseSpec, OnStored: onStored,
+	})
+	if err != nil {
+		cancel()
+		s.close()
+		return nil, err
+	}
+	s.stop, s.done = cancel, make(chan error, 1)
+	go func() { s.done <- s.coord.Run(ctx) }()
+	if err := os.WriteFile(s.urlPath, []byte(s.url+"\n"), 0o644); err != nil {
+		log.Warn("cannot write the coordinator URL; other commands need --nats", "file", s.urlPath, "error", err)
+	}
+	return s, nil
+}
+
+// dial connects a local client (a worker of run) to the service's server.
+func (s *service) dial(c *common, name string) (*nats.Conn, error) {
+	o := c.dialOptions(s.url, name)
+	if s.srv != nil {
+		o.InProcess = s.srv
+	}
+	return coordinator.Dial(o)
+}
+
+// close stops the coordinator (storing the outcomes in hand), the server
+// and the store, and removes the URL file.
+func (s *service) close() error {
+	var err error
+	if s.stop != nil {
+		s.stop()
+		err = <-s.done
+		os.Remove(s.urlPath)
+	}
+	if s.nc != nil {
+		s.nc.Close()
+	}
+	if s.srv != nil {
+		s.srv.Shutdown()
+		s.srv.WaitForShutdown()
+	}
+	if cerr := s.db.Close(); err == nil {
+		err = cerr
+	}
+	return err
+}
+
+func runServe(args []string) int {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	listen := fs.String("listen", "127.0.0.1:4222", "")
+	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
+		return code
+	}
+	log, err := c.logger("fvsweep")
+	if err != nil {
+		return usageErr("serve", "%v", err)
+	}
+	ctx, release := signals(nil)
+	defer release()
+	s, err := startService(&c, *listen, log, nil)
+	if err != nil {
+		return fail("serve: %v", err)
+	}
+	log.Info("coordinator running", "nats", s.url, "store", c.dbPath())
+	fmt.Printf("coordinator: workers join with: fvsweep worker --nats %s\n", s.url)
+	<-ctx.Done()
+	log.Info("stopping")
+	if err := s.close(); err != nil {
+		return fail("serve: %v", err)
+	}
+	return 0
+}

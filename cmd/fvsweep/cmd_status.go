@@ -1,0 +1,121 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"fvsweep/coordinator"
+	"fvsweep/sweep"
+)
+
+const statusUsage = `usage: fvsweep status [SWEEP] [--json]
+
+Shows the jobs of SWEEP (of every sweep without it): total, done, failed,
+running and queued, and the live workers with their current jobs. It asks
+the running coordinator, or reads the store in --data when none runs (then
+nothing is running and no workers are listed).
+
+flags:
+  --json             print JSON: with SWEEP one object (sweep, jobs_total,
+                     done, failed, running, queued, canceled, workers), else
+                     {"sweeps": [...], "workers": [...]}
+` + commonUsage
+
+func init() {
+	register(command{name: "status", summary: "show the progress of sweeps and the live workers", run: runStatus})
+}
+
+// sweepStatusJSON is the --json object of one sweep.
+type sweepStatusJSON struct {
+	sweep.SweepStatus
+	Workers []sweep.WorkerReport `json:"workers"`
+}
+
+func runStatus(args []string) int {
+	fs := flag.NewFlagSet("status", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	asJSON := fs.Bool("json", false, "")
+	pos, code, done := parseCommand("status", statusUsage, fs, args, func(n int) bool { return n <= 1 })
+	if done {
+		return code
+	}
+	name := ""
+	if len(pos) == 1 {
+		name = pos[0]
+	}
+	src, err := c.open(context.Background())
+	if err != nil {
+		return fail("status: %v", err)
+	}
+	defer src.close()
+	var rep sweep.StatusReply
+	if src.client != nil {
+		rep, err = src.client.Status(context.Background(), name)
+	} else {
+		rep.Sweeps, err = coordinator.SweepStatuses(src.db, name, nil, nil)
+	}
+	if err != nil {
+		return fail("status: %v", err)
+	}
+	if rep.Workers == nil {
+		rep.Workers = []sweep.WorkerReport{}
+	}
+	if *asJSON {
+		var v any = rep
+		if name != "" && len(rep.Sweeps) == 1 {
+			v = sweepStatusJSON{rep.Sweeps[0], rep.Workers}
+		}
+		enc := json.NewEncoder(os.Stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(v); err != nil {
+			return fail("status: %v", err)
+		}
+		return 0
+	}
+	writeStatus(os.Stdout, rep, src.client != nil)
+	return 0
+}
+
+// writeStatus prints the status as text tables.
+func writeStatus(w io.Writer, rep sweep.StatusReply, live bool) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "sweep\tjobs\tdone\tfailed\trunning\tqueued\t\tupdated\t")
+	for _, s := range rep.Sweeps {
+		state := ""
+		if s.Canceled {
+			state = "canceled"
+		} else if s.Done+s.Failed == s.JobsTotal {
+			state = "complete"
+		}
+		fmt.Fprintf(tw, "%s\t%d\t%d\t%d\t%d\t%d\t%s\t%s\t\n", s.Sweep, s.JobsTotal, s.Done, s.Failed, s.Running, s.Queued,
+			state, s.Updated.Local().Format("2006-01-02 15:04"))
+	}
+	tw.Flush()
+	if !live {
+		fmt.Fprintln(w, "\nno coordinator running: read from the store")
+		return
+	}
+	fmt.Fprintf(w, "\n%d live workers\n", len(rep.Workers))
+	if len(rep.Workers) == 0 {
+		return
+	}
+	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "worker\thost\tcores\tslots\tdone\tfailed\tbusy\tcurrent jobs")
+	for _, r := range rep.Workers {
+		cur := make([]string, len(r.Current))
+		for i, j := range r.Current {
+			cur[i] = fmt.Sprintf("%s/%s (%s)", j.Sweep, j.JobID[:min(8, len(j.JobID))], time.Since(j.Since).Round(time.Second))
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%d\t%.0f%%\t%s\n", r.ID, r.Host, r.Cores, r.Concurrency, r.Done, r.Failed,
+			100*r.Busy, strings.Join(cur, " "))
+	}
+	tw.Flush()
+}

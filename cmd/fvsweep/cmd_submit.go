@@ -1,0 +1,62 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+
+	"fvsweep/sweep"
+)
+
+const submitUsage = `usage: fvsweep submit SPEC [--retry-failed]
+
+Sends the sweep spec SPEC to the running coordinator (found through
+DIR/coordinator.url or --nats), which queues every job that has no stored
+outcome, largest first. The spec is checked here first. Submitting the same
+(or an edited) spec again queues only the jobs not yet stored.
+
+flags:
+  --retry-failed     also run again the jobs whose stored outcome is failed
+` + commonUsage
+
+func init() {
+	register(command{name: "submit", summary: "queue a sweep spec on the running coordinator", run: runSubmit})
+}
+
+func runSubmit(args []string) int {
+	fs := flag.NewFlagSet("submit", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	retry := fs.Bool("retry-failed", false, "")
+	pos, code, done := parseCommand("submit", submitUsage, fs, args, func(n int) bool { return n == 1 })
+	if done {
+		return code
+	}
+	spec, err := loadSpec(pos[0])
+	if err != nil {
+		return fail("submit: %v", err)
+	}
+	src, err := c.open(context.Background())
+	if err != nil {
+		return fail("submit: %v", err)
+	}
+	defer src.close()
+	if src.client == nil {
+		return fail("submit: no coordinator is running for %s: start 'fvsweep serve' (or use 'fvsweep run %s')", c.data, pos[0])
+	}
+	rep, err := src.client.Submit(context.Background(), sweep.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
+	if err != nil {
+		return fail("submit: %v", err)
+	}
+	printSubmitted(rep)
+	return 0
+}
+
+// printSubmitted says what a submission did.
+func printSubmitted(rep sweep.SubmitReply) {
+	fmt.Printf("sweep %s: %d jobs, %d already stored, %d queued", rep.Sweep, rep.Jobs, rep.Stored, rep.Queued)
+	if rep.Retried > 0 {
+		fmt.Printf(" (%d failed ones again)", rep.Retried)
+	}
+	fmt.Println()
+}

@@ -1,0 +1,75 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"runtime"
+	"time"
+
+	"fvsweep/worker"
+)
+
+const workerUsage = `usage: fvsweep worker --nats URL [--concurrency N]
+
+Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
+serve'), N at a time, and sends back their outcomes. A worker may join or
+leave at any time. The first SIGINT or SIGTERM drains it: it takes no new
+jobs and finishes the running ones; a second one stops those too and returns
+them to the queue.
+
+flags:
+  --concurrency N    jobs run at once (default: the number of cores)
+  --id NAME          worker name in status and results (default host-pid-random)
+` + commonUsage
+
+func init() {
+	register(command{name: "worker", summary: "run jobs from a coordinator's queue", run: runWorker})
+}
+
+func runWorker(args []string) int {
+	fs := flag.NewFlagSet("worker", flag.ContinueOnError)
+	var c common
+	c.register(fs)
+	conc := fs.Int("concurrency", runtime.NumCPU(), "")
+	id := fs.String("id", "", "")
+	if _, code, done := parseCommand("worker", workerUsage, fs, args, func(n int) bool { return n == 0 }); done {
+		return code
+	}
+	if *conc < 1 {
+		return usageErr("worker", "--concurrency %d: want at least 1", *conc)
+	}
+	log, err := c.logger("fvsweep")
+	if err != nil {
+		return usageErr("worker", "%v", err)
+	}
+	url := c.coordinatorURL()
+	if url == "" {
+		return usageErr("worker", "no NATS URL: give --nats URL or set FVSWEEP_NATS")
+	}
+	nc, err := c.dial(url, "fvsweep worker")
+	if err != nil {
+		return fail("worker: %v", err)
+	}
+	defer nc.Close()
+	var w *worker.Worker
+	ctx, release := signals(func() {
+		if w != nil {
+			log.Warn("second signal: stopping running jobs, they go back to the queue")
+			w.Abort()
+		}
+	})
+	defer release()
+	w, err = worker.New(ctx, nc, worker.Config{ID: *id, Concurrency: *conc, Log: log.Named("worker")})
+	if err != nil {
+		return fail("worker: %v", err)
+	}
+	fmt.Printf("worker %s: %d slots on %s\n", w.ID(), *conc, url)
+	start := time.Now()
+	if err := w.Run(ctx); err != nil {
+		return fail("worker: %v", err)
+	}
+	st := w.Stats()
+	fmt.Printf("worker %s: %d done, %d failed in %s, busy %.0f%%\n", w.ID(), st.Done, st.Failed,
+		time.Since(start).Round(time.Second), 100*st.Busy)
+	return 0
+}
