@@ -337,9 +337,9 @@ type RowsReply struct {
 	Total    int    `json:"total"`
 	SpecFile string `json:"spec_file,omitempty"`
 	Spec     string `json:"spec,omitempty"`
-	Seq   int    `json:"seq"`
-	Last  bool   `json:"last"`
-	Error string `json:"error,omitempty"`
+	Seq      int    `json:"seq"`
+	Last     bool   `json:"last"`
+	Error    string `json:"error,omitempty"`
 }
 
 // CancelReply says what a cancel did.
