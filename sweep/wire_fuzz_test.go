@@ -1,0 +1,207 @@
+package sweep
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+// Fuzz targets for the decoders of the messages on the NATS subjects. Each
+// must never panic, must refuse what is over MaxMessage, and whatever it
+// accepts must survive a round trip through its encoder unchanged and
+// still satisfy the checks the decoder promises. Run in CI for a bounded
+// time each, e.g.
+//
+//	go test ./sweep -run '^$' -fuzz '^FuzzDecodeJob$' -fuzztime 20s
+
+var wireJob = Job{
+	ID: "0123456789abcdef0123456789abcdef", Sweep: "s", Study: 1, Case: "burgers-sine",
+	Params: map[string]string{"nx": "32", "t_end": "0.1"}, Refine: "nx", Group: "g", Cost: 1234.5,
+}
+
+var wireOutcome = Outcome{
+	JobID: wireJob.ID, Sweep: "s", Status: StatusDone, Worker: "w1", Attempts: 2, WallS: 0.25,
+	Steps: 10, TFinal: 0.1, Functionals: map[string]float64{"mass": 1},
+}
+
+func mustJSON(v any) []byte {
+	b, err := json.Marshal(v)
+	if err != nil {
+		panic(err)
+	}
+	return b
+}
+
+// hostile are messages that arrive on the subjects from a buggy or hostile
+// publisher; every decoder gets them all as seeds.
+func hostile() [][]byte {
+	return [][]byte{
+		nil,
+		[]byte("not json"),
+		[]byte("{"),
+		[]byte(`[]`),
+		[]byte(`null`),
+		[]byte(`{"job_id": 7}`),
+		[]byte(`{"job_id":"0123456789abcdef0123456789abcdef","extra":1}`),
+		[]byte(`{"job_id":"0123456789ABCDEF0123456789ABCDEF","sweep":"s","case":"c","params":{"a":"1"}}`),
+		[]byte(`{"job_id":"0123456789abcdef0123456789abcdef","sweep":"s","case":"c","params":{"a":"1"},"cost":1e999}`),
+		[]byte(`{"job_id":"0123456789abcdef0123456789abcdef","sweep":"s","case":"c","params":{"a":"1"},"cost":-1}`),
+		[]byte(`{"job_id":"0123456789abcdef0123456789abcdef","sweep":"s","status":"failed"}`),
+		[]byte(`{"job_id":"0123456789abcdef0123456789abcdef","sweep":"s","status":"maybe"}`),
+		append(mustJSON(wireJob), []byte(` {"again":1}`)...),
+		[]byte(`{"id":"a b","every":1}`),
+		[]byte(`{"id":"w","every":-5}`),
+		[]byte("\x00\xff\xfe"),
+		[]byte(`{"job_id":"` + strings.Repeat("a", 1000) + `"}`),
+	}
+}
+
+func FuzzDecodeJob(f *testing.F) {
+	f.Add(mustJSON(wireJob))
+	for _, b := range hostile() {
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		j, err := DecodeJob(data)
+		if err != nil {
+			if j.ID != "" || j.Params != nil {
+				t.Fatalf("refused job %q returned a partial value %+v", data, j)
+			}
+			return
+		}
+		if len(data) > MaxMessage || !ValidJobID(j.ID) || j.Sweep == "" || j.Case == "" || len(j.Params) == 0 ||
+			math.IsNaN(j.Cost) || math.IsInf(j.Cost, 0) || j.Cost < 0 {
+			t.Fatalf("accepted a job that breaks the contract: %+v", j)
+		}
+		again, err := DecodeJob(mustJSON(j))
+		if err != nil || !reflect.DeepEqual(again, j) {
+			t.Fatalf("round trip of %+v: %+v, %v", j, again, err)
+		}
+	})
+}
+
+func FuzzDecodeOutcome(f *testing.F) {
+	f.Add(mustJSON(wireOutcome))
+	failed := wireOutcome
+	failed.Status, failed.Error = StatusFailed, "diverged: negative density at step 4"
+	f.Add(mustJSON(failed))
+	for _, b := range hostile() {
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		o, err := DecodeOutcome(data)
+		if err != nil {
+			return
+		}
+		if len(data) > MaxMessage || !ValidJobID(o.JobID) || o.Sweep == "" || o.Attempts < 0 ||
+			(o.Status != StatusDone && o.Status != StatusFailed) || (o.Status == StatusFailed && o.Error == "") {
+			t.Fatalf("accepted an outcome that breaks the contract: %+v", o)
+		}
+		again, err := DecodeOutcome(mustJSON(o))
+		if err != nil || !reflect.DeepEqual(again, o) {
+			t.Fatalf("round trip of %+v: %+v, %v", o, again, err)
+		}
+	})
+}
+
+func FuzzDecodeWorkerReport(f *testing.F) {
+	f.Add(mustJSON(WorkerReport{ID: "host-1-abc", Host: "host", Cores: 8, Concurrency: 8, Every: 2e9, Done: 3,
+		Current: []RunningJob{{JobID: wireJob.ID, Sweep: "s"}}}))
+	for _, b := range hostile() {
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		r, err := DecodeWorkerReport(data)
+		if err != nil {
+			return
+		}
+		if !isToken(r.ID) || r.Every <= 0 {
+			t.Fatalf("accepted a report that breaks the contract: %+v", r)
+		}
+		again, err := DecodeWorkerReport(mustJSON(r))
+		if err != nil || !reflect.DeepEqual(again, r) {
+			t.Fatalf("round trip of %+v: %+v, %v", r, again, err)
+		}
+	})
+}
+
+// FuzzDecodeAPI covers the request and reply decoders of the API verbs.
+func FuzzDecodeAPI(f *testing.F) {
+	f.Add(mustJSON(SubmitRequest{File: "a.toml", Source: "name = \"x\"\n"}))
+	f.Add(mustJSON(RowsReply{Rows: []Row{{Job: wireJob, Status: "done", Outcome: &wireOutcome}}, Total: 1, Last: true}))
+	f.Add(mustJSON(StatusReply{Sweeps: []SweepStatus{{Sweep: "s", JobsTotal: 3, Done: 1}}}))
+	for _, b := range hostile() {
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		for _, v := range []any{&SubmitRequest{}, &SubmitReply{}, &SweepRequest{}, &StatusReply{}, &RowsReply{}, &CancelReply{}} {
+			if err := Decode("api", data, v); err != nil {
+				continue
+			}
+			if len(data) > MaxMessage {
+				t.Fatalf("accepted %d bytes", len(data))
+			}
+			w := reflect.New(reflect.TypeOf(v).Elem()).Interface()
+			if err := Decode("api", mustJSON(v), w); err != nil || !reflect.DeepEqual(v, w) {
+				t.Fatalf("round trip of %T %+v: %+v, %v", v, v, w, err)
+			}
+		}
+	})
+}
+
+func FuzzDecodeField(f *testing.F) {
+	good, err := EncodeField(FieldHeader{JobID: wireJob.ID, Vars: []string{"rho", "E"}, NX: 2, NY: 1, DX: 0.5, DY: 1},
+		[][]float32{{1, 2}, {3, float32(math.Inf(1))}})
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(good)
+	f.Add(good[:len(good)-1])
+	f.Add([]byte("FVF1\xff\xff\xff\xff"))
+	f.Add([]byte("FVF1\x02\x00\x00\x00{}"))
+	for _, b := range hostile() {
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		h, vals, err := DecodeField(data)
+		if err != nil {
+			return
+		}
+		if h.NX <= 0 || h.NY <= 0 || len(vals) != len(h.Vars) {
+			t.Fatalf("accepted a field that breaks the contract: %+v, %d variables", h, len(vals))
+		}
+		enc, err := EncodeField(h, vals)
+		if err != nil {
+			t.Fatalf("re-encoding an accepted field: %v", err)
+		}
+		h2, vals2, err := DecodeField(enc)
+		if err != nil || !reflect.DeepEqual(h2, h) || len(vals2) != len(vals) {
+			t.Fatalf("round trip: %+v, %v", h2, err)
+		}
+		for k := range vals {
+			for i := range vals[k] {
+				if math.Float32bits(vals[k][i]) != math.Float32bits(vals2[k][i]) {
+					t.Fatalf("round trip changed value %d of %s", i, h.Vars[k])
+				}
+			}
+		}
+	})
+}
+
+// TestDecodersRefuseOversize: a message over MaxMessage is refused before
+// it is parsed, whatever it holds.
+func TestDecodersRefuseOversize(t *testing.T) {
+	big := mustJSON(Job{ID: wireJob.ID, Sweep: "s", Case: "c", Params: map[string]string{"pad": strings.Repeat("x", MaxMessage)}})
+	if _, err := DecodeJob(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+		t.Errorf("job of %d bytes: %v", len(big), err)
+	}
+	if _, err := DecodeOutcome(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+		t.Errorf("result of %d bytes: %v", len(big), err)
+	}
+	if _, err := DecodeJob(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
+		t.Errorf("the good job is refused: %v", err)
+	}
+}
