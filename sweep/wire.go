@@ -229,6 +229,17 @@ func DecodeOutcome(data []byte) (Outcome, error) {
 	case o.Attempts < 0:
 		return Outcome{}, fmt.Errorf("result %s: negative attempts", o.JobID)
 	}
+	// An empty map and an absent one mean the same; keep one spelling so that
+	// a decoded outcome re-encodes to what it decodes from.
+	if len(o.Errors) == 0 {
+		o.Errors = nil
+	}
+	if len(o.Functionals) == 0 {
+		o.Functionals = nil
+	}
+	if len(o.Totals) == 0 {
+		o.Totals = nil
+	}
 	return o, nil
 }
 
