@@ -33,6 +33,8 @@ func TestReflectiveBoxConserves(t *testing.T) {
 		{"nx": "32", "ny": "24", "flux": "hll", "split": "lie"},
 		{"nx": "32", "ny": "24", "flux": "hllc", "recon": "conserved", "limiter": "superbee"},
 		{"nx": "32", "ny": "24", "flux": "rusanov", "scheme": "godunov", "alternate": "true"},
+		{"nx": "32", "ny": "24", "flux": "exact"},
+		{"nx": "32", "ny": "24", "flux": "roe"},
 	} {
 		s := newSolver(t, "test-box", kv)
 		init := s.State().Totals()

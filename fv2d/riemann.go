@@ -186,6 +186,14 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		}
 		pn := p - f/(dfl+dfr)
 		if dp := pn - p; math.Abs(dp) <= riemannTol*(pn+p) {
+			if (pn > pl) != (p > pl) || (pn > pr) != (p > pr) {
+				// The last step crossed p_K: the other branch of f_K holds
+				// at pn, so evaluate it there instead of extrapolating.
+				p = pn
+				fl, _, rL = pressureFn(gamma, p, rl, pl, s.AL)
+				fr, _, rR = pressureFn(gamma, p, rr, pr, s.AR)
+				break
+			}
 			// Converged: carry f_K and r_K to pn to first order (the error,
 			// O(dp^2), is below round-off).
 			fl += dfl * dp
