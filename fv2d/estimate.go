@@ -1,6 +1,11 @@
 package fv2d
 
-import "math"
+import (
+	"fmt"
+	"math"
+	"strings"
+	"sync"
+)
 
 // Cost is an estimate of the work and memory of one run, made without
 // running it.
@@ -30,40 +35,92 @@ const estimateSamples = 64
 func Estimate(v Values) Cost {
 	nx, ny := v.Int("nx"), v.Int("ny")
 	cost := Cost{Cells: nx * ny}
-	c, err := LookupCase(v.Case)
-	if err != nil {
-		return cost
-	}
-	p, err := c.Setup(v)
-	if err != nil || p.Initial == nil {
+	mx, my := min(nx, estimateSamples), min(ny, estimateSamples)
+	w, ok := waveSpeeds(v, mx, my)
+	if !ok {
 		return cost
 	}
 	g := 1
 	if v.Get("scheme") == "muscl" {
 		g = 2
 	}
-	nv := len(p.Eq.Vars())
-	state := int64(nv) * int64(nx+2*g) * int64(ny+2*g) * 8
-	cost.Bytes = state + int64(v.Int("threads"))*int64(nv)*blockCols*int64(ny+2*g)*8
-	if p.Exact != nil {
+	state := int64(w.nv) * int64(nx+2*g) * int64(ny+2*g) * 8
+	cost.Bytes = state + int64(v.Int("threads"))*int64(w.nv)*blockCols*int64(ny+2*g)*8
+	if w.exact {
 		cost.Bytes += state
 	}
 	tEnd := v.Float("t_end")
-	if p.TEnd > 0 {
-		tEnd = p.TEnd
+	if w.tEnd > 0 {
+		tEnd = w.tEnd
 	}
-	dx, dy := (p.X1-p.X0)/float64(nx), (p.Y1-p.Y0)/float64(ny)
-	mx, my := min(nx, estimateSamples), min(ny, estimateSamples)
-	sx, sy := sampleSpeeds(p, p.Initial, mx, my)
-	if p.Exact != nil && tEnd > 0 { // waves that the initial data do not show yet (shock tubes)
-		ex, ey := sampleSpeeds(p, func(x, y float64, w []float64) { p.Exact(x, y, tEnd, w) }, mx, my)
-		sx, sy = math.Max(sx, ex), math.Max(sy, ey)
-	}
-	rate := math.Max(sx/dx, sy/dy) / v.Float("cfl") // 1/dt
+	dx, dy := w.lx/float64(nx), w.ly/float64(ny)
+	rate := math.Max(w.sx/dx, w.sy/dy) / v.Float("cfl") // 1/dt
 	if tEnd > 0 {
 		cost.Steps = math.Max(1, math.Ceil(tEnd*rate))
 	}
 	return cost
+}
+
+// speeds is what Estimate needs of a problem: it depends on the case's
+// physical parameters and the sample grid, not on the grid or the scheme.
+type speeds struct {
+	sx, sy, tEnd, lx, ly float64
+	nv                   int
+	exact                bool
+}
+
+// solverOnly are the parameters that cannot change a case's problem.
+var solverOnly = map[string]bool{"nx": true, "ny": true, "threads": true, "max_steps": true, "cfl": true,
+	"scheme": true, "limiter": true, "flux": true, "split": true, "alternate": true, "recon": true, "quad": true}
+
+var (
+	speedMu    sync.Mutex
+	speedCache = map[string]speeds{}
+)
+
+// waveSpeeds returns the sampled wave speeds of the problem of v, set up and
+// sampled once per physical configuration: expanding a sweep of 100,000 runs
+// then costs one sampling per distinct problem, not per run.
+func waveSpeeds(v Values, mx, my int) (speeds, bool) {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s %d %d", v.Case, mx, my)
+	for _, k := range v.Keys() {
+		if !solverOnly[k] {
+			fmt.Fprintf(&b, " %s=%s", k, v.Get(k))
+		}
+	}
+	key := b.String()
+	speedMu.Lock()
+	w, ok := speedCache[key]
+	speedMu.Unlock()
+	if ok {
+		return w, true
+	}
+	c, err := LookupCase(v.Case)
+	if err != nil {
+		return speeds{}, false
+	}
+	p, err := c.Setup(v)
+	if err != nil || p.Initial == nil {
+		return speeds{}, false
+	}
+	w = speeds{tEnd: p.TEnd, lx: p.X1 - p.X0, ly: p.Y1 - p.Y0, nv: len(p.Eq.Vars()), exact: p.Exact != nil}
+	tEnd := v.Float("t_end")
+	if p.TEnd > 0 {
+		tEnd = p.TEnd
+	}
+	w.sx, w.sy = sampleSpeeds(p, p.Initial, mx, my)
+	if p.Exact != nil && tEnd > 0 { // waves that the initial data do not show yet (shock tubes)
+		ex, ey := sampleSpeeds(p, func(x, y float64, s []float64) { p.Exact(x, y, tEnd, s) }, mx, my)
+		w.sx, w.sy = math.Max(w.sx, ex), math.Max(w.sy, ey)
+	}
+	speedMu.Lock()
+	if len(speedCache) >= 4096 {
+		clear(speedCache)
+	}
+	speedCache[key] = w
+	speedMu.Unlock()
+	return w, true
 }
 
 // sampleSpeeds returns the largest wave speeds in x and y of the primitive
