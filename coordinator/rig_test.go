@@ -24,6 +24,7 @@ type rig struct {
 	t     testing.TB
 	dir   string
 	srv   *server.Server
+	url   string
 	nc    *nats.Conn
 	db    *store.DB
 	coord *coordinator.Coordinator
@@ -40,13 +41,22 @@ var testDelivery = coordinator.Delivery{AckWait: time.Second, MaxDeliver: 2}
 
 func newRig(t testing.TB, d coordinator.Delivery) *rig {
 	t.Helper()
-	r := &rig{t: t, dir: t.TempDir(), names: sweep.Names{}}
-	var err error
-	r.srv, err = coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(r.dir, "nats")})
+	srv, err := coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(t.TempDir(), "nats")})
 	if err != nil {
 		t.Fatal(err)
 	}
-	r.nc, err = coordinator.Dial(coordinator.DialOptions{URL: r.srv.ClientURL(), Name: "test coordinator"})
+	r := newRigAt(t, srv.ClientURL(), d)
+	r.srv = srv
+	return r
+}
+
+// newRigAt is a rig whose coordinator uses the NATS server at url (no
+// workers can be added unless r.srv is set).
+func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
+	t.Helper()
+	r := &rig{t: t, dir: t.TempDir(), names: sweep.Names{}, url: url}
+	var err error
+	r.nc, err = coordinator.Dial(coordinator.DialOptions{URL: url, Name: "test coordinator"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -94,7 +104,7 @@ func (w testWriter) Write(p []byte) (int, error) { w.t.Log(string(p)); return le
 // addWorker starts a worker with its own connection.
 func (r *rig) addWorker(conc int, run worker.Runner, tweak ...func(*worker.Config)) *worker.Worker {
 	r.t.Helper()
-	nc, err := coordinator.Dial(coordinator.DialOptions{URL: r.srv.ClientURL(), Name: "test worker"})
+	nc, err := coordinator.Dial(coordinator.DialOptions{URL: r.url, Name: "test worker"})
 	if err != nil {
 		r.t.Fatal(err)
 	}
@@ -129,8 +139,10 @@ func (r *rig) close() {
 	r.wg.Wait()
 	r.nc.Close()
 	r.db.Close()
-	r.srv.Shutdown()
-	r.srv.WaitForShutdown()
+	if r.srv != nil {
+		r.srv.Shutdown()
+		r.srv.WaitForShutdown()
+	}
 }
 
 func (r *rig) spec(src string) *sweep.Spec {

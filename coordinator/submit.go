@@ -18,12 +18,19 @@ import (
 // coordinator waits for their acks.
 const publishWindow = 2048
 
+// submitChunk is how many jobs Submit records and queues at a time.
+const submitChunk = 4096
+
 // Submit expands spec, records the sweep and its jobs in the store and
 // queues every job that has no stored outcome, largest estimated cost first.
 // With retryFailed, failed outcomes of the sweep are deleted first so that
 // those jobs run again. A canceled sweep is un-canceled. Submitting the same
 // spec twice queues nothing new: stored jobs are skipped, and a job still
 // queued or running is refused by the stream (one message per job subject).
+//
+// Jobs are recorded (one transaction each) and queued in chunks of
+// submitChunk, and each chunk's parameters are released once queued, so
+// that a large sweep is not held in memory twice.
 func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed bool) (sweep.SubmitReply, error) {
 	jobs, err := spec.Expand()
 	if err != nil {
@@ -31,67 +38,75 @@ func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed 
 	}
 	rep := sweep.SubmitReply{Sweep: spec.Name, Jobs: len(jobs)}
 	rec := store.SweepRecord{Name: spec.Name, SpecFile: spec.File, Spec: spec.Source}
-	if _, _, err := c.db.PutSweep(rec, jobs); err != nil {
-		return rep, err
-	}
 	// Job message IDs make a second publish of a job within the duplicate
 	// window a no-op. A sweep that was canceled (its queue purged) or whose
 	// failed jobs are retried must queue its jobs again: it gets fresh IDs.
 	msgID := func(id string) string { return id }
-	if retryFailed {
-		msgID = requeueID()
+	if old, err := c.db.Sweep(spec.Name); err == nil {
+		if old.Canceled {
+			msgID = requeueID()
+			if err := c.db.SetCanceled(spec.Name, false); err != nil {
+				return rep, err
+			}
+			if err := c.kv.Delete(ctx, sweep.SweepToken(spec.Name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
+				return rep, fmt.Errorf("clearing cancel mark: %w", err)
+			}
+		}
+		if retryFailed {
+			msgID = requeueID()
+			if rep.Retried, err = c.deleteFailed(spec.Name); err != nil {
+				return rep, err
+			}
+		}
 	}
-	if old, err := c.db.Sweep(spec.Name); err == nil && old.Canceled {
-		msgID = requeueID()
-		if err := c.db.SetCanceled(spec.Name, false); err != nil {
+	defer c.bump()
+	pub := c.newPublisher(ctx, msgID)
+	for start := 0; start == 0 || start < len(jobs); start += submitChunk {
+		chunk := jobs[start:min(start+submitChunk, len(jobs))]
+		if _, _, err := c.db.PutSweep(rec, chunk); err != nil {
 			return rep, err
 		}
-		if err := c.kv.Delete(ctx, sweep.SweepToken(spec.Name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
-			return rep, fmt.Errorf("clearing cancel mark: %w", err)
+		ids := make([]string, len(chunk))
+		for i, j := range chunk {
+			ids[i] = j.ID
 		}
-	}
-	ids := make([]string, len(jobs))
-	for i, j := range jobs {
-		ids[i] = j.ID
-	}
-	stored, err := c.db.Stored(ids)
-	if err != nil {
-		return rep, err
-	}
-	if retryFailed && len(stored) > 0 {
-		outs, err := c.db.Outcomes(spec.Name)
+		stored, err := c.db.Stored(ids)
 		if err != nil {
 			return rep, err
 		}
-		var failed []string
-		for id, o := range outs {
-			if o.Status == sweep.StatusFailed {
-				failed = append(failed, id)
-				delete(stored, id)
+		// Expand sorts by cost, largest first; the stream keeps that order.
+		for i := range chunk {
+			if stored[chunk[i].ID] {
+				rep.Stored++
+			} else if err := pub.add(chunk[i]); err != nil {
+				rep.Queued = pub.queued
+				return rep, err
 			}
-		}
-		if err := c.db.DeleteOutcomes(failed); err != nil {
-			return rep, err
-		}
-		rep.Retried = len(failed)
-	}
-	rep.Stored = len(stored)
-	// Expand sorts by cost, largest first; the stream keeps that order.
-	todo := jobs[:0:0]
-	for _, j := range jobs {
-		if !stored[j.ID] {
-			j.Sweep = spec.Name
-			todo = append(todo, j)
+			chunk[i].Params = nil
 		}
 	}
-	n, err := c.publish(ctx, todo, msgID)
-	rep.Queued = n
-	c.bump()
+	err = pub.wait()
+	rep.Queued = pub.queued
 	if err != nil {
 		return rep, err
 	}
 	c.log.Info("sweep submitted", "sweep", spec.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
 	return rep, nil
+}
+
+// deleteFailed deletes the failed outcomes of a sweep and counts them.
+func (c *Coordinator) deleteFailed(name string) (int, error) {
+	outs, err := c.db.Outcomes(name)
+	if err != nil {
+		return 0, err
+	}
+	var failed []string
+	for id, o := range outs {
+		if o.Status == sweep.StatusFailed {
+			failed = append(failed, id)
+		}
+	}
+	return len(failed), c.db.DeleteOutcomes(failed)
 }
 
 // requeueID returns message IDs unique to this moment.
@@ -100,47 +115,56 @@ func requeueID() func(string) string {
 	return func(id string) string { return id + suffix }
 }
 
-// publish queues jobs in order with asynchronous publishes, at most
+// publisher queues jobs in order with asynchronous publishes, at most
 // publishWindow in flight. A job refused because it is already queued (or
-// acknowledged as a duplicate) counts as queued. It returns how many are.
-func (c *Coordinator) publish(ctx context.Context, jobs []sweep.Job, msgID func(string) string) (int, error) {
-	queued := 0
-	futures := make([]jetstream.PubAckFuture, 0, publishWindow)
-	wait := func() error {
-		for _, f := range futures {
-			select {
-			case <-f.Ok():
-				queued++
-			case err := <-f.Err():
-				if !alreadyQueued(err) {
-					return fmt.Errorf("publishing %s: %w", f.Msg().Subject, err)
-				}
-				queued++
-			case <-ctx.Done():
-				return ctx.Err()
-			}
-		}
-		futures = futures[:0]
-		return nil
+// acknowledged as a duplicate) counts as queued.
+type publisher struct {
+	c       *Coordinator
+	ctx     context.Context
+	msgID   func(string) string
+	futures []jetstream.PubAckFuture
+	queued  int
+}
+
+func (c *Coordinator) newPublisher(ctx context.Context, msgID func(string) string) *publisher {
+	return &publisher{c: c, ctx: ctx, msgID: msgID, futures: make([]jetstream.PubAckFuture, 0, publishWindow)}
+}
+
+func (p *publisher) add(j sweep.Job) error {
+	data, err := sweep.EncodeJob(j)
+	if err != nil {
+		return fmt.Errorf("job %s: %w", j.ID, err)
 	}
-	for _, j := range jobs {
-		data, err := sweep.EncodeJob(j)
-		if err != nil {
-			return queued, fmt.Errorf("job %s: %w", j.ID, err)
-		}
-		f, err := c.js.PublishAsync(c.cfg.Names.JobSubject(j.Sweep, j.ID), data,
-			jetstream.WithMsgID(msgID(j.ID)), jetstream.WithExpectStream(c.cfg.Names.JobStream()))
-		if err != nil {
-			return queued, fmt.Errorf("publishing job %s: %w", j.ID, err)
-		}
-		futures = append(futures, f)
-		if len(futures) == publishWindow {
-			if err := wait(); err != nil {
-				return queued, err
+	n := p.c.cfg.Names
+	f, err := p.c.js.PublishAsync(n.JobSubject(j.Sweep, j.ID), data,
+		jetstream.WithMsgID(p.msgID(j.ID)), jetstream.WithExpectStream(n.JobStream()))
+	if err != nil {
+		return fmt.Errorf("publishing job %s: %w", j.ID, err)
+	}
+	p.futures = append(p.futures, f)
+	if len(p.futures) == publishWindow {
+		return p.wait()
+	}
+	return nil
+}
+
+// wait waits for the acks of the publishes in flight.
+func (p *publisher) wait() error {
+	for _, f := range p.futures {
+		select {
+		case <-f.Ok():
+			p.queued++
+		case err := <-f.Err():
+			if !alreadyQueued(err) {
+				return fmt.Errorf("publishing %s: %w", f.Msg().Subject, err)
 			}
+			p.queued++
+		case <-p.ctx.Done():
+			return p.ctx.Err()
 		}
 	}
-	return queued, wait()
+	p.futures = p.futures[:0]
+	return nil
 }
 
 // alreadyQueued reports whether a publish was refused because the job's
