@@ -22,8 +22,16 @@ type DialOptions struct {
 	InProcess nats.InProcessConnProvider
 	// Name is the connection name the server shows.
 	Name string
-	// Token authenticates with a token, if not empty.
+	// Token authenticates with a token, if not empty; with User set it is
+	// that user's password instead.
 	Token string
+	User  string
+	// CredsFile is a NATS credentials file (user JWT and nkey seed) and
+	// NKeyFile a file holding an nkey seed, for clusters set up with them.
+	CredsFile string
+	NKeyFile  string
+	// TLS: CA verifies the server; Cert and Key are a client certificate.
+	TLS TLSFiles
 	// Timeout bounds the first connection (default 5 s).
 	Timeout time.Duration
 }
@@ -41,9 +49,11 @@ func Dial(o DialOptions) (*nats.Conn, error) {
 		nats.MaxReconnects(-1),
 		nats.ReconnectWait(500 * time.Millisecond),
 	}
-	if o.Token != "" {
-		opts = append(opts, nats.Token(o.Token))
+	auth, err := o.authOptions()
+	if err != nil {
+		return nil, err
 	}
+	opts = append(opts, auth...)
 	url := o.URL
 	if o.InProcess != nil {
 		opts = append(opts, nats.InProcessServer(o.InProcess))
@@ -56,9 +66,65 @@ func Dial(o DialOptions) (*nats.Conn, error) {
 		if url == "" {
 			url = "embedded server"
 		}
+		if errors.Is(err, nats.ErrAuthorization) || errors.Is(err, nats.ErrAuthExpired) || errors.Is(err, nats.ErrAuthRevoked) {
+			return nil, fmt.Errorf("connecting to NATS at %s: the server refused the credentials (%s): %w", url, o.credentialsSaid(), err)
+		}
 		return nil, fmt.Errorf("connecting to NATS at %s: %w", url, err)
 	}
 	return nc, nil
+}
+
+// authOptions are the nats.go options for the credentials and TLS files.
+func (o DialOptions) authOptions() ([]nats.Option, error) {
+	var opts []nats.Option
+	n := 0
+	for _, s := range []string{o.Token, o.CredsFile, o.NKeyFile} {
+		if s != "" {
+			n++
+		}
+	}
+	if n > 1 {
+		return nil, errors.New("give one of --token, --creds and --nkey")
+	}
+	switch {
+	case o.User != "":
+		opts = append(opts, nats.UserInfo(o.User, o.Token))
+	case o.Token != "":
+		opts = append(opts, nats.Token(o.Token))
+	case o.CredsFile != "":
+		opts = append(opts, nats.UserCredentials(o.CredsFile))
+	case o.NKeyFile != "":
+		opt, err := nats.NkeyOptionFromSeed(o.NKeyFile)
+		if err != nil {
+			return nil, fmt.Errorf("--nkey %s: %w", o.NKeyFile, err)
+		}
+		opts = append(opts, opt)
+	}
+	if o.TLS.CA != "" {
+		opts = append(opts, nats.RootCAs(o.TLS.CA))
+	}
+	if o.TLS.Cert != "" || o.TLS.Key != "" {
+		if o.TLS.Cert == "" || o.TLS.Key == "" {
+			return nil, errors.New("a client certificate needs both --tls-cert and --tls-key")
+		}
+		opts = append(opts, nats.ClientCert(o.TLS.Cert, o.TLS.Key))
+	}
+	return opts, nil
+}
+
+// credentialsSaid names the credentials a refused connection presented.
+func (o DialOptions) credentialsSaid() string {
+	switch {
+	case o.User != "":
+		return fmt.Sprintf("user %q with --token", o.User)
+	case o.Token != "":
+		return "--token"
+	case o.CredsFile != "":
+		return "--creds " + o.CredsFile
+	case o.NKeyFile != "":
+		return "--nkey " + o.NKeyFile
+	}
+	return "none given: the server wants --token, --creds or --nkey (or FVSWEEP_TOKEN)"
 }
 
 // ErrNoCoordinator is returned (wrapped) by the Client when no coordinator
@@ -87,7 +153,10 @@ func (c *Client) request(ctx context.Context, verb string, timeout time.Duration
 	}
 	ctx, cancel := context.WithTimeout(ctx, timeout)
 	defer cancel()
-	m, err := c.nc.RequestWithContext(ctx, c.names.API(verb), data)
+	m, err := requestChecked(ctx, c.nc, c.names.API(verb), data)
+	if errors.Is(err, nats.ErrPermissionViolation) {
+		return fmt.Errorf("%s: %w", verb, err)
+	}
 	if errors.Is(err, nats.ErrNoResponders) || errors.Is(err, context.DeadlineExceeded) || errors.Is(err, nats.ErrTimeout) {
 		return fmt.Errorf("%s: %w (%v)", verb, ErrNoCoordinator, err)
 	}
@@ -108,7 +177,10 @@ func replyErr(s string) error {
 func (c *Client) Ping(ctx context.Context) (string, error) {
 	ctx, cancel := context.WithTimeout(ctx, c.Timeout)
 	defer cancel()
-	m, err := c.nc.RequestWithContext(ctx, c.names.API(sweep.VerbPing), nil)
+	m, err := requestChecked(ctx, c.nc, c.names.API(sweep.VerbPing), nil)
+	if errors.Is(err, nats.ErrPermissionViolation) {
+		return "", fmt.Errorf("ping: %w", err)
+	}
 	if err != nil {
 		return "", fmt.Errorf("ping: %w (%v)", ErrNoCoordinator, err)
 	}

@@ -22,6 +22,11 @@ type ServerOptions struct {
 	Name string
 	// Log receives the server's notices and errors (nil: discard).
 	Log hclog.Logger
+	// Access holds the tokens clients must present. Listening on an
+	// address other than loopback requires Access.Token.
+	Access Access
+	// TLS, if set, makes client connections use TLS (see TLSFiles).
+	TLS TLSFiles
 }
 
 // StartServer starts an in-process NATS server with JetStream and file
@@ -45,6 +50,15 @@ func StartServer(o ServerOptions) (*server.Server, error) {
 			port = n
 		}
 	}
+	if !IsLoopback(host) && o.Access.Token == "" {
+		return nil, fmt.Errorf("listening on %s needs credentials: give --token (and --worker-token for workers), or listen on 127.0.0.1", net.JoinHostPort(host, strconv.Itoa(port)))
+	}
+	if o.Access.WorkerToken != "" && o.Access.Token == "" {
+		return nil, fmt.Errorf("--worker-token needs --token: the coordinator's own secret")
+	}
+	if o.Access.WorkerToken != "" && o.Access.WorkerToken == o.Access.Token {
+		return nil, fmt.Errorf("--worker-token equals --token: a worker would get the coordinator's rights")
+	}
 	name := o.Name
 	if name == "" {
 		name = "fvsweep"
@@ -60,6 +74,17 @@ func StartServer(o ServerOptions) (*server.Server, error) {
 		// A 100,000-job sweep is published in one go; let the in-process
 		// and loopback clients have room.
 		MaxPending: 256 << 20,
+	}
+	if o.Access.Token != "" {
+		opts.CustomClientAuthentication = newTokenAuth(o.Access)
+	}
+	if o.TLS.set() {
+		cfg, err := serverTLS(o.TLS)
+		if err != nil {
+			return nil, err
+		}
+		opts.TLSConfig, opts.TLS, opts.TLSVerify = cfg, true, o.TLS.CA != ""
+		opts.TLSTimeout = 5
 	}
 	s, err := server.NewServer(opts)
 	if err != nil {

@@ -39,6 +39,10 @@ type common struct {
 	nats     string
 	logLevel string
 	logJSON  bool
+
+	// Credentials and TLS (coordinator.DialOptions).
+	token, user, creds, nkey string
+	tls                      coordinator.TLSFiles
 }
 
 // register adds --data, --nats, --log-level and --log-json to fs, with
@@ -50,6 +54,13 @@ func (c *common) register(fs *flag.FlagSet) {
 	}
 	fs.StringVar(&c.data, "data", data, "")
 	fs.StringVar(&c.nats, "nats", os.Getenv("FVSWEEP_NATS"), "")
+	fs.StringVar(&c.token, "token", os.Getenv("FVSWEEP_TOKEN"), "")
+	fs.StringVar(&c.user, "user", os.Getenv("FVSWEEP_USER"), "")
+	fs.StringVar(&c.creds, "creds", os.Getenv("FVSWEEP_CREDS"), "")
+	fs.StringVar(&c.nkey, "nkey", os.Getenv("FVSWEEP_NKEY"), "")
+	fs.StringVar(&c.tls.Cert, "tls-cert", os.Getenv("FVSWEEP_TLS_CERT"), "")
+	fs.StringVar(&c.tls.Key, "tls-key", os.Getenv("FVSWEEP_TLS_KEY"), "")
+	fs.StringVar(&c.tls.CA, "tls-ca", os.Getenv("FVSWEEP_TLS_CA"), "")
 	fs.StringVar(&c.logLevel, "log-level", "info", "")
 	fs.BoolVar(&c.logJSON, "log-json", false, "")
 }
@@ -57,6 +68,16 @@ func (c *common) register(fs *flag.FlagSet) {
 const commonUsage = `  --data DIR         data directory: store, embedded NATS files, coordinator.url
                      (default $FVSWEEP_DATA or ./fvsweep-data)
   --nats URL         NATS server or cluster URL(s) (default $FVSWEEP_NATS)
+  --token T          secret for the NATS server (default $FVSWEEP_TOKEN), or with
+                     --user that user's password; for serve and run the secret of
+                     the embedded server, required to --listen beyond loopback
+  --user NAME        NATS user, e.g. worker or coordinator on a cluster set up
+                     from deploy/nats (default $FVSWEEP_USER)
+  --creds FILE       NATS credentials file (default $FVSWEEP_CREDS)
+  --nkey FILE        file with an nkey seed (default $FVSWEEP_NKEY)
+  --tls-ca FILE      CA that signed the server's certificate (default $FVSWEEP_TLS_CA)
+  --tls-cert FILE    client certificate, with --tls-key, if the server wants one
+                     (defaults $FVSWEEP_TLS_CERT, $FVSWEEP_TLS_KEY)
   --log-level LEVEL  trace, debug, info, warn or error (default info)
   --log-json         log JSON lines instead of text
 `
@@ -73,7 +94,8 @@ func (c *common) logger(name string) (hclog.Logger, error) {
 // dialOptions are the connection settings from the flags; credentials and
 // TLS settings join them here.
 func (c *common) dialOptions(url, name string) coordinator.DialOptions {
-	return coordinator.DialOptions{URL: url, Name: name}
+	return coordinator.DialOptions{URL: url, Name: name, Token: c.token, User: c.user,
+		CredsFile: c.creds, NKeyFile: c.nkey, TLS: c.tls}
 }
 
 // dial connects to the NATS server at url.
@@ -128,6 +150,9 @@ func (c *common) open(ctx context.Context) (*source, error) {
 				return &source{client: cl, nc: nc}, nil
 			}
 			nc.Close()
+		}
+		if errors.Is(err, nats.ErrPermissionViolation) || errors.Is(err, nats.ErrAuthorization) {
+			return nil, err // the server answered: the store is not the fallback
 		}
 		coordErr = err
 	}

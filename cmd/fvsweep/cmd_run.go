@@ -40,7 +40,7 @@ flags:
   --listen HOST:PORT client address of the embedded server (default 127.0.0.1, a free port)
   --retry-failed     run again the jobs whose stored outcome is failed
   --format F         format of the tables at the end: text, markdown, csv, json or none
-` + commonUsage
+` + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "run", summary: "run a sweep on this machine: server, coordinator, workers, tables", run: runRun})
@@ -50,6 +50,8 @@ func runRun(args []string) int {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	var c common
 	c.register(fs)
+	var sf serverFlags
+	sf.register(fs)
 	nw := fs.Int("workers", 1, "")
 	conc := fs.Int("concurrency", 0, "")
 	listen := fs.String("listen", "", "")
@@ -82,7 +84,7 @@ func runRun(args []string) int {
 	if log.GetLevel() >= hclog.Info {
 		inner = hclog.New(&hclog.LoggerOptions{Name: "fvsweep", Level: hclog.Warn, JSONFormat: c.logJSON, Output: os.Stderr})
 	}
-	s, err := startService(&c, *listen, inner, nil)
+	s, err := startService(&c, &sf, *listen, inner, nil)
 	if err != nil {
 		return fail("run: %v", err)
 	}

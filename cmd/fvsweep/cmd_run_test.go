@@ -110,7 +110,7 @@ func TestCommandsAskRunningCoordinator(t *testing.T) {
 	data := filepath.Join(dir, "data")
 	c := &common{data: data, logLevel: "warn"}
 	log, _ := c.logger("test")
-	s, err := startService(c, "", log, nil)
+	s, err := startService(c, defaultServerFlags(), "", log, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

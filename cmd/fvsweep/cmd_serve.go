@@ -28,8 +28,9 @@ DIR/coordinator.url while it runs, so that the other commands find it.
 SIGINT or SIGTERM stops it after storing the outcomes in hand.
 
 flags:
-  --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222)
-` + commonUsage
+  --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222);
+                     any address but loopback needs --token
+` + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
@@ -52,7 +53,10 @@ type service struct {
 
 // startService opens the store read-write, starts the embedded server on
 // listen (unless c.nats is set), connects, and runs a coordinator.
-func startService(c *common, listen string, log hclog.Logger, onStored func([]sweep.Outcome)) (*service, error) {
+func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]sweep.Outcome)) (*service, error) {
+	if err := sf.check(); err != nil {
+		return nil, err
+	}
 	db, err := store.Open(c.dbPath(), store.Options{})
 	if errors.Is(err, store.ErrInUse) {
 		return nil, fmt.Errorf("%w: another fvsweep run or serve uses %s; send it work with 'fvsweep submit'", err, c.data)
@@ -63,12 +67,13 @@ func startService(c *common, listen string, log hclog.Logger, onStored func([]sw
 	s := &service{db: db, log: log, urlPath: filepath.Join(c.data, urlFile)}
 	o := c.dialOptions(c.nats, "fvsweep coordinator")
 	if c.nats == "" {
-		s.srv, err = coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(c.data, natsDir), Listen: listen, Log: log})
+		s.srv, err = coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(c.data, natsDir), Listen: listen, Log: log,
+			Access: sf.access(c), TLS: c.tls})
 		if err != nil {
 			db.Close()
 			return nil, err
 		}
-		o.InProcess = s.srv
+		o.InProcess, o.TLS = s.srv, coordinator.TLSFiles{}
 		s.url = s.srv.ClientURL()
 	} else {
 		s.url = c.nats
@@ -79,7 +84,7 @@ func startService(c *common, listen string, log hclog.Logger, onStored func([]sw
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	s.coord, err = coordinator.New(ctx, s.nc, db, coordinator.Config{
-		Log: log.Named("coordinator"), ParseSpec: parseSpec, OnStored: onStored,
+		Log: log.Named("coordinator"), ParseSpec: parseSpec, OnStored: onStored, Delivery: sf.delivery(),
 	})
 	if err != nil {
 		cancel()
@@ -98,7 +103,7 @@ func startService(c *common, listen string, log hclog.Logger, onStored func([]sw
 func (s *service) dial(c *common, name string) (*nats.Conn, error) {
 	o := c.dialOptions(s.url, name)
 	if s.srv != nil {
-		o.InProcess = s.srv
+		o.InProcess, o.TLS = s.srv, coordinator.TLSFiles{}
 	}
 	return coordinator.Dial(o)
 }
@@ -129,6 +134,8 @@ func runServe(args []string) int {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
 	var c common
 	c.register(fs)
+	var sf serverFlags
+	sf.register(fs)
 	listen := fs.String("listen", "127.0.0.1:4222", "")
 	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
 		return code
@@ -139,7 +146,7 @@ func runServe(args []string) int {
 	}
 	ctx, release := signals(nil)
 	defer release()
-	s, err := startService(&c, *listen, log, nil)
+	s, err := startService(&c, &sf, *listen, log, nil)
 	if err != nil {
 		return fail("serve: %v", err)
 	}
