@@ -171,9 +171,11 @@ var funcs = template.FuncMap{
 		}
 		return strconv.FormatFloat(v, 'g', 3, 64)
 	},
-	"norm":  NormLabel,
-	"when":  func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
-	"short": func(id string) string { return id[:min(12, len(id))] },
+	"norm":      NormLabel,
+	"phi":       FormatPhi,
+	"gciHeader": func() []string { return GCIHeader },
+	"when":      func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
+	"short":     func(id string) string { return id[:min(12, len(id))] },
 }
 
 var page = template.Must(template.New("page").Funcs(funcs).Parse(pageTemplate))
@@ -240,15 +242,21 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 {{end}}{{end}}
 
 {{define "head"}}<h2>Study {{.Index}}: {{.Case}}{{if .Label}} ({{.Label}}){{end}}</h2>
-<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. Error measure: {{norm .Norm .Var}}.</p>
+<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. {{if .Exact}}Error measure: {{norm .Norm .Var}}.{{else}}No exact solution: no errors or orders.{{end}}{{if .Functionals}} Functionals: {{range $i, $f := .Functionals}}{{if $i}}, {{end}}{{$f}}{{end}}, with the grid convergence index (Celik et al. 2008).{{end}}</p>
 {{end}}
 
 {{define "study"}}{{$st := .}}{{range .Groups}}
 <h3>{{.Label}}</h3>
 <table>
-<tr><th>nx</th><th>ny</th><th>h</th><th>{{norm $st.Norm $st.Var}}</th><th>observed order</th><th>wall s</th><th>status</th></tr>
-{{range .Rows}}<tr><td>{{.NX}}</td><td>{{.NY}}</td><td>{{num .H}}</td><td>{{num .Err}}</td><td>{{order .Order}}</td><td>{{secs .WallS}}</td><td class="t">{{.Status}}</td></tr>
+<tr><th>nx</th><th>ny</th><th>h</th>{{if $st.Exact}}<th>{{norm $st.Norm $st.Var}}</th><th>observed order</th>{{end}}{{range $st.Functionals}}<th>{{.}}</th>{{end}}<th>wall s</th><th>status</th></tr>
+{{range .Rows}}<tr><td>{{.NX}}</td><td>{{.NY}}</td><td>{{num .H}}</td>{{if $st.Exact}}<td>{{num .Err}}</td><td>{{order .Order}}</td>{{end}}{{range .Phi}}<td>{{phi .}}</td>{{end}}<td>{{secs .WallS}}</td><td class="t">{{.Status}}</td></tr>
 {{end}}</table>
-<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
+{{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
 <span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}</p>
-{{end}}{{end}}`
+{{end}}{{if .GCI}}<p>Grid convergence index (Celik et al. 2008), finest grid first; e_a, e_ext and GCI_fine relative to the fine-grid value:</p>
+{{with .GCICells}}<table>
+<tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
+{{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
+{{end}}</table>
+{{end}}{{range .GCINotes}}<p class="note">{{.}}</p>
+{{end}}{{end}}{{end}}{{end}}`

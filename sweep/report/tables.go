@@ -2,9 +2,13 @@
 // per study and per parameter group, and writes them with their plots, the
 // spec, the failures and the machine into one self-contained HTML file.
 //
-// The table model (Study, Group, GridRow, Failure) is plain data with JSON
-// tags, built by Build from jobs and outcomes alone, so that a live status
-// page can build it from a running sweep and render it with WriteTables.
+// The table model (Study, Group, GridRow, FunctionalGCI, Failure) is plain
+// data with JSON tags, built by Build from jobs and outcomes alone, so that a
+// live status page can build it from a running sweep and render it with
+// WriteTables. Cases with an exact solution are judged by their error norms
+// and observed orders; functionals of the solution (the only measure when
+// there is no exact solution) by the grid convergence index of Celik et al.
+// 2008 (sweep.GCI).
 package report
 
 import (
@@ -33,8 +37,13 @@ type GridRow struct {
 	// Order is the observed order between this grid and the next coarser
 	// one, NaN on the coarsest grid or where either error is missing.
 	Order float64 `json:"order"`
-	WallS float64 `json:"wall_s"`
-	CPUS  float64 `json:"cpu_s"` // wall seconds x threads
+	// Phi holds the value of each of Study.Functionals on this grid, NaN
+	// where the outcome reports none (not done yet, failed).
+	Phi   []float64 `json:"phi"`
+	WallS float64   `json:"wall_s"`
+	CPUS  float64   `json:"cpu_s"` // wall seconds x threads
+
+	hRep float64 // representative spacing of the GCI (see gciSpacing)
 }
 
 // Group is one convergence table: the runs of a study that differ only in
@@ -47,21 +56,32 @@ type Group struct {
 	Fitted  bool               `json:"fitted"`
 	Fit     sweep.Fit          `json:"fit"`
 	Verdict sweep.OrderVerdict `json:"verdict"`
+	// GCI is the solution verification of each of Study.Functionals over
+	// the group's finished grids, in the order of Study.Functionals.
+	GCI []FunctionalGCI `json:"gci,omitempty"`
 }
 
 // Study is the convergence tables of one [[study]] of a spec.
 type Study struct {
-	Index   int     `json:"index"` // 1-based
-	Label   string  `json:"label"`
-	Case    string  `json:"case"`
-	Var     string  `json:"var"`
-	Norm    string  `json:"norm"`
-	Design  float64 `json:"design_order"` // 0: from each group's scheme
-	Tol     float64 `json:"order_tol"`
-	Groups  []Group `json:"groups"`
-	Done    int     `json:"done"`
-	Failed  int     `json:"failed"`
-	Pending int     `json:"pending"`
+	Index  int     `json:"index"` // 1-based
+	Label  string  `json:"label"`
+	Case   string  `json:"case"`
+	Var    string  `json:"var"`
+	Norm   string  `json:"norm"`
+	Design float64 `json:"design_order"` // 0: from each group's scheme
+	Tol    float64 `json:"order_tol"`
+	// Exact tells whether the case has an exact solution, so that errors
+	// and orders exist at all.
+	Exact bool `json:"exact"`
+	// Functional is the functional the study or Options names, "" if none;
+	// Functionals are the ones the tables show: that one, or without one
+	// and without an exact solution every functional the case reports.
+	Functional  string   `json:"functional,omitempty"`
+	Functionals []string `json:"functionals,omitempty"`
+	Groups      []Group  `json:"groups"`
+	Done        int      `json:"done"`
+	Failed      int      `json:"failed"`
+	Pending     int      `json:"pending"`
 }
 
 // Failure is a job recorded as failed, with its reason.
@@ -77,9 +97,11 @@ type Failure struct {
 // Options choose what the tables judge. Empty fields take the study's
 // setting from the spec, and without a spec the first conserved variable of
 // the case, the L1 norm, the design order of the scheme and
-// sweep.DefaultOrderTol.
+// sweep.DefaultOrderTol. Functional applies to the studies whose results
+// report it; it is an error when no study's results do.
 type Options struct {
-	Var, Norm string
+	Var, Norm  string
+	Functional string
 }
 
 // Norms are the names Options.Norm accepts.
@@ -118,12 +140,13 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 	sort.Ints(idx)
 	var studies []Study
 	var fails []Failure
+	reported := map[string]bool{} // functionals any result reports, for the Options.Functional error
 	for _, k := range idx {
 		sj := byStudy[k]
 		st := Study{Index: k, Case: sj[0].Case, Tol: sweep.DefaultOrderTol, Norm: "l1"}
 		if spec != nil && k >= 1 && k <= len(spec.Studies) {
 			ss := spec.Studies[k-1]
-			st.Var, st.Design, st.Tol = ss.Var, ss.DesignOrder, ss.OrderTol
+			st.Var, st.Design, st.Tol, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.Functional
 			if ss.Label != ss.Case {
 				st.Label = ss.Label
 			}
@@ -142,6 +165,7 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 				st.Var = c.Equation().Vars()[0]
 			}
 		}
+		st.chooseFunctionals(sj, outcomes, o.Functional, reported)
 		if err := st.fill(sj, outcomes); err != nil {
 			return nil, nil, fmt.Errorf("study %d: %w", k, err)
 		}
@@ -152,6 +176,10 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 			}
 		}
 		studies = append(studies, st)
+	}
+	if f := o.Functional; f != "" && !reported[f] && len(reported) > 0 {
+		return nil, nil, fmt.Errorf("functional %q: no result reports it (they report %s)", f,
+			strings.Join(slices.Sorted(maps.Keys(reported)), ", "))
 	}
 	return studies, fails, nil
 }
@@ -173,14 +201,25 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 		gj := byGroup[ident]
 		g := Group{Ident: ident}
 		for _, j := range gj {
-			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]), H: spacing(j),
-				Status: "pending", Err: math.NaN(), Order: math.NaN()}
+			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]),
+				Status: "pending", Err: math.NaN(), Order: math.NaN(), Phi: make([]float64, len(st.Functionals))}
+			r.H, r.hRep = spacings(j, gj)
+			for i := range r.Phi {
+				r.Phi[i] = math.NaN()
+			}
 			if out, ok := outcomes[j.ID]; ok {
 				r.Status, r.WallS = out.Status, out.WallS
 				r.CPUS = out.WallS * math.Max(1, float64(atoi(j.Params["threads"])))
-				if n, ok := out.Errors[st.Var]; ok && out.Status == sweep.StatusDone {
-					r.Err = normOf(n, st.Norm)
-					seenVar = true
+				if out.Status == sweep.StatusDone {
+					if n, ok := out.Errors[st.Var]; ok {
+						r.Err = normOf(n, st.Norm)
+						seenVar = true
+					}
+					for i, name := range st.Functionals {
+						if v, ok := out.Functionals[name]; ok {
+							r.Phi[i] = v
+						}
+					}
 				}
 				for v := range out.Errors {
 					otherVars[v] = true
@@ -188,10 +227,13 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 			}
 			g.Rows = append(g.Rows, r)
 		}
-		sort.SliceStable(g.Rows, func(a, b int) bool { return g.Rows[a].H > g.Rows[b].H })
+		sort.SliceStable(g.Rows, func(a, b int) bool { return g.Rows[a].hRep > g.Rows[b].hRep })
 		g.Params = gj[0].Params
 		g.Label = label(g.Params, varying, st.Case)
 		st.judge(&g)
+		for i := range st.Functionals {
+			g.GCI = append(g.GCI, st.functionalGCI(&g, i))
+		}
 		st.Groups = append(st.Groups, g)
 		for _, r := range g.Rows {
 			switch r.Status {
@@ -212,7 +254,8 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 }
 
 // judge fills the observed orders, the least-squares fit and the verdict of
-// g from its rows.
+// g from its rows. The verdict's summary leaves out the status, which the
+// tables print beside it.
 func (st *Study) judge(g *Group) {
 	var hs, es []float64
 	for i := range g.Rows {
@@ -230,33 +273,75 @@ func (st *Study) judge(g *Group) {
 	if fit, err := sweep.FitOrder(hs, es); err == nil {
 		g.Fit, g.Fitted = fit, true
 	}
-	design, ok := st.Design, st.Design > 0
-	if !ok {
-		design, ok = sweep.DesignOrder(g.Params["scheme"])
-	}
-	if !ok {
+	design, ok := st.designOrder(g)
+	switch {
+	case !st.Exact:
+		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Design: design, Tol: st.Tol,
+			Summary: "no exact solution, so no errors to judge; the GCI of the functionals estimates the discretisation error"}
+		return
+	case !ok:
 		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Summary: "no design order: set design_order in the study"}
 		return
 	}
 	g.Verdict = sweep.Verdict(hs, es, design, st.Tol)
+	g.Verdict.Summary = strings.TrimPrefix(g.Verdict.Summary, g.Verdict.Status+": ")
 }
 
-// spacing is the grid spacing of a job in x, (X1 - X0) / nx, from the
-// case's domain; NaN when the case or its parameters are unknown here.
-func spacing(j sweep.Job) float64 {
+// designOrder is the study's design order, else that of the group's scheme.
+func (st *Study) designOrder(g *Group) (float64, bool) {
+	if st.Design > 0 {
+		return st.Design, true
+	}
+	return sweep.DesignOrder(g.Params["scheme"])
+}
+
+// problem sets up the case of j; nil when the case or its parameters are
+// unknown to this build.
+func problem(j sweep.Job) (*fv2d.Problem, fv2d.Values) {
 	v, err := fv2d.Resolve(j.Case, j.Params)
 	if err != nil {
-		return math.NaN()
+		return nil, v
 	}
 	c, err := fv2d.LookupCase(j.Case)
 	if err != nil {
-		return math.NaN()
+		return nil, v
 	}
 	p, err := c.Setup(v)
-	if err != nil || v.Int("nx") <= 0 {
-		return math.NaN()
+	if err != nil {
+		return nil, v
 	}
-	return (p.X1 - p.X0) / float64(v.Int("nx"))
+	return p, v
+}
+
+// spacings returns the grid spacing of job j in x, (X1 - X0) / nx, and the
+// representative spacing that the GCI compares between the grids of its
+// group gj: the geometric mean of the spacings of the refined directions,
+// (dx dy)^(1/2) when nx and ny both vary within the group (Celik et al.
+// 2008, eq. 1, h = (A/N)^(1/2) in 2-D), dx alone when only nx varies (a
+// strip refined along its length), dy alone when only ny varies. Both are
+// NaN when the case or its parameters are unknown here.
+func spacings(j sweep.Job, gj []sweep.Job) (h, hRep float64) {
+	p, v := problem(j)
+	if p == nil || v.Int("nx") <= 0 || v.Int("ny") <= 0 {
+		return math.NaN(), math.NaN()
+	}
+	dx := (p.X1 - p.X0) / float64(v.Int("nx"))
+	dy := (p.Y1 - p.Y0) / float64(v.Int("ny"))
+	varies := func(k string) bool {
+		for _, o := range gj {
+			if o.Params[k] != j.Params[k] {
+				return true
+			}
+		}
+		return false
+	}
+	switch vx, vy := varies("nx"), varies("ny"); {
+	case vx && vy:
+		return dx, math.Sqrt(dx * dy)
+	case vy:
+		return dx, dy
+	}
+	return dx, dx
 }
 
 // varyingKeys returns the parameters, other than the grid, whose values
