@@ -30,10 +30,11 @@ func ModuleRoot() (string, error) {
 	return filepath.Dir(mod), nil
 }
 
-// BuildBinary builds ./cmd/fvsweep of the module as a static linux binary
-// (CGO_ENABLED=0) into dir and returns its path. The go build cache makes
-// a second build of unchanged sources take a moment.
-func BuildBinary(dir string) (string, error) {
+// BuildBinary builds ./cmd/fvsweep of the module as a static binary
+// (CGO_ENABLED=0) for goos (and this machine's architecture) into dir and
+// returns its path. The go build cache makes a second build of unchanged
+// sources take a moment.
+func BuildBinary(dir, goos string) (string, error) {
 	root, err := ModuleRoot()
 	if err != nil {
 		return "", err
@@ -41,7 +42,7 @@ func BuildBinary(dir string) (string, error) {
 	out := filepath.Join(dir, "fvsweep")
 	cmd := exec.Command("go", "build", "-trimpath", "-buildvcs=false", "-o", out, "./cmd/fvsweep")
 	cmd.Dir = root
-	cmd.Env = append(os.Environ(), "CGO_ENABLED=0", "GOOS=linux")
+	cmd.Env = append(os.Environ(), "CGO_ENABLED=0", "GOOS="+goos)
 	if b, err := cmd.CombinedOutput(); err != nil {
 		return "", fmt.Errorf("building fvsweep: %w\n%s", err, b)
 	}
@@ -70,7 +71,7 @@ func binary() (string, error) {
 	if err != nil {
 		return "", err
 	}
-	p, err := BuildBinary(dir)
+	p, err := BuildBinary(dir, "linux")
 	if err != nil {
 		os.RemoveAll(dir)
 		return "", err
