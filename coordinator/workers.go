@@ -71,3 +71,14 @@ func (g *registry) runningIn(name string, now time.Time) int {
 	}
 	return n
 }
+
+// lastSeen maps each worker's ID to when its latest report came.
+func (g *registry) lastSeen() map[string]time.Time {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	out := make(map[string]time.Time, len(g.workers))
+	for id, s := range g.workers {
+		out[id] = s.at
+	}
+	return out
+}

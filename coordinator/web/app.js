@@ -1,0 +1,167 @@
+// fvsweep status page: polls the coordinator's JSON API and redraws.
+// Every text from the API goes into the page through textContent; the
+// one exception is the tables fragment, which the server renders with
+// html/template (escaped).
+"use strict";
+
+const pollEvery = 1000; // ms
+let chosen = decodeURIComponent(location.hash.slice(1)) || "";
+let lastTablesHTML = null;
+
+function el(tag, attrs, ...kids) {
+  const e = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs || {})) {
+    if (k === "class") e.className = v;
+    else if (k.startsWith("data-")) e.setAttribute(k, v);
+    else e[k] = v;
+  }
+  for (const k of kids) e.append(k instanceof Node ? k : document.createTextNode(String(k)));
+  return e;
+}
+
+async function getJSON(path) {
+  const r = await fetch(path, { credentials: "same-origin", cache: "no-store" });
+  let body;
+  try { body = await r.json(); } catch (e) { body = null; }
+  if (!r.ok) throw new Error((body && body.error) || r.status + " " + r.statusText);
+  return body;
+}
+
+function stateOf(s) {
+  if (s.canceled) return ["canceled", "canceled"];
+  if (s.done + s.failed >= s.jobs_total) return ["complete", "complete"];
+  if (s.running > 0) return ["active", "running"];
+  return ["waiting", "waiting for workers"];
+}
+
+function pct(n, total) { return total > 0 ? (100 * n / total).toFixed(2) + "%" : "0%"; }
+
+function drawSweeps(list) {
+  const box = document.getElementById("sweeps");
+  if (list.length === 0) {
+    box.replaceChildren(el("p", { class: "quiet" }, "No sweep submitted yet."));
+    return;
+  }
+  if (!list.some(s => s.sweep === chosen)) {
+    const active = list.find(s => s.done + s.failed < s.jobs_total && !s.canceled);
+    chosen = (active || list[list.length - 1]).sweep;
+  }
+  box.replaceChildren(...list.map(s => {
+    const [cls, word] = stateOf(s);
+    const bar = el("div", { class: "bar", title: `${s.done} done, ${s.failed} failed, ${s.running} running, ${s.queued} queued` });
+    for (const part of ["done", "failed", "running", "queued"]) {
+      const seg = el("span", { class: part });
+      seg.style.width = pct(s[part], s.jobs_total);
+      bar.append(seg);
+    }
+    const n = (k, label) => [el("b", { class: "n-" + k }, s[k]), " " + label];
+    const row = el("div", { class: "sweep" + (s.sweep === chosen ? " chosen" : ""), "data-sweep": s.sweep, tabIndex: 0 },
+      el("div", { class: "name" }, s.sweep, el("span", { class: "file" }, s.spec_file || "")),
+      bar,
+      el("span", { class: "state " + cls }, word),
+      el("div", { class: "counts" },
+        el("span", { class: "progress" }, `${s.done + s.failed} of ${s.jobs_total} jobs finished (${pct(s.done + s.failed, s.jobs_total)})`),
+        " · ", ...n("done", "done"), " · ", ...n("failed", "failed"), " · ", ...n("running", "running"),
+        " · ", ...n("queued", "queued"), " · updated " + new Date(s.updated).toLocaleTimeString()));
+    const choose = () => { chosen = s.sweep; location.hash = encodeURIComponent(s.sweep); lastTablesHTML = null; poll(); };
+    row.addEventListener("click", choose);
+    row.addEventListener("keydown", e => { if (e.key === "Enter" || e.key === " ") choose(); });
+    return row;
+  }));
+}
+
+function ago(seconds) {
+  if (seconds < 1) return "just now";
+  if (seconds < 90) return Math.round(seconds) + " s ago";
+  return Math.round(seconds / 60) + " min ago";
+}
+
+function drawWorkers(v) {
+  const body = document.querySelector("#workers tbody");
+  if (v.workers.length === 0) {
+    body.replaceChildren(el("tr", {}, el("td", { colSpan: 9, class: "quiet t" }, "No worker has reported.")));
+    return;
+  }
+  const now = new Date(v.now).getTime();
+  body.replaceChildren(...v.workers.map(w => {
+    const meter = el("span", { class: "meter" }, el("span"));
+    meter.firstChild.style.width = (100 * Math.min(1, Math.max(0, w.busy))).toFixed(0) + "%";
+    const jobs = (w.current || []).map(j =>
+      el("div", { class: "job" }, `${j.sweep}/${j.job_id.slice(0, 10)} (${Math.max(0, (now - new Date(j.since).getTime()) / 1000).toFixed(0)} s)`));
+    const interval = w.every / 1e9; // nanoseconds in the report
+    return el("tr", { "data-worker": w.id },
+      el("td", { class: "t" }, w.id), el("td", { class: "t" }, w.host), el("td", {}, w.cores), el("td", {}, w.concurrency),
+      el("td", {}, meter, (100 * w.busy).toFixed(0) + " %"), el("td", {}, w.done), el("td", {}, w.failed),
+      el("td", { class: "t" }, ...(jobs.length ? jobs : [el("span", { class: "quiet" }, "idle")])),
+      el("td", { class: w.seen_ago_s > 2 * interval ? "stale" : "" }, ago(w.seen_ago_s)));
+  }));
+}
+
+function drawFailures(fails) {
+  const box = document.getElementById("failures");
+  if (fails.length === 0) { box.replaceChildren(); return; }
+  const rows = fails.map(f => el("tr", {},
+    el("td", { class: "t job" }, f.job_id.slice(0, 12)), el("td", {}, f.study), el("td", { class: "t wrap params" }, f.params),
+    el("td", {}, f.attempts), el("td", { class: "t" }, f.worker || "–"), el("td", { class: "t wrap reason" }, f.error)));
+  box.replaceChildren(el("div", { class: "failures" },
+    el("h3", {}, `${fails.length} failed job${fails.length === 1 ? "" : "s"}`),
+    el("table", {}, el("thead", {}, el("tr", {}, ...["job", "study", "parameters", "attempts", "worker", "reason"].map((h, i) =>
+      el("th", { class: i === 1 || i === 3 ? "" : "t" }, h)))), el("tbody", {}, ...rows))));
+}
+
+async function drawTables() {
+  const note = document.getElementById("detail-note");
+  const title = document.getElementById("h-detail");
+  if (!chosen) return;
+  title.textContent = "Convergence: " + chosen;
+  try {
+    const v = await getJSON("api/sweeps/" + encodeURIComponent(chosen) + "/tables");
+    const pending = v.studies.reduce((n, s) => n + s.pending, 0);
+    note.className = "quiet";
+    note.textContent = pending > 0
+      ? `${pending} grid${pending === 1 ? "" : "s"} still to come; the tables fill in as results are stored.`
+      : "Every grid has a result.";
+    drawFailures(v.failures);
+    if (v.html !== lastTablesHTML) {
+      document.getElementById("tables").innerHTML = v.html; // rendered and escaped by the server
+      lastTablesHTML = v.html;
+    }
+  } catch (e) {
+    note.className = "error";
+    note.textContent = "Tables unavailable: " + e.message;
+  }
+}
+
+let timer = null;
+let polls = 0;
+let busy = false, again = false;
+
+// poll fetches and redraws once, then again after pollEvery; a call while
+// one is in flight (a click) makes it run once more at its end.
+async function poll() {
+  if (busy) { again = true; return; }
+  busy = true;
+  clearTimeout(timer);
+  const pulse = document.getElementById("pulse");
+  try {
+    const [st, ws] = await Promise.all([getJSON("api/sweeps"), getJSON("api/workers")]);
+    drawSweeps(st.sweeps);
+    drawWorkers(ws);
+    await drawTables();
+    pulse.className = "pulse";
+    pulse.textContent = `${ws.workers.length} worker${ws.workers.length === 1 ? "" : "s"} live · refreshed ${new Date().toLocaleTimeString()}`;
+    document.body.dataset.polls = String(++polls);
+  } catch (e) {
+    pulse.className = "pulse lost";
+    pulse.textContent = "coordinator not reachable (" + e.message + "); retrying";
+  }
+  busy = false;
+  if (again) { again = false; poll(); return; }
+  timer = setTimeout(poll, pollEvery);
+}
+
+window.addEventListener("hashchange", () => {
+  const h = decodeURIComponent(location.hash.slice(1));
+  if (h && h !== chosen) { chosen = h; lastTablesHTML = null; poll(); }
+});
+poll();

@@ -1,0 +1,358 @@
+package coordinator_test
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"net/http"
+	"net/http/httptest"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/chromedp/chromedp"
+
+	"fvsweep/coordinator"
+	"fvsweep/fv2d"
+	"fvsweep/sweep"
+	"fvsweep/worker"
+)
+
+// webSpec is a grid-convergence study of the Burgers sine wave before the
+// shock (3 grids) and one job stopped by the step guard, a failure with a
+// reason.
+const webSpec = `name = "live"
+[[study]]
+case = "burgers-sine"
+fixed = { t_end = 0.05 }
+refine = { nx = [16, 32, 64] }
+[[study]]
+case = "burgers-sine"
+fixed = { t_end = 0.05, nx = 16, max_steps = 1 }
+`
+
+// gated is a runner that holds every job until release is closed, then
+// solves it.
+func gated(release <-chan struct{}) worker.Runner {
+	return func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+		select {
+		case <-release:
+		case <-ctx.Done():
+			return sweep.Outcome{}, nil, ctx.Err()
+		}
+		return worker.Solve(ctx, j)
+	}
+}
+
+// get fetches path from h as a client on host would and decodes a JSON
+// answer into v (if not nil); it returns the response.
+func get(t *testing.T, h http.Handler, host, path string, v any, hdr ...string) *http.Response {
+	t.Helper()
+	req := httptest.NewRequest("GET", path, nil)
+	req.Host = host
+	for i := 0; i+1 < len(hdr); i += 2 {
+		req.Header.Set(hdr[i], hdr[i+1])
+	}
+	rec := httptest.NewRecorder()
+	h.ServeHTTP(rec, req)
+	res := rec.Result()
+	if v != nil && res.StatusCode == http.StatusOK {
+		if err := json.NewDecoder(res.Body).Decode(v); err != nil {
+			t.Fatalf("GET %s: %v", path, err)
+		}
+	}
+	return res
+}
+
+// The JSON API gives what the coordinator's own queries give: the status
+// of every sweep and of one, the live workers, and tables that fill in.
+func TestWebAPIMatchesCoordinator(t *testing.T) {
+	r := newRig(t, testDelivery)
+	release := make(chan struct{})
+	r.addWorker(2, gated(release))
+	r.submit(webSpec)
+	h := r.coord.WebHandler("")
+	const host = "127.0.0.1:8080"
+
+	// Two jobs held by the worker: running, and the tables have no errors yet.
+	deadline := time.Now().Add(10 * time.Second)
+	var one coordinator.SweepView
+	for {
+		if res := get(t, h, host, "/api/sweeps/live/status", &one); res.StatusCode != http.StatusOK {
+			t.Fatalf("status: %s", res.Status)
+		}
+		if one.Running == 2 || time.Now().After(deadline) {
+			break
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	if one.Sweep != "live" || one.JobsTotal != 4 || one.Running != 2 || one.Queued != 2 || len(one.Workers) != 1 {
+		t.Fatalf("status while held: %+v", one)
+	}
+	var tv coordinator.TablesView
+	get(t, h, host, "/api/sweeps/live/tables", &tv)
+	if len(tv.Studies) != 2 || tv.Studies[0].Pending != 3 || tv.Studies[0].Groups[0].Rows[0].Err != nil {
+		t.Fatalf("tables while held: %+v", tv.Studies)
+	}
+	var ws coordinator.WorkersView
+	get(t, h, host, "/api/workers", &ws)
+	if len(ws.Workers) != 1 || len(ws.Workers[0].Current) != 2 || ws.Workers[0].SeenAgoS > 1 {
+		t.Fatalf("workers: %+v", ws)
+	}
+
+	close(release)
+	r.wait("live", 4, 20*time.Second)
+	var all sweep.StatusReply
+	for deadline := time.Now().Add(2 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+		// Counts are cached for up to 250 ms while outcomes arrive.
+		get(t, h, host, "/api/sweeps", &all)
+		if len(all.Sweeps) == 1 && all.Sweeps[0].Done+all.Sweeps[0].Failed == 4 || time.Now().After(deadline) {
+			break
+		}
+	}
+	want, err := r.coord.Status("")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(all.Sweeps, want) || all.Sweeps[0].Done != 3 || all.Sweeps[0].Failed != 1 {
+		t.Fatalf("/api/sweeps %+v, coordinator %+v", all.Sweeps, want)
+	}
+	// The tables are rebuilt at most once a second while outcomes arrive.
+	time.Sleep(1100 * time.Millisecond)
+	get(t, h, host, "/api/sweeps/live/tables", &tv)
+	built, err := r.coord.Tables("live")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if tv.HTML != built.HTML || !strings.Contains(tv.HTML, "<table>") || len(tv.Failures) != 1 {
+		t.Fatalf("tables: %d failures, html\n%s", len(tv.Failures), tv.HTML)
+	}
+	if !strings.Contains(tv.Failures[0].Reason, "step guard") {
+		t.Errorf("failure reason %q", tv.Failures[0].Reason)
+	}
+	g := tv.Studies[0].Groups[0]
+	if len(g.Rows) != 3 || g.Order == nil || g.Rows[2].Err == nil || g.Rows[2].Order == nil {
+		t.Fatalf("finished group %+v", g)
+	}
+	// Common practice: a MUSCL scheme on a smooth solution converges at
+	// close to second order; the page only shows what report.Build says.
+	if *g.Order < 1.5 || *g.Order > 2.5 {
+		t.Errorf("fitted order %.3f for MUSCL on the smooth Burgers wave", *g.Order)
+	}
+	if res := get(t, h, host, "/api/sweeps/nosuch/tables", nil); res.StatusCode != http.StatusNotFound {
+		t.Errorf("unknown sweep: %s", res.Status)
+	}
+	res := get(t, h, host, "/", nil)
+	body, _ := io.ReadAll(res.Body)
+	if res.StatusCode != http.StatusOK || !strings.Contains(string(body), `src="app.js"`) {
+		t.Errorf("page: %s\n%s", res.Status, body)
+	}
+	for _, asset := range []string{"/app.js", "/style.css"} {
+		res := get(t, h, host, asset, nil)
+		b, _ := io.ReadAll(res.Body)
+		if res.StatusCode != http.StatusOK || strings.Contains(string(b), "http://") || strings.Contains(string(b), "https://") {
+			t.Errorf("%s: %s, or it names an outside address", asset, res.Status)
+		}
+	}
+}
+
+// Without a token only loopback addresses are served; with one, every
+// request needs it, as a bearer token or a cookie set by ?token=.
+func TestWebAccess(t *testing.T) {
+	r := newRig(t, testDelivery)
+	open := r.coord.WebHandler("")
+	for host, code := range map[string]int{
+		"127.0.0.1:8080": 200, "localhost:8080": 200, "[::1]:8080": 200, "localhost": 200,
+		"attacker.example:8080": http.StatusMisdirectedRequest, "10.1.2.3:8080": http.StatusMisdirectedRequest,
+	} {
+		if res := get(t, open, host, "/api/sweeps", nil); res.StatusCode != code {
+			t.Errorf("no token, Host %s: %s, want %d", host, res.Status, code)
+		}
+	}
+	const tok = "s3cret-token"
+	h := r.coord.WebHandler(tok)
+	const host = "10.1.2.3:8080"
+	for _, c := range []struct {
+		name string
+		hdr  []string
+		code int
+	}{
+		{"none", nil, http.StatusUnauthorized},
+		{"bearer", []string{"Authorization", "Bearer " + tok}, http.StatusOK},
+		{"wrong bearer", []string{"Authorization", "Bearer nope"}, http.StatusUnauthorized},
+		{"cookie", []string{"Cookie", coordinator.WebTokenCookie + "=" + tok}, http.StatusOK},
+		{"wrong cookie", []string{"Cookie", coordinator.WebTokenCookie + "=nope"}, http.StatusUnauthorized},
+	} {
+		if res := get(t, h, host, "/api/workers", nil, c.hdr...); res.StatusCode != c.code {
+			t.Errorf("%s: %s, want %d", c.name, res.Status, c.code)
+		}
+	}
+	res := get(t, h, host, "/?token="+tok+"&x=1", nil)
+	if res.StatusCode != http.StatusSeeOther || res.Header.Get("Location") != "/?x=1" {
+		t.Fatalf("?token=: %s to %q", res.Status, res.Header.Get("Location"))
+	}
+	ck := res.Cookies()
+	if len(ck) != 1 || ck[0].Value != tok || !ck[0].HttpOnly || ck[0].SameSite != http.SameSiteStrictMode {
+		t.Fatalf("cookie %+v", ck)
+	}
+	if res := get(t, h, host, "/?token=nope", nil); res.StatusCode != http.StatusUnauthorized {
+		t.Errorf("wrong ?token=: %s", res.Status)
+	}
+
+	for addr, ok := range map[string]bool{"127.0.0.1:0": true, "localhost:0": true, "0.0.0.0:0": false, ":0": false, "nonsense": false} {
+		w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: addr})
+		if (err == nil) != ok {
+			t.Errorf("ServeWeb %q without a token: error %v", addr, err)
+		}
+		if err == nil {
+			w.Close()
+		}
+	}
+	w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: "0.0.0.0:0", Token: tok})
+	if err != nil {
+		t.Fatalf("ServeWeb on all addresses with a token: %v", err)
+	}
+	defer w.Close()
+	req, _ := http.NewRequest("GET", strings.Replace(w.URL(), "0.0.0.0", "127.0.0.1", 1)+"api/sweeps", nil)
+	req.Header.Set("Authorization", "Bearer "+tok)
+	resp, err := http.DefaultClient.Do(req)
+	if err != nil || resp.StatusCode != http.StatusOK {
+		t.Fatalf("over TCP: %v %v", err, resp)
+	}
+	resp.Body.Close()
+}
+
+// browser starts Debian's chromium headless, or skips the test when it
+// is not installed.
+func browser(t *testing.T) context.Context {
+	t.Helper()
+	path, err := exec.LookPath("chromium")
+	if err != nil {
+		t.Skip("chromium is not installed (apt-get install chromium): the status page is not driven in a browser")
+	}
+	opts := append(chromedp.DefaultExecAllocatorOptions[:],
+		chromedp.ExecPath(path),
+		chromedp.Headless,
+		chromedp.NoSandbox,
+		chromedp.DisableGPU,
+		chromedp.Flag("disable-background-networking", true),
+		chromedp.UserDataDir(t.TempDir()),
+	)
+	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
+	ctx, cancelTab := chromedp.NewContext(actx)
+	ctx, cancelTime := context.WithTimeout(ctx, 20*time.Second)
+	t.Cleanup(func() { cancelTime(); cancelTab(); cancelAlloc() })
+	return ctx
+}
+
+// waitFor polls a JavaScript expression in the page until it is true.
+func waitFor(ctx context.Context, what, expr string, within time.Duration) error {
+	_, err := chromedp.Run(ctx, chromedp.Poll[bool](expr, chromedp.WithPollingTimeout(within), chromedp.WithPollingInterval(50*time.Millisecond)))
+	if err != nil {
+		return fmt.Errorf("waiting for %s: %w", what, err)
+	}
+	return nil
+}
+
+// text is the visible text of the element sel selects, or the error.
+func text(ctx context.Context, sel string) string {
+	s, err := chromedp.Run(ctx, chromedp.Text(chromedp.CSS(sel)))
+	if err != nil {
+		return err.Error()
+	}
+	return s
+}
+
+// shot saves a picture of the whole page as DIR/status-page-NAME.png when
+// FVSWEEP_WEB_SHOTS=DIR is set, to look at the page.
+func shot(t *testing.T, ctx context.Context, name string) {
+	dir := os.Getenv("FVSWEEP_WEB_SHOTS")
+	if dir == "" {
+		return
+	}
+	png, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
+	if err == nil {
+		err = os.WriteFile(filepath.Join(dir, "status-page-"+name+".png"), png, 0o644)
+	}
+	if err != nil {
+		t.Errorf("screenshot %s: %v", name, err)
+	}
+}
+
+// The page in a real browser: a held sweep shows its running jobs and the
+// worker running them; once released, the finished convergence table and
+// the failure with its reason appear, as the server builds them.
+func TestWebPageInBrowser(t *testing.T) {
+	ctx := browser(t)
+	r := newRig(t, testDelivery)
+	release := make(chan struct{})
+	r.addWorker(2, gated(release))
+	r.submit(webSpec)
+	const tok = "page-token"
+	w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: "127.0.0.1:0", Token: tok})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer w.Close()
+
+	start := time.Now()
+	if err := chromedp.Do(ctx, chromedp.Navigate(w.URL()+"?token="+tok)); err != nil {
+		t.Fatal(err)
+	}
+	sweepRow := `document.querySelector('#sweeps [data-sweep="live"]')`
+	err = waitFor(ctx, "2 running jobs", sweepRow+`?.querySelector('.n-running')?.textContent === "2"`, 10*time.Second)
+	progress, workers := text(ctx, "#sweeps"), text(ctx, "#workers tbody")
+	if err != nil {
+		t.Fatalf("%v\nsweeps: %s\nworkers: %s", err, progress, workers)
+	}
+	if !strings.Contains(progress, "0 of 4 jobs finished") || !strings.Contains(progress, "2 queued") || !strings.Contains(progress, "running") {
+		t.Errorf("progress while held: %q", progress)
+	}
+	if err := waitFor(ctx, "the worker's jobs", `document.querySelectorAll('#workers tbody .job').length === 2`, 5*time.Second); err != nil {
+		t.Error(err)
+	}
+	workers = text(ctx, "#workers tbody")
+	if !strings.Contains(workers, "live/") || strings.Contains(workers, "No worker") {
+		t.Errorf("workers while held: %q", workers)
+	}
+	t.Logf("running sweep shown after %v", time.Since(start).Round(time.Millisecond))
+	shot(t, ctx, "running")
+
+	close(release)
+	err = waitFor(ctx, "the finished tables",
+		`(() => { const t = document.querySelector('#tables'); return !!t && t.querySelectorAll('table').length === 2 &&
+			!t.textContent.includes('pending</td>') && t.textContent.includes('Fitted order') &&
+			document.querySelector('#failures')?.textContent.includes('step guard'); })()`, 15*time.Second)
+	tables, fails := text(ctx, "#tables"), text(ctx, "#failures")
+	progress = text(ctx, "#sweeps")
+	if err != nil {
+		t.Fatalf("%v\ntables: %s\nfailures: %s", err, tables, fails)
+	}
+	if !strings.Contains(progress, "4 of 4 jobs finished") || !strings.Contains(progress, "complete") {
+		t.Errorf("progress when finished: %q", progress)
+	}
+	// The table in the page is the one the server builds from the store.
+	built, err := r.coord.Tables("live")
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := built.Studies[0].Groups[0]
+	for _, row := range g.Rows {
+		if cell := fmt.Sprintf("%.3e", *row.Err); !strings.Contains(tables, cell) {
+			t.Errorf("page lacks the error %s of nx=%d:\n%s", cell, row.NX, tables)
+		}
+	}
+	if cell := fmt.Sprintf("Fitted order %.2f", *g.Order); !strings.Contains(tables, cell) {
+		t.Errorf("page lacks %q:\n%s", cell, tables)
+	}
+	if !strings.Contains(fails, "1 failed job") {
+		t.Errorf("failures: %q", fails)
+	}
+	t.Logf("finished tables shown %v after the start", time.Since(start).Round(time.Millisecond))
+	shot(t, ctx, "finished")
+}
