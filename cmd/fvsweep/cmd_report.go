@@ -13,13 +13,14 @@ import (
 	"fvsweep/sweep/report"
 )
 
-const reportUsage = `usage: fvsweep report SWEEP --out DIR [--var V] [--norm l1|l2|linf] [--data DIR] [--nats URL]
+const reportUsage = `usage: fvsweep report SWEEP --out DIR [--var V] [--norm l1|l2|linf] [--functional NAME] [--data DIR] [--nats URL]
 
 Writes DIR/SWEEP.html: one self-contained HTML file (no external files or
 links) with, per study, the convergence and work-precision plots as inline
 SVG and the convergence tables (h, error, observed order per pair, fitted
-order, verdict); the failures with their reasons; the spec as submitted;
-and the machine, Go and fvsweep versions. Results come from the running
+order, verdict; for functionals their values and grid convergence index,
+as in fvsweep table); the failures with their reasons; the spec as
+submitted; and the machine, Go and fvsweep versions. Results come from the running
 coordinator, or from the store in --data opened read-only.
 
 flags:
@@ -27,6 +28,8 @@ flags:
   --var V            variable the tables judge (default: the study's, else
                      the case's first)
   --norm N           l1, l2 or linf (default: the study's, else l1)
+  --functional NAME  functional for the GCI, in the studies whose runs report
+                     it (default: the study's functional)
 ` + commonUsage
 
 func init() {
@@ -53,6 +56,7 @@ func runReport(args []string, stdout, stderr io.Writer) int {
 	var jf judgeFlags
 	jf.register(fs)
 	out := fs.String("out", "", "")
+	functional := fs.String("functional", "", "")
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep report: "+format+"\n", a...)
 		return 2
@@ -78,7 +82,9 @@ func runReport(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
 		return 1
 	}
-	studies, fails, _, err := d.tables(jf.options())
+	o := jf.options()
+	o.Functional = *functional
+	studies, fails, _, err := d.tables(o)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
 		return 1

@@ -115,8 +115,12 @@ func checkXML(s string) error {
 func (r *Report) AddFigures() {
 	for i := range r.Studies {
 		sr := &r.Studies[i]
+		if !sr.Exact {
+			sr.Notes = append(sr.Notes, "no exact solution, so no error plots; the GCI tables estimate the discretisation error")
+			continue
+		}
 		if !sr.HasErrors() {
-			sr.Notes = append(sr.Notes, "no errors to plot yet (no exact solution, or no finished grid)")
+			sr.Notes = append(sr.Notes, "no errors to plot yet (no finished grid)")
 			continue
 		}
 		for _, mk := range []struct {
