@@ -14,14 +14,7 @@ import (
 // outcome whose functionals are phi(job) (nil: none reported).
 func functionalSweep(t *testing.T, src string, phi func(j sweep.Job) map[string]float64) (*sweep.Spec, []sweep.Job, map[string]sweep.Outcome) {
 	t.Helper()
-	spec, err := sweep.ParseSpec("gci.toml", []byte(src), sweep.Limits{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	jobs, err := spec.Expand()
-	if err != nil {
-		t.Fatal(err)
-	}
+	spec, jobs := parseExpand(t, "gci.toml", src)
 	outs := map[string]sweep.Outcome{}
 	for _, j := range jobs {
 		outs[j.ID] = sweep.Outcome{JobID: j.ID, Sweep: "gci", Status: sweep.StatusDone, Attempts: 1, WallS: 0.01,

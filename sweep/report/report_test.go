@@ -35,14 +35,7 @@ refine = { nx = [16, 32] }
 // except one failed job and one left pending.
 func fakeOutcomes(t *testing.T) (*sweep.Spec, []sweep.Job, map[string]sweep.Outcome) {
 	t.Helper()
-	spec, err := sweep.ParseSpec("rep.toml", []byte(testSpec), sweep.Limits{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	jobs, err := spec.Expand()
-	if err != nil {
-		t.Fatal(err)
-	}
+	spec, jobs := parseExpand(t, "rep.toml", testSpec)
 	outs := map[string]sweep.Outcome{}
 	for _, j := range jobs {
 		h := 10 / float64(atoi(j.Params["nx"]))
@@ -168,6 +161,20 @@ func TestSeries(t *testing.T) {
 	if x := cost[0].X[0]; x != outs[studies[0].Groups[0].Rows[0].JobID].WallS {
 		t.Errorf("cost x %g", x)
 	}
+}
+
+// parseExpand parses the spec src and expands it into its jobs.
+func parseExpand(t *testing.T, file, src string) (*sweep.Spec, []sweep.Job) {
+	t.Helper()
+	spec, err := sweep.ParseSpec(file, []byte(src), sweep.Limits{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	jobs, err := spec.Expand()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return spec, jobs
 }
 
 func sampleReport(t *testing.T) *Report {
