@@ -54,12 +54,13 @@ func runSweep(b *testing.B, r *rig, name string, n, from int) time.Duration {
 }
 
 // BenchmarkThroughputTrivial measures end to end throughput, spec to
-// stored outcome, of jobs that do no work, with 2 local workers. Each
-// iteration is a sweep of 20,000 new jobs.
+// stored outcome, of jobs that do no work, with 2 local workers at their
+// default concurrency (a slot per core; FVSWEEP_BENCH_CONCURRENCY sets
+// another). Each iteration is a sweep of 20,000 new jobs.
 func BenchmarkThroughputTrivial(b *testing.B) {
 	const n = 20000
 	r := newRig(b, testDelivery)
-	conc := 64
+	conc := 0
 	if s := os.Getenv("FVSWEEP_BENCH_CONCURRENCY"); s != "" {
 		conc, _ = strconv.Atoi(s)
 	}
@@ -136,7 +137,8 @@ func BenchmarkMemory100k(b *testing.B) {
 }
 
 // TestHelperServerAndWorkers is the child process of BenchmarkMemory100k:
-// an embedded server and 2 trivial workers of 64 slots, until stdin closes.
+// an embedded server and 2 trivial workers at their default concurrency,
+// until stdin closes.
 func TestHelperServerAndWorkers(t *testing.T) {
 	dir := os.Getenv("FVSWEEP_HELPER_DIR")
 	if dir == "" {
@@ -158,7 +160,7 @@ func TestHelperServerAndWorkers(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w, err := worker.New(ctx, nc, worker.Config{Concurrency: 64, Run: trivial})
+			w, err := worker.New(ctx, nc, worker.Config{Run: trivial})
 			if err == nil {
 				w.Run(ctx)
 			}

@@ -62,18 +62,35 @@ type Config struct {
 	// RetryDelay is how long a failed attempt waits before its next
 	// delivery (default 1 s).
 	RetryDelay time.Duration
-	// FetchWait bounds one pull request (default 1 s); a drain waits at most
-	// this long for the fetch in flight.
+	// FetchWait bounds one pull request (default 1 s).
 	FetchWait time.Duration
+	// Prefetch is the most jobs held in a local buffer beyond the running
+	// ones (default 4 x Concurrency), fetched ahead in batches so that a
+	// short job does not wait for a round trip to the server. The buffer
+	// holds about holdFor of work at the mean run time so far, and none
+	// before the first job ends: a worker does not sit on big jobs that
+	// another one could start, and "largest first" keeps its meaning.
+	// Buffered jobs get in-progress heartbeats too and go back to the queue
+	// on a drain.
+	Prefetch int
+	// Pending is the most outcomes published and not yet acknowledged by
+	// the server (default 256). A job is acked only once the server has
+	// acknowledged its outcome.
+	Pending int
 	// DrainTimeout is how long a drain lets running jobs finish before they
 	// are stopped and returned to the queue (0: until they finish).
 	DrainTimeout time.Duration
 	Log          hclog.Logger
 }
 
-// Worker pulls jobs from the shared durable consumer, runs up to
-// Concurrency of them at once, publishes each outcome on the results stream
-// and acks the job only once the outcome is stored by the server.
+// holdFor is about how much work, at the mean run time so far, the
+// prefetch buffer holds per slot.
+const holdFor = 200 * time.Millisecond
+
+// Worker pulls jobs from the shared durable consumer into a small buffer,
+// runs up to Concurrency of them at once, publishes each outcome on the
+// results stream and acks the job only once the outcome is stored by the
+// server.
 type Worker struct {
 	cfg        Config
 	nc         *nats.Conn
@@ -86,18 +103,32 @@ type Worker struct {
 	host       string
 	started    time.Time
 
-	slots chan struct{}
-	wg    sync.WaitGroup
+	queue chan jetstream.Msg // fetched, not yet taken by a slot
+	held  atomic.Int64       // buffered or running
+	freed chan struct{}      // a slot finished a job (capacity 1)
+	acks  chan pending       // outcomes published, waiting for the server
+	wg    sync.WaitGroup     // slots
 	abort context.CancelFunc
 	base  context.Context
 
 	mu       sync.Mutex
 	tasks    map[uint64]*task
+	buffered map[jetstream.Msg]time.Time // in queue: delivery or last heartbeat
 	next     uint64
 	canceled map[string]bool // sweep tokens
 
 	done, failed atomic.Int64
 	busy         atomic.Int64 // nanoseconds spent in Run, all slots
+	meanRun      atomic.Int64 // running mean of a job's run time, ns; 0 before the first
+}
+
+// pending is a job whose outcome was published and is not yet acknowledged.
+type pending struct {
+	msg    jetstream.Msg
+	ack    jetstream.PubAckFuture
+	job    string
+	status string
+	reason string
 }
 
 // task is a job being run.
@@ -105,6 +136,7 @@ type task struct {
 	job    sweep.Job
 	msg    jetstream.Msg
 	since  time.Time
+	beat   time.Time // delivery or last in-progress heartbeat
 	cancel context.CancelFunc
 	ctx    context.Context
 	swept  atomic.Bool // its sweep was canceled
@@ -129,6 +161,12 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 	if cfg.FetchWait <= 0 {
 		cfg.FetchWait = time.Second
 	}
+	if cfg.Prefetch <= 0 {
+		cfg.Prefetch = 4 * cfg.Concurrency
+	}
+	if cfg.Pending <= 0 {
+		cfg.Pending = 256
+	}
 	if cfg.Log == nil {
 		cfg.Log = hclog.NewNullLogger()
 	}
@@ -136,12 +174,17 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 	if cfg.ID == "" {
 		cfg.ID = token(host) + "-" + strconv.Itoa(os.Getpid()) + "-" + strings.ToLower(nuid.Next()[16:])
 	}
-	js, err := jetstream.New(nc)
+	// Snapshots (object store chunks) publish asynchronously on the same
+	// context, hence the margin over Pending.
+	js, err := jetstream.New(nc, jetstream.WithPublishAsyncMaxPending(cfg.Pending+cfg.Concurrency+512),
+		jetstream.WithPublishAsyncTimeout(30*time.Second))
 	if err != nil {
 		return nil, fmt.Errorf("jetstream: %w", err)
 	}
 	w := &Worker{cfg: cfg, nc: nc, js: js, log: cfg.Log.With("worker", cfg.ID), host: host,
-		slots: make(chan struct{}, cfg.Concurrency), tasks: map[uint64]*task{}, canceled: map[string]bool{}}
+		queue: make(chan jetstream.Msg, cfg.Concurrency+cfg.Prefetch), freed: make(chan struct{}, 1),
+		acks: make(chan pending, cfg.Pending), tasks: map[uint64]*task{}, buffered: map[jetstream.Msg]time.Time{},
+		canceled: map[string]bool{}}
 	n := cfg.Names
 	for wait := 100 * time.Millisecond; ; wait = min(2*wait, 2*time.Second) {
 		w.cons, err = js.Consumer(ctx, n.JobStream(), n.WorkerConsumer())
@@ -191,8 +234,11 @@ func token(s string) string {
 func (w *Worker) ID() string { return w.cfg.ID }
 
 // Run pulls and runs jobs until ctx is done, then drains: it stops
-// fetching, lets the running jobs finish (for at most DrainTimeout, if set;
-// the others go back to the queue), sends a last report and returns.
+// fetching, returns the buffered jobs to the queue, lets the running jobs
+// finish (for at most DrainTimeout, if set; the others go back to the
+// queue), waits for the acks of their outcomes, sends a last report and
+// returns. A buffered job on its last delivery is run rather than returned:
+// returning it would use up its deliveries.
 func (w *Worker) Run(ctx context.Context) error {
 	w.started = time.Now()
 	w.base, w.abort = context.WithCancel(context.Background())
@@ -210,9 +256,18 @@ func (w *Worker) Run(ctx context.Context) error {
 	}
 	side := make(chan struct{})
 	go w.background(side)
-	w.log.Info("worker started", "concurrency", w.cfg.Concurrency, "max_deliver", w.maxDeliver, "heartbeat", w.cfg.Heartbeat)
+	w.log.Info("worker started", "concurrency", w.cfg.Concurrency, "prefetch", w.cfg.Prefetch,
+		"max_deliver", w.maxDeliver, "heartbeat", w.cfg.Heartbeat)
+	settled := make(chan struct{})
+	go func() { defer close(settled); w.settle() }()
+	for range w.cfg.Concurrency {
+		w.wg.Add(1)
+		go w.slot(ctx)
+	}
 	w.pull(ctx)
 	w.drain()
+	close(w.acks)
+	<-settled
 	close(side)
 	w.report(true)
 	w.log.Info("worker stopped", "done", w.done.Load(), "failed", w.failed.Load())
@@ -226,63 +281,101 @@ func (w *Worker) Abort() {
 	}
 }
 
-// pull fetches as many jobs as there are free slots, until ctx is done.
+// pull keeps the buffer filled until ctx is done, then closes it. It
+// fetches when at least half of the room is free (or the buffer is empty
+// and a slot is free), as many jobs as there is room for.
 func (w *Worker) pull(ctx context.Context) {
-	for {
-		select {
-		case w.slots <- struct{}{}:
-		case <-ctx.Done():
-			return
-		}
-		n := 1
-	more:
-		for n < w.cfg.Concurrency {
+	defer close(w.queue)
+	for ctx.Err() == nil {
+		n := w.room()
+		if n == 0 {
 			select {
-			case w.slots <- struct{}{}:
-				n++
-			default:
-				break more
+			case <-w.freed:
+			case <-ctx.Done():
 			}
+			continue
 		}
-		batch, err := w.cons.Fetch(n, jetstream.FetchMaxWait(w.cfg.FetchWait))
+		// The fetch ends with ctx: the server delivers nothing more to a
+		// request whose inbox has gone, so a drain takes no new jobs.
+		fctx, cancel := context.WithTimeout(ctx, w.cfg.FetchWait)
+		batch, err := w.cons.Fetch(n, jetstream.FetchContext(fctx))
 		if err != nil {
-			w.release(n)
+			cancel()
 			w.log.Warn("fetching jobs", "error", err)
 			select {
 			case <-ctx.Done():
-				return
 			case <-time.After(w.cfg.RetryDelay):
 			}
 			continue
 		}
-		got := 0
 		for m := range batch.Messages() {
-			got++
-			if ctx.Err() != nil {
-				m.Nak()
-				w.release(1)
-				continue
-			}
-			w.wg.Add(1)
-			go w.handle(m)
+			w.held.Add(1)
+			w.mu.Lock()
+			w.buffered[m] = time.Now()
+			w.mu.Unlock()
+			w.queue <- m // room() keeps it from blocking
 		}
-		w.release(n - got)
-		if err := batch.Error(); err != nil && !errors.Is(err, nats.ErrTimeout) && !errors.Is(err, context.DeadlineExceeded) {
+		cancel()
+		if err := batch.Error(); err != nil && !errors.Is(err, nats.ErrTimeout) &&
+			!errors.Is(err, context.DeadlineExceeded) && !errors.Is(err, context.Canceled) {
 			w.log.Debug("fetch ended", "error", err)
 		}
-		if ctx.Err() != nil {
-			return
+	}
+}
+
+// room is how many jobs to fetch now: 0 while less than half the room
+// (slots plus the prefetch depth) is free, unless nothing is buffered and
+// a slot is free.
+func (w *Worker) room() int {
+	conc := w.cfg.Concurrency
+	depth := w.cfg.Prefetch
+	if mean := time.Duration(w.meanRun.Load()); mean <= 0 {
+		depth = 0
+	} else if d := int(time.Duration(conc) * holdFor / mean); d < depth {
+		depth = d
+	}
+	held := int(w.held.Load())
+	free := conc + depth - held
+	w.mu.Lock()
+	idle := len(w.buffered) == 0 && held < conc
+	w.mu.Unlock()
+	if free <= 0 || free < (conc+depth+1)/2 && !idle {
+		return 0
+	}
+	return free
+}
+
+// slot runs jobs from the buffer until it is closed. Once ctx is done it
+// returns the jobs it takes to the queue, but for those on their last
+// delivery.
+func (w *Worker) slot(ctx context.Context) {
+	defer w.wg.Done()
+	for m := range w.queue {
+		w.mu.Lock()
+		beat := w.buffered[m]
+		delete(w.buffered, m)
+		w.mu.Unlock()
+		if ctx.Err() != nil && !w.lastDelivery(m) {
+			m.Nak()
+		} else {
+			w.handle(m, beat)
+		}
+		w.held.Add(-1)
+		select {
+		case w.freed <- struct{}{}:
+		default:
 		}
 	}
 }
 
-func (w *Worker) release(n int) {
-	for range n {
-		<-w.slots
-	}
+// lastDelivery reports whether m is on its last delivery.
+func (w *Worker) lastDelivery(m jetstream.Msg) bool {
+	meta, err := m.Metadata()
+	return err == nil && w.maxDeliver > 0 && int(meta.NumDelivered) >= w.maxDeliver
 }
 
-// drain waits for the running jobs, at most DrainTimeout if set.
+// drain waits for the slots to finish the running jobs and return the
+// buffered ones, at most DrainTimeout if set.
 func (w *Worker) drain() {
 	finished := make(chan struct{})
 	go func() { w.wg.Wait(); close(finished) }()
@@ -308,10 +401,10 @@ func (w *Worker) running() int {
 	return len(w.tasks)
 }
 
-// handle runs one delivered job and settles its message.
-func (w *Worker) handle(m jetstream.Msg) {
-	defer w.wg.Done()
-	defer w.release(1)
+// handle runs one delivered job and publishes its outcome, or settles its
+// message at once (malformed, canceled, stopped, to be retried).
+// beat is when the message was delivered or last heartbeat.
+func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 	meta, err := m.Metadata()
 	if err != nil {
 		w.log.Warn("job message without metadata", "subject", m.Subject(), "error", err)
@@ -327,7 +420,7 @@ func (w *Worker) handle(m jetstream.Msg) {
 		m.TermWithReason("malformed job")
 		return
 	}
-	t := w.begin(job, m)
+	t := w.begin(job, m, beat)
 	if t == nil { // sweep canceled
 		w.log.Debug("dropping job of a canceled sweep", "job", job.ID, "sweep", job.Sweep)
 		m.Ack()
@@ -364,17 +457,33 @@ func (w *Worker) handle(m jetstream.Msg) {
 	if out.Status == sweep.StatusFailed && out.Error == "" {
 		out.Error = "failed without a reason"
 	}
-	if err := w.publish(out, meta.Sequence.Stream); err != nil {
+	f, err := w.publish(out, meta.Sequence.Stream)
+	if err != nil {
 		w.log.Warn("publishing result; the job will be delivered again", "job", job.ID, "error", err)
 		m.Nak()
 		return
 	}
-	m.Ack()
-	if out.Status == sweep.StatusDone {
-		w.done.Add(1)
-	} else {
-		w.failed.Add(1)
-		w.log.Info("job failed", "job", job.ID, "sweep", job.Sweep, "error", out.Error)
+	w.acks <- pending{msg: m, ack: f, job: job.ID, status: out.Status, reason: out.Error}
+}
+
+// settle acks each job once the server has acknowledged its outcome (naks
+// it when the publish failed), in publish order, until acks is closed.
+func (w *Worker) settle() {
+	for p := range w.acks {
+		select {
+		case <-p.ack.Ok():
+		case err := <-p.ack.Err():
+			w.log.Warn("publishing result; the job will be delivered again", "job", p.job, "error", err)
+			p.msg.Nak()
+			continue
+		}
+		p.msg.Ack()
+		if p.status == sweep.StatusDone {
+			w.done.Add(1)
+		} else {
+			w.failed.Add(1)
+			w.log.Info("job failed", "job", p.job, "error", p.reason)
+		}
 	}
 }
 
@@ -392,32 +501,22 @@ func (w *Worker) safeRun(ctx context.Context, job sweep.Job) (out sweep.Outcome,
 	return out, st, err
 }
 
-// publish puts the outcome on the results stream and waits for the
-// server's ack. The message ID (job and stream sequence of the job
-// message) makes a repeat of the same delivery a duplicate.
-func (w *Worker) publish(o sweep.Outcome, seq uint64) error {
+// publish puts the outcome on the results stream without waiting; the
+// future resolves with the server's ack (or an error after 30 s). The
+// message ID (job and stream sequence of the job message) makes a repeat of
+// the same delivery a duplicate.
+func (w *Worker) publish(o sweep.Outcome, seq uint64) (jetstream.PubAckFuture, error) {
 	data, err := sweep.EncodeOutcome(o)
 	if err != nil {
-		return err
+		return nil, err
 	}
-	f, err := w.js.PublishAsync(w.cfg.Names.ResultSubject(o.Sweep, o.JobID), data,
+	return w.js.PublishAsync(w.cfg.Names.ResultSubject(o.Sweep, o.JobID), data,
 		jetstream.WithMsgID(o.JobID+"-"+strconv.FormatUint(seq, 10)),
 		jetstream.WithExpectStream(w.cfg.Names.ResultStream()))
-	if err != nil {
-		return err
-	}
-	select {
-	case <-f.Ok():
-		return nil
-	case err := <-f.Err():
-		return err
-	case <-time.After(30 * time.Second):
-		return errors.New("no ack for the result within 30s")
-	}
 }
 
 // begin registers a running job; nil if its sweep is canceled.
-func (w *Worker) begin(job sweep.Job, m jetstream.Msg) *task {
+func (w *Worker) begin(job sweep.Job, m jetstream.Msg, beat time.Time) *task {
 	key := sweep.SweepToken(job.Sweep)
 	w.mu.Lock()
 	stale := w.canceled[key]
@@ -427,7 +526,7 @@ func (w *Worker) begin(job sweep.Job, m jetstream.Msg) *task {
 	}
 	w.mu.Lock()
 	defer w.mu.Unlock()
-	t := &task{job: job, msg: m, since: time.Now()}
+	t := &task{job: job, msg: m, since: time.Now(), beat: beat}
 	t.ctx, t.cancel = context.WithCancel(w.base)
 	w.next++
 	t.key = w.next
@@ -436,7 +535,19 @@ func (w *Worker) begin(job sweep.Job, m jetstream.Msg) *task {
 }
 
 func (w *Worker) end(t *task) {
-	w.busy.Add(int64(time.Since(t.since)))
+	run := int64(time.Since(t.since))
+	w.busy.Add(run)
+	// An exponential mean over about the last 8 jobs sizes the prefetch.
+	for {
+		old := w.meanRun.Load()
+		mean := max(run, 1)
+		if old > 0 {
+			mean = old + (run-old)/8
+		}
+		if w.meanRun.CompareAndSwap(old, max(mean, 1)) {
+			break
+		}
+	}
 	t.cancel()
 	w.mu.Lock()
 	defer w.mu.Unlock()
@@ -506,8 +617,15 @@ func (w *Worker) background(stop <-chan struct{}) {
 		case now := <-hb.C:
 			w.mu.Lock()
 			for _, t := range w.tasks {
-				if now.Sub(t.since) >= w.cfg.Heartbeat/2 {
+				if now.Sub(t.beat) >= w.cfg.Heartbeat/2 {
 					t.msg.InProgress()
+					t.beat = now
+				}
+			}
+			for m, beat := range w.buffered {
+				if now.Sub(beat) >= w.cfg.Heartbeat/2 {
+					m.InProgress()
+					w.buffered[m] = now
 				}
 			}
 			w.mu.Unlock()
