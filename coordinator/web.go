@@ -61,14 +61,24 @@ type Web struct {
 	done chan error
 }
 
-// ServeWeb starts serving the status page of c on o.Addr.
-func (c *Coordinator) ServeWeb(o WebOptions) (*Web, error) {
-	host, _, err := net.SplitHostPort(o.Addr)
+// CheckWebAddr reports whether the status page may listen on addr
+// (HOST:PORT) with token: any host but a loopback one needs a token.
+func CheckWebAddr(addr, token string) error {
+	host, _, err := net.SplitHostPort(addr)
 	if err != nil {
-		return nil, fmt.Errorf("status page address %q: want HOST:PORT: %w", o.Addr, err)
+		return fmt.Errorf("status page address %q: want HOST:PORT: %w", addr, err)
 	}
-	if !loopbackName(host) && o.Token == "" {
-		return nil, fmt.Errorf("status page on %s: an address other than loopback needs a token (--http-token or --token), or listen on 127.0.0.1", o.Addr)
+	if !loopbackName(host) && token == "" {
+		return fmt.Errorf("status page on %s: an address other than loopback needs a token (--http-token or --token), or listen on 127.0.0.1", addr)
+	}
+	return nil
+}
+
+// ServeWeb starts serving the status page of c on o.Addr (see
+// CheckWebAddr).
+func (c *Coordinator) ServeWeb(o WebOptions) (*Web, error) {
+	if err := CheckWebAddr(o.Addr, o.Token); err != nil {
+		return nil, err
 	}
 	ln, err := net.Listen("tcp", o.Addr)
 	if err != nil {

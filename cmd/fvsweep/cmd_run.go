@@ -20,7 +20,7 @@ import (
 	"fvsweep/worker"
 )
 
-const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--data DIR]
+const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--data DIR] [--http HOST:PORT]
 
 Runs a sweep on this machine in one go: an embedded NATS server, the
 coordinator and N local workers. It queues every job of SPEC that has no
@@ -31,8 +31,9 @@ what status, table, export and cancel take.
 
 Ctrl-C stops cleanly: running jobs go back to the queue, stored outcomes
 stay, and running the same command again resumes where it stopped. Other
-terminals can watch with 'fvsweep status' meanwhile, or add workers with
-'fvsweep worker --nats URL' (the URL is in DIR/coordinator.url).
+terminals can watch with 'fvsweep status' (a browser with --http)
+meanwhile, or add workers with 'fvsweep worker --nats URL' (the URL is in
+DIR/coordinator.url).
 
 flags:
   --workers N        local workers (default 1)
@@ -40,7 +41,7 @@ flags:
   --listen HOST:PORT client address of the embedded server (default 127.0.0.1, a free port)
   --retry-failed     run again the jobs whose stored outcome is failed
   --format F         format of the tables at the end: text, markdown, csv, json or none
-` + serverUsage + commonUsage
+` + webUsage + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "run", summary: "run a sweep on this machine: server, coordinator, workers, tables", run: runRun})
@@ -52,6 +53,8 @@ func runRun(args []string) int {
 	c.register(fs)
 	var sf serverFlags
 	sf.register(fs)
+	var wf webFlags
+	wf.register(fs)
 	nw := fs.Int("workers", 1, "")
 	conc := fs.Int("concurrency", 0, "")
 	listen := fs.String("listen", "", "")
@@ -84,11 +87,17 @@ func runRun(args []string) int {
 	if log.GetLevel() >= hclog.Info {
 		inner = hclog.New(&hclog.LoggerOptions{Name: "fvsweep", Level: hclog.Warn, JSONFormat: c.logJSON, Output: os.Stderr})
 	}
+	if err := wf.check(&c); err != nil {
+		return usageErr("run", "%v", err)
+	}
 	s, err := startService(&c, &sf, *listen, inner, nil)
 	if err != nil {
 		return fail("run: %v", err)
 	}
 	defer s.close()
+	if err := wf.start(s, &c, inner); err != nil {
+		return fail("run: %v", err)
+	}
 
 	var workers []*worker.Worker
 	ctx, release := signals(func() {

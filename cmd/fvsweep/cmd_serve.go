@@ -17,7 +17,7 @@ import (
 	"fvsweep/sweep"
 )
 
-const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL]
+const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL] [--http HOST:PORT]
 
 Runs the coordinator of the store in DIR: it takes submissions, queues jobs
 on NATS JetStream, stores the outcomes workers send back and answers status,
@@ -30,7 +30,7 @@ SIGINT or SIGTERM stops it after storing the outcomes in hand.
 flags:
   --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222);
                      any address but loopback needs --token
-` + serverUsage + commonUsage
+` + webUsage + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
@@ -45,6 +45,7 @@ type service struct {
 	coord *coordinator.Coordinator
 	url   string // client URL
 	log   hclog.Logger
+	web   *coordinator.Web // the status page, if --http
 
 	urlPath string
 	stop    context.CancelFunc
@@ -112,6 +113,9 @@ func (s *service) dial(c *common, name string) (*nats.Conn, error) {
 // and the store, and removes the URL file.
 func (s *service) close() error {
 	var err error
+	if s.web != nil {
+		s.web.Close()
+	}
 	if s.stop != nil {
 		s.stop()
 		err = <-s.done
@@ -136,6 +140,8 @@ func runServe(args []string) int {
 	c.register(fs)
 	var sf serverFlags
 	sf.register(fs)
+	var wf webFlags
+	wf.register(fs)
 	listen := fs.String("listen", "127.0.0.1:4222", "")
 	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
 		return code
@@ -146,12 +152,19 @@ func runServe(args []string) int {
 	}
 	ctx, release := signals(nil)
 	defer release()
+	if err := wf.check(&c); err != nil {
+		return usageErr("serve", "%v", err)
+	}
 	s, err := startService(&c, &sf, *listen, log, nil)
 	if err != nil {
 		return fail("serve: %v", err)
 	}
 	log.Info("coordinator running", "nats", s.url, "store", c.dbPath())
 	fmt.Printf("coordinator: workers join with: fvsweep worker --nats %s\n", s.url)
+	if err := wf.start(s, &c, log); err != nil {
+		s.close()
+		return fail("serve: %v", err)
+	}
 	<-ctx.Done()
 	log.Info("stopping")
 	if err := s.close(); err != nil {

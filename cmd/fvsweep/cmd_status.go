@@ -15,27 +15,25 @@ import (
 	"fvsweep/sweep"
 )
 
-const statusUsage = `usage: fvsweep status [SWEEP] [--json]
+const statusUsage = `usage: fvsweep status [SWEEP] [--json] [--http HOST:PORT]
 
 Shows the jobs of SWEEP (of every sweep without it): total, done, failed,
 running and queued, and the live workers with their current jobs. It asks
 the running coordinator, or reads the store in --data when none runs (then
-nothing is running and no workers are listed).
+nothing is running and no workers are listed). With --http it asks the
+JSON API of a coordinator's status page instead (serve --http), which needs
+no NATS access.
 
 flags:
   --json             print JSON: with SWEEP one object (sweep, jobs_total,
                      done, failed, running, queued, canceled, workers), else
                      {"sweeps": [...], "workers": [...]}
+  --http HOST:PORT   ask the status page at this address (or http://HOST:PORT)
+  --http-token T     its token (default $FVSWEEP_HTTP_TOKEN, else --token)
 ` + commonUsage
 
 func init() {
 	register(command{name: "status", summary: "show the progress of sweeps and the live workers", run: runStatus})
-}
-
-// sweepStatusJSON is the --json object of one sweep.
-type sweepStatusJSON struct {
-	sweep.SweepStatus
-	Workers []sweep.WorkerReport `json:"workers"`
 }
 
 func runStatus(args []string) int {
@@ -43,6 +41,8 @@ func runStatus(args []string) int {
 	var c common
 	c.register(fs)
 	asJSON := fs.Bool("json", false, "")
+	var wf webFlags
+	wf.register(fs)
 	pos, code, done := parseCommand("status", statusUsage, fs, args, func(n int) bool { return n <= 1 })
 	if done {
 		return code
@@ -51,16 +51,15 @@ func runStatus(args []string) int {
 	if len(pos) == 1 {
 		name = pos[0]
 	}
-	src, err := c.open(context.Background())
-	if err != nil {
-		return fail("status: %v", err)
-	}
-	defer src.close()
-	var rep sweep.StatusReply
-	if src.client != nil {
-		rep, err = src.client.Status(context.Background(), name)
+	var (
+		rep  sweep.StatusReply
+		live = true
+		err  error
+	)
+	if wf.addr != "" {
+		rep, err = pageStatus(wf.addr, wf.tokenFor(&c), name)
 	} else {
-		rep.Sweeps, err = coordinator.SweepStatuses(src.db, name, nil, nil)
+		rep, live, err = storeStatus(&c, name)
 	}
 	if err != nil {
 		return fail("status: %v", err)
@@ -71,7 +70,7 @@ func runStatus(args []string) int {
 	if *asJSON {
 		var v any = rep
 		if name != "" && len(rep.Sweeps) == 1 {
-			v = sweepStatusJSON{rep.Sweeps[0], rep.Workers}
+			v = coordinator.SweepView{SweepStatus: rep.Sweeps[0], Workers: rep.Workers}
 		}
 		enc := json.NewEncoder(os.Stdout)
 		enc.SetIndent("", "  ")
@@ -80,8 +79,24 @@ func runStatus(args []string) int {
 		}
 		return 0
 	}
-	writeStatus(os.Stdout, rep, src.client != nil)
+	writeStatus(os.Stdout, rep, live)
 	return 0
+}
+
+// storeStatus asks the running coordinator over NATS, or reads the store
+// (live false).
+func storeStatus(c *common, name string) (rep sweep.StatusReply, live bool, err error) {
+	src, err := c.open(context.Background())
+	if err != nil {
+		return rep, false, err
+	}
+	defer src.close()
+	if src.client != nil {
+		rep, err = src.client.Status(context.Background(), name)
+		return rep, true, err
+	}
+	rep.Sweeps, err = coordinator.SweepStatuses(src.db, name, nil, nil)
+	return rep, false, err
 }
 
 // writeStatus prints the status as text tables.
