@@ -171,8 +171,9 @@ type tableGroup struct {
 	// layout of fvsweep gci --json (fractions, not percent).
 	GCI []report.FunctionalGCI `json:"gci,omitempty"`
 
-	gciCells [][]string
-	gciNotes []string
+	gciCells   [][]string
+	gciResults []string
+	gciNotes   []string
 }
 
 type tableRow struct {
@@ -206,7 +207,7 @@ func tableStudies(studies []report.Study, outs map[string]sweep.Outcome) []table
 			Exact: st.Exact, Functionals: st.Functionals, Done: st.Done, Failed: st.Failed, Pending: st.Pending}
 		for _, g := range st.Groups {
 			tg := tableGroup{Label: g.Label, Params: g.Params, Verdict: g.Verdict, GCI: g.GCI,
-				gciCells: g.GCICells(), gciNotes: g.GCINotes()}
+				gciCells: g.GCICells(), gciResults: g.GCIResults(), gciNotes: g.GCINotes()}
 			if g.Fitted {
 				tg.Fitted, tg.FittedSE = finite(g.Fit.Order), finite(g.Fit.OrderSE)
 			}
@@ -314,8 +315,6 @@ func (t tableStudy) cells(r tableRow) []string {
 	return append(c, strconv.FormatFloat(r.WallS, 'g', 3, 64), r.Status)
 }
 
-const gciCaption = "GCI (Celik et al. 2008), finest grid first; e_a, e_ext, GCI_fine relative to the fine-grid value"
-
 // writeAligned writes a table with columns padded to their widths,
 // right-aligned but for the columns in left, each line after indent.
 func writeAligned(w io.Writer, indent string, header []string, rows [][]string, left ...int) {
@@ -365,8 +364,11 @@ func writeTablesText(w io.Writer, t tableSet) error {
 				fmt.Fprintf(w, "    %s\n", g.verdict(""))
 			}
 			if len(g.gciCells) > 0 {
-				fmt.Fprintf(w, "    %s:\n", gciCaption)
+				fmt.Fprintf(w, "    %s:\n", report.GCICaption)
 				writeAligned(w, "      ", report.GCIHeader, g.gciCells, gciLeft...)
+			}
+			for _, r := range g.gciResults {
+				fmt.Fprintf(w, "    %s\n", r)
 			}
 			for _, n := range g.gciNotes {
 				fmt.Fprintf(w, "      note: %s\n", n)
@@ -420,8 +422,11 @@ func writeTablesMarkdown(w io.Writer, t tableSet) error {
 				fmt.Fprintf(w, "\n%s%s\n", strings.ToUpper(v[:1]), v[1:])
 			}
 			if len(g.gciCells) > 0 {
-				fmt.Fprintf(w, "\n%s:\n\n", gciCaption)
+				fmt.Fprintf(w, "\n%s:\n\n", report.GCICaption)
 				writeMarkdownTable(w, report.GCIHeader, g.gciCells, gciLeft...)
+			}
+			if len(g.gciResults) > 0 {
+				fmt.Fprintf(w, "\n%s\n", strings.Join(g.gciResults, "  \n"))
 			}
 			if len(g.gciNotes) > 0 {
 				fmt.Fprintln(w)

@@ -162,6 +162,19 @@ func (f FunctionalGCI) Notes() []string {
 	return out
 }
 
+// Result is the fine-grid value of f with its numerical uncertainty,
+// phi1 ± GCI_fine |phi1|, as Celik et al. 2008 ask it to be reported, from
+// the record of the finest grids; "" when that record has no GCI.
+func (f FunctionalGCI) Result() string {
+	if len(f.Records) == 0 || f.Records[0].GCIFine == nil || len(f.NX) == 0 {
+		return ""
+	}
+	r := f.Records[0]
+	band := *r.GCIFine * math.Abs(r.Phi[0])
+	return fmt.Sprintf("%s on the finest grid (nx %d): %s ± %s (GCI_fine %s)",
+		f.Functional, f.NX[0], fmtG(r.Phi[0], 7), fmtG(band, 3), pct(r.GCIFine))
+}
+
 // GridNames names the grids idx (indices into GCIStudy.H; nil for all of
 // them) by their nx, finest first: "200/100/50".
 func (f FunctionalGCI) GridNames(idx []int) string {
@@ -215,6 +228,20 @@ func (g Group) GCICells() [][]string {
 	}
 	return rows
 }
+
+// GCIResults is Result of every functional of g that has one.
+func (g Group) GCIResults() []string {
+	var out []string
+	for _, f := range g.GCI {
+		if r := f.Result(); r != "" {
+			out = append(out, r)
+		}
+	}
+	return out
+}
+
+// GCICaption heads the GCI table of a group in every format.
+const GCICaption = "GCI (Celik et al. 2008; e_a, e_ext and GCI_fine relative to the finest-grid value)"
 
 // GCINotes is Notes of every functional of g.
 func (g Group) GCINotes() []string {

@@ -175,11 +175,12 @@ var funcs = template.FuncMap{
 		}
 		return strconv.FormatFloat(v, 'g', 3, 64)
 	},
-	"norm":      NormLabel,
-	"phi":       FormatPhi,
-	"gciHeader": func() []string { return GCIHeader },
-	"when":      func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
-	"short":     func(id string) string { return id[:min(12, len(id))] },
+	"norm":       NormLabel,
+	"phi":        FormatPhi,
+	"gciHeader":  func() []string { return GCIHeader },
+	"gciCaption": func() string { return GCICaption },
+	"when":       func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
+	"short":      func(id string) string { return id[:min(12, len(id))] },
 }
 
 var page = template.Must(template.New("page").Funcs(funcs).Parse(pageTemplate))
@@ -257,10 +258,11 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 {{end}}</table>
 {{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
 <span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}</p>
-{{end}}{{if .GCI}}<p>Grid convergence index (Celik et al. 2008), finest grid first; e_a, e_ext and GCI_fine relative to the fine-grid value:</p>
+{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
 {{with .GCICells}}<table>
 <tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
 {{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
 {{end}}</table>
+{{end}}{{range .GCIResults}}<p>{{.}}</p>
 {{end}}{{range .GCINotes}}<p class="note">{{.}}</p>
 {{end}}{{end}}{{end}}{{end}}`
