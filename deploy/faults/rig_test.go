@@ -296,6 +296,13 @@ func (o *observer) results(id string) []sweep.Outcome {
 	return append([]sweep.Outcome(nil), o.seen[id]...)
 }
 
+// jobs is the number of jobs with at least one outcome published.
+func (o *observer) jobs() int {
+	o.mu.Lock()
+	defer o.mu.Unlock()
+	return len(o.seen)
+}
+
 // extra is the number of outcomes published beyond one per job.
 func (o *observer) extra() int {
 	o.mu.Lock()

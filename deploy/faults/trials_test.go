@@ -1,0 +1,50 @@
+package faults
+
+import (
+	"math/rand/v2"
+	"strings"
+	"testing"
+	"time"
+)
+
+// manyJobs is 120 jobs of 10 to 400 ms.
+var manyJobs = strings.Replace(strings.Replace(shortJobs, `"short-jobs"`, `"many-jobs"`, 1),
+	`fixed = { t_end = 0.3 }`, `fixed = { t_end = 0.5 }`+"\n"+`together = [{ split = ["strang", "lie"] }]`, 1)
+
+// TestRepeatedKills runs one sweep through at least 20 SIGKILLs at random
+// times (100 to 400 ms apart) of a random victim: the coordinator, one of
+// the two workers, or the NATS node; each victim is restarted at once on
+// the same files. It counts the jobs expected, stored, stored twice and
+// lost, and fails unless every job is stored exactly once.
+func TestRepeatedKills(t *testing.T) {
+	if testing.Short() {
+		t.Skip("about 20 s; runs without -short")
+	}
+	seed := uint64(time.Now().UnixNano())
+	rng := rand.New(rand.NewPCG(seed, 1))
+	t.Logf("seed %d", seed)
+	r := newRig(t)
+	spec, name, ids := r.writeSpec(manyJobs)
+	node, url := r.singleNode(freePort(t))
+	coord := r.start("serve", r.serveArgs("--nats", url, "--max-deliver", "10")...)
+	coord.waitOutput("workers join with", 20*time.Second)
+	obs := observe(t, url)
+	r.submit(spec, url)
+	victims := []*proc{coord, r.worker("worker-a", url, 1), r.worker("worker-b", url, 1), node}
+	kills := map[string]int{}
+	const want = 20
+	for n := 0; n < want; n++ {
+		time.Sleep(time.Duration(100+rng.IntN(300)) * time.Millisecond)
+		if obs.jobs() >= len(ids) {
+			t.Fatalf("the sweep finished after %d kills, before %d: make it longer", n, want)
+		}
+		v := victims[rng.IntN(len(victims))]
+		v.restart()
+		kills[v.name]++
+	}
+	t.Logf("kills: %v", kills)
+	r.waitDone(name, url, len(ids), 120*time.Second)
+	coord.stop(20 * time.Second)
+	f, _ := r.count(name, ids, coord, obs)
+	wantClean(t, f)
+}
