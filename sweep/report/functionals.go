@@ -61,8 +61,13 @@ func (st *Study) chooseFunctionals(jobs []sweep.Job, outcomes map[string]sweep.O
 		st.Functionals = []string{st.Functional}
 	case !st.Exact:
 		// No exact solution and no functional named: every functional the
-		// case declares or its results report, in the case's order.
-		st.Functionals = declared
+		// results report (before any is done, that the case declares), in
+		// the case's order.
+		for _, name := range declared {
+			if here[name] || len(here) == 0 {
+				st.Functionals = append(st.Functionals, name)
+			}
+		}
 		for _, name := range slices.Sorted(maps.Keys(here)) {
 			if !slices.Contains(st.Functionals, name) {
 				st.Functionals = append(st.Functionals, name)
