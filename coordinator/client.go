@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"os"
 	"time"
 
 	"github.com/nats-io/nats.go"
@@ -34,6 +35,10 @@ type DialOptions struct {
 	TLS TLSFiles
 	// Timeout bounds the first connection (default 5 s).
 	Timeout time.Duration
+	// QuietDenied leaves permissions violations unprinted: set it for the
+	// connections of the Client, whose requests report them as errors.
+	// Other asynchronous errors are printed to stderr.
+	QuietDenied bool
 }
 
 // Dial connects to NATS. A worker or coordinator keeps reconnecting for as
@@ -48,6 +53,11 @@ func Dial(o DialOptions) (*nats.Conn, error) {
 		nats.Timeout(o.Timeout),
 		nats.MaxReconnects(-1),
 		nats.ReconnectWait(500 * time.Millisecond),
+		nats.ErrorHandler(func(_ *nats.Conn, _ *nats.Subscription, err error) {
+			if !o.QuietDenied || !errors.Is(err, nats.ErrPermissionViolation) {
+				fmt.Fprintf(os.Stderr, "fvsweep: %s: %v\n", o.Name, err)
+			}
+		}),
 	}
 	auth, err := o.authOptions()
 	if err != nil {

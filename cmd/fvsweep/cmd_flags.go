@@ -141,7 +141,9 @@ func (s *source) close() {
 func (c *common) open(ctx context.Context) (*source, error) {
 	var coordErr error
 	if url := c.coordinatorURL(); url != "" {
-		nc, err := c.dial(url, "fvsweep client")
+		o := c.dialOptions(url, "fvsweep client")
+		o.QuietDenied = true
+		nc, err := coordinator.Dial(o)
 		if err == nil {
 			cl := coordinator.NewClient(nc, sweep.Names{})
 			cl.Timeout = 3 * time.Second
