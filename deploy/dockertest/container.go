@@ -24,6 +24,8 @@ type Spec struct {
 	Env []string
 	// Args follow the image's entry point (the fvsweep binary).
 	Args []string
+	// Restart is docker's restart policy ("on-failure"; "" for none).
+	Restart string
 }
 
 // Container is a started container, removed (with its volumes) when the
@@ -44,6 +46,9 @@ func (e *Engine) Start(t testing.TB, img *Image, s Spec) *Container {
 		for _, a := range s.Aliases {
 			args = append(args, "--network-alias", a)
 		}
+	}
+	if s.Restart != "" {
+		args = append(args, "--restart", s.Restart)
 	}
 	for _, kv := range s.Env {
 		args = append(args, "--env", kv)

@@ -33,3 +33,16 @@ func TestHarness(t *testing.T) {
 }
 
 func TestMain(m *testing.M) { os.Exit(Main(m)) }
+
+func TestStoreWrites(t *testing.T) {
+	log := `plain text line
+{"@level":"debug","@message":"stored results","batch":3,"written":3}
+{"@level":"debug","@message":"stored results","batch":2,"written":0}
+{"@level":"warn","@message":"job failed: delivery limit reached","job":"x"}
+{"@message":"stored results","written":2
+{"@level":"info","@message":"other","written":9}
+`
+	if got := StoreWrites(log); got != 4 {
+		t.Errorf("StoreWrites = %d, want 3 + 0 + 1 (a truncated line and other messages do not count)", got)
+	}
+}

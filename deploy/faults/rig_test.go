@@ -1,7 +1,6 @@
 package faults
 
 import (
-	"bufio"
 	"bytes"
 	"encoding/json"
 	"fmt"
@@ -364,40 +363,12 @@ func (r *rig) count(name string, ids map[string]sweep.Job, coord *proc, obs *obs
 			f.Unexpected++
 		}
 	}
-	f.Writes = writes(r.t, coord.output())
+	f.Writes = dockertest.StoreWrites(coord.output())
 	f.StoredTwice = max(0, f.Writes-(f.Stored+f.Failed))
 	if obs != nil {
 		f.ExtraRuns = obs.extra()
 	}
 	return f, outs
-}
-
-// writes sums the outcome records the coordinator logs as written (serve
-// runs with --log-level debug --log-json).
-func writes(t *testing.T, log string) int {
-	n := 0
-	sc := bufio.NewScanner(strings.NewReader(log))
-	sc.Buffer(make([]byte, 1<<20), 1<<20)
-	for sc.Scan() {
-		line := sc.Bytes()
-		if !bytes.HasPrefix(line, []byte("{")) {
-			continue
-		}
-		var rec struct {
-			Msg     string `json:"@message"`
-			Written int    `json:"written"`
-		}
-		if json.Unmarshal(line, &rec) != nil {
-			continue
-		}
-		switch rec.Msg {
-		case "stored results":
-			n += rec.Written
-		case "job failed: delivery limit reached":
-			n++
-		}
-	}
-	return n
 }
 
 // wantClean fails the test unless every expected job is stored exactly
