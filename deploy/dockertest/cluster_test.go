@@ -9,7 +9,6 @@ import (
 	"testing"
 	"time"
 
-	"fvsweep/deploy"
 	"fvsweep/sweep"
 )
 
@@ -42,23 +41,20 @@ func TestDockerCluster(t *testing.T) {
 	if err := os.WriteFile(specFile, []byte(clusterSpec), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	files := map[string]string{"/spec.toml": specFile}
-	for _, f := range []string{"node-1.conf", "node-2.conf", "node-3.conf", "common.conf"} {
-		files["/etc/fvsweep/nats/"+f] = filepath.Join(deploy.NATSDir(), f)
-	}
-	img := e.BuildImage(t, files)
+	img := e.Fvsweep(t)
 	n := e.NewNetwork(t)
 	var nodes []*Container
 	for i := 1; i <= 3; i++ {
 		nodes = append(nodes, e.Start(t, img, Spec{Stem: fmt.Sprintf("nats-%d", i), Network: n,
 			Aliases: []string{fmt.Sprintf("fvsweep-nats-%d", i)}, Env: nodeEnv,
-			Args: []string{"node", "--config", fmt.Sprintf("/etc/fvsweep/nats/node-%d.conf", i)}}))
+			Args: []string{"node", "--config", fmt.Sprintf("%s/node-%d.conf", ConfigDir, i)}}))
 	}
 	// The coordinator fails while the cluster has no metadata leader yet;
 	// docker restarts it, as systemd would.
 	coord := e.Start(t, img, Spec{Stem: "coordinator", Network: n, Env: coordEnv, Restart: "on-failure",
 		Args: []string{"serve", "--data", "/data", "--replicas", "3", "--ack-wait", "2s", "--log-level", "debug", "--log-json"}})
 	coord.WaitLog("workers join with", 90*time.Second)
+	coord.CopyIn(specFile, "/spec.toml")
 	var workers []*Container
 	for _, id := range []string{"worker-a", "worker-b"} {
 		workers = append(workers, e.Start(t, img, Spec{Stem: id, Network: n, Env: workerEnv,

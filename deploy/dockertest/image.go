@@ -12,6 +12,8 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"fvsweep/deploy"
 )
 
 // BinaryPath is where the fvsweep binary lives inside the image.
@@ -146,6 +148,22 @@ func (e *Engine) BuildImage(t testing.TB, files map[string]string) *Image {
 	img := &Image{Tag: tag}
 	imageCache[tag] = img
 	return img
+}
+
+// ConfigDir is where the deploy/nats files lie in the Fvsweep image.
+const ConfigDir = "/etc/fvsweep/nats"
+
+// Fvsweep builds (or finds) the image all tests share: the fvsweep binary
+// and the node configurations of deploy/nats under ConfigDir, as shipped.
+// One image for every test keeps the cache warm: each build of another
+// content removes the previous one.
+func (e *Engine) Fvsweep(t testing.TB) *Image {
+	t.Helper()
+	files := map[string]string{}
+	for _, f := range []string{"node-1.conf", "node-2.conf", "node-3.conf", "common.conf"} {
+		files[ConfigDir+"/"+f] = filepath.Join(deploy.NATSDir(), f)
+	}
+	return e.BuildImage(t, files)
 }
 
 // pruneImages removes this package's images other than keep.
