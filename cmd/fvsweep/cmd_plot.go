@@ -1,14 +1,18 @@
 package main
 
 import (
+	"context"
 	"flag"
 	"fmt"
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
+	"time"
 
+	"fvsweep/coordinator"
 	"fvsweep/fv2d"
 	"fvsweep/sweep"
 	"fvsweep/sweep/plots"
@@ -24,13 +28,16 @@ const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --ou
                --cut a line cut through it against the exact solution
 
 The extension of --out (.png or .svg) picks the format. Results come from
-the running coordinator, or from the store in --data opened read-only.
+the running coordinator, or from the store in --data opened read-only. A
+field snapshot (snapshot = true in the study) comes from the JetStream
+object store: through the running coordinator's NATS server (or --nats),
+else from the server files in --data/nats.
 
 flags:
   --out       output file (.png or .svg), required
   --study N   the study to plot (default: the only one with errors to show)
   --job ID    field: the job (its ID, or a unique prefix of it)
-  --snapshot FILE  field: read the field from this snapshot file
+  --snapshot FILE  field: read the snapshot from this file instead
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V
               (--cut x) or x = V (--cut y); default: the middle
@@ -104,7 +111,8 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	var d plots.Drawer
 	var notes []string
 	if kind == "field" {
-		d, notes, err = fieldPlot(sd, *jobID, *snapshot, jf.v, *cut, atV)
+		fetch := func(ref string) ([]byte, error) { return fetchSnapshot(&c, ref) }
+		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
 	} else {
 		d, notes, err = studyPlot(sd, kind, *studyN, jf.options())
 	}
@@ -167,8 +175,9 @@ func studyPlot(sd *sweepData, kind string, n int, o report.Options) (plots.Drawe
 	return f, f.Notes, nil
 }
 
-// fieldPlot prepares the heat map or cut of a job's snapshot.
-func fieldPlot(sd *sweepData, id, file, v, cut string, at float64) (plots.Drawer, []string, error) {
+// fieldPlot prepares the heat map or cut of a job's snapshot, read from
+// file if not "", else fetched by its reference.
+func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, error), v, cut string, at float64) (plots.Drawer, []string, error) {
 	if id == "" {
 		return nil, nil, fmt.Errorf("the field plot needs --job ID")
 	}
@@ -177,9 +186,6 @@ func fieldPlot(sd *sweepData, id, file, v, cut string, at float64) (plots.Drawer
 		return nil, nil, err
 	}
 	job := row.Job
-	if err != nil {
-		return nil, nil, err
-	}
 	var raw []byte
 	if file != "" {
 		if raw, err = os.ReadFile(file); err != nil {
@@ -193,13 +199,17 @@ func fieldPlot(sd *sweepData, id, file, v, cut string, at float64) (plots.Drawer
 		case out.Snapshot == "":
 			return nil, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", job.ID)
 		}
-		// The snapshot lies in the JetStream object store; no fetch from it
-		// is available to commands yet.
-		return nil, nil, fmt.Errorf("job %s: snapshot %s is in the NATS object store, which plot cannot read yet; pass it with --snapshot FILE", job.ID, out.Snapshot)
+		if raw, err = fetch(out.Snapshot); err != nil {
+			return nil, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", job.ID, err)
+		}
+		file = out.Snapshot
 	}
 	hdr, data, err := sweep.DecodeField(raw)
 	if err != nil {
 		return nil, nil, fmt.Errorf("%s: %w", file, err)
+	}
+	if hdr.JobID != job.ID {
+		return nil, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, job.ID)
 	}
 	var prob *fv2d.Problem
 	var notes []string
@@ -258,4 +268,25 @@ func findJob(rows []sweep.Row, id string) (sweep.Row, error) {
 		return found[0], nil
 	}
 	return sweep.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
+}
+
+// fetchSnapshot reads a stored snapshot: through the NATS server of the
+// running coordinator (or --nats), else from the embedded server's files
+// in --data, opened just for this.
+func fetchSnapshot(c *common, ref string) ([]byte, error) {
+	if url := c.coordinatorURL(); url != "" {
+		nc, err := c.dial(url, "fvsweep plot")
+		if err == nil {
+			defer nc.Close()
+			ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+			defer cancel()
+			return coordinator.FetchField(ctx, nc, ref)
+		}
+		if c.nats != "" {
+			return nil, err
+		}
+		// A coordinator.url left behind by a coordinator that died: its
+		// server's files are free to open.
+	}
+	return coordinator.ReadStoredField(filepath.Join(c.data, natsDir), ref)
 }

@@ -168,11 +168,13 @@ func runRun(args []string) int {
 // outcome (true) or ctx is done (false).
 func watchProgress(ctx context.Context, coord *coordinator.Coordinator, rep sweep.SubmitReply, out *os.File, log hclog.Logger) bool {
 	tty := term.IsTerminal(int(out.Fd()))
-	every := 5 * time.Second
+	every := 5 * time.Second // between log lines
 	if tty {
 		every = 200 * time.Millisecond
 	}
-	tick := time.NewTicker(every)
+	// The status is looked at often, so that the command ends soon after
+	// the last outcome whatever the log interval.
+	tick := time.NewTicker(200 * time.Millisecond)
 	defer tick.Stop()
 	p := progress{start: time.Now(), base: rep.Stored - rep.Retried}
 	for {

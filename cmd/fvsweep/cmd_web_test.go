@@ -9,12 +9,12 @@ import (
 	"testing"
 )
 
-// cliFiles writes cliSpec into a temporary directory and names a data
-// directory beside it.
-func cliFiles(t *testing.T) (spec, data string) {
+// specFiles writes the spec src into a temporary directory and names a
+// data directory beside it.
+func specFiles(t *testing.T, src string) (spec, data string) {
 	dir := t.TempDir()
-	spec = filepath.Join(dir, "cli.toml")
-	if err := os.WriteFile(spec, []byte(cliSpec), 0o644); err != nil {
+	spec = filepath.Join(dir, "spec.toml")
+	if err := os.WriteFile(spec, []byte(src), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	return spec, filepath.Join(dir, "data")
@@ -23,7 +23,7 @@ func cliFiles(t *testing.T) (spec, data string) {
 // serve's status page answers status --http with what status gives over
 // NATS, and asks for its token.
 func TestStatusThroughStatusPage(t *testing.T) {
-	spec, data := cliFiles(t)
+	spec, data := specFiles(t, cliSpec)
 	c := &common{data: data, logLevel: "warn"}
 	log, _ := c.logger("test")
 	s, err := startService(c, defaultServerFlags(), "", log, nil)
@@ -71,7 +71,7 @@ func TestStatusThroughStatusPage(t *testing.T) {
 
 // --http beyond loopback without a token is refused before anything starts.
 func TestRunRefusesOpenStatusPage(t *testing.T) {
-	spec, data := cliFiles(t)
+	spec, data := specFiles(t, cliSpec)
 	t.Setenv("FVSWEEP_TOKEN", "")
 	t.Setenv("FVSWEEP_HTTP_TOKEN", "")
 	for _, cmd := range []func([]string) int{runRun, func(a []string) int { return runServe(a[1:]) }} {

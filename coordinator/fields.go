@@ -1,0 +1,75 @@
+package coordinator
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"strings"
+	"time"
+
+	"github.com/nats-io/nats.go"
+	"github.com/nats-io/nats.go/jetstream"
+)
+
+// FetchField reads the field snapshot ref from the JetStream object store
+// on nc; ref is what a done outcome holds in Snapshot, "BUCKET/OBJECT"
+// (the bucket sweep.Names.FieldBucket, the object the job ID). The bytes
+// are the snapshot encoding of sweep.EncodeField.
+func FetchField(ctx context.Context, nc *nats.Conn, ref string) ([]byte, error) {
+	bucket, obj, ok := strings.Cut(ref, "/")
+	if !ok || bucket == "" || obj == "" || strings.ContainsAny(bucket, ".*> ") {
+		return nil, fmt.Errorf("snapshot reference %q: want BUCKET/OBJECT", ref)
+	}
+	js, err := jetstream.New(nc)
+	if err != nil {
+		return nil, fmt.Errorf("snapshot %s: %w", ref, err)
+	}
+	store, err := js.ObjectStore(ctx, bucket)
+	if err != nil {
+		return nil, fmt.Errorf("snapshot %s: object store %s: %w", ref, bucket, err)
+	}
+	b, err := store.GetBytes(ctx, obj)
+	if errors.Is(err, jetstream.ErrObjectNotFound) {
+		return nil, fmt.Errorf("snapshot %s: not in object store %s (deleted, or stored on another server)", ref, bucket)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("snapshot %s: %w", ref, err)
+	}
+	return b, nil
+}
+
+// Field reads the field snapshot ref through the client's connection (see
+// FetchField).
+func (c *Client) Field(ctx context.Context, ref string) ([]byte, error) {
+	ctx, cancel := context.WithTimeout(ctx, c.Timeout)
+	defer cancel()
+	return FetchField(ctx, c.nc, ref)
+}
+
+// ReadStoredField reads the field snapshot ref from the JetStream files in
+// dir (DATA/nats) when no server runs on them: it starts an embedded
+// server there on a free loopback port, reads the object in process and
+// shuts the server down. It must not be used while another server uses
+// dir.
+func ReadStoredField(dir, ref string) ([]byte, error) {
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		return nil, fmt.Errorf("snapshot %s: no NATS files at %s (see --data, or give --nats)", ref, dir)
+	}
+	srv, err := StartServer(ServerOptions{Dir: dir, Name: "fvsweep-reader"})
+	if err != nil {
+		return nil, fmt.Errorf("snapshot %s: %w", ref, err)
+	}
+	defer func() {
+		srv.Shutdown()
+		srv.WaitForShutdown()
+	}()
+	nc, err := Dial(DialOptions{InProcess: srv, Name: "fvsweep snapshot reader"})
+	if err != nil {
+		return nil, fmt.Errorf("snapshot %s: %w", ref, err)
+	}
+	defer nc.Close()
+	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	defer cancel()
+	return FetchField(ctx, nc, ref)
+}
