@@ -242,6 +242,7 @@ func browser(t *testing.T) context.Context {
 		chromedp.DisableGPU,
 		chromedp.Flag("disable-background-networking", true),
 		chromedp.UserDataDir(t.TempDir()),
+		chromedp.WindowSize(1200, 900),
 	)
 	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
 	ctx, cancelTab := chromedp.NewContext(actx)
