@@ -221,6 +221,18 @@ type builtTables struct {
 	at   time.Time
 	took time.Duration
 	body []byte
+	etag string
+}
+
+// send answers the tables, or 304 Not Modified to a client that has them
+// (If-None-Match), which spares a large sweep's tables every poll.
+func (b builtTables) send(w http.ResponseWriter, r *http.Request) {
+	w.Header().Set("ETag", b.etag)
+	if r.Header.Get("If-None-Match") == b.etag {
+		w.WriteHeader(http.StatusNotModified)
+		return
+	}
+	writeJSON(w, b.body, nil)
 }
 
 // WebHandler returns the status page and its API. With token "" it answers
@@ -346,7 +358,8 @@ func (h *webHandler) workers(w http.ResponseWriter, r *http.Request) {
 
 // sweepTables answers the tables of a sweep, rebuilt when outcomes were
 // stored since the last build, but not more often than once a second (or
-// four times the last build's duration, for a large sweep).
+// four times the last build's duration, for a large sweep). The ETag
+// names the build.
 func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 	name := r.PathValue("name")
 	h.mu.Lock()
@@ -354,7 +367,7 @@ func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 	gen := h.c.generation()
 	now := time.Now()
 	if b, ok := h.tables[name]; ok && (b.gen == gen || now.Sub(b.at) < max(time.Second, 4*b.took)) {
-		writeJSON(w, b.body, nil)
+		b.send(w, r)
 		return
 	}
 	v, err := h.c.Tables(name)
@@ -367,8 +380,9 @@ func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 		writeJSON(w, nil, err)
 		return
 	}
-	h.tables[name] = builtTables{gen: gen, at: now, took: time.Since(now), body: body}
-	writeJSON(w, body, nil)
+	b := builtTables{gen: gen, at: now, took: time.Since(now), body: body, etag: fmt.Sprintf(`"%d-%d"`, gen, now.UnixNano())}
+	h.tables[name] = b
+	b.send(w, r)
 }
 
 // generation counts the coordinator's store writes so far.

@@ -124,7 +124,10 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	}
 	// The tables are rebuilt at most once a second while outcomes arrive.
 	time.Sleep(1100 * time.Millisecond)
-	get(t, h, host, "/api/sweeps/live/tables", &tv)
+	tag := get(t, h, host, "/api/sweeps/live/tables", &tv).Header.Get("ETag")
+	if res := get(t, h, host, "/api/sweeps/live/tables", nil, "If-None-Match", tag); tag == "" || res.StatusCode != http.StatusNotModified {
+		t.Errorf("tables again with their ETag %s: %s", tag, res.Status)
+	}
 	built, err := r.coord.Tables("live")
 	if err != nil {
 		t.Fatal(err)

@@ -7,6 +7,7 @@
 const pollEvery = 1000; // ms
 let chosen = decodeURIComponent(location.hash.slice(1)) || "";
 let lastTablesHTML = null;
+let tablesTag = ""; // ETag of the tables shown: the server answers 304 while they stand
 
 function el(tag, attrs, ...kids) {
   const e = document.createElement(tag);
@@ -20,11 +21,19 @@ function el(tag, attrs, ...kids) {
 }
 
 async function getJSON(path) {
-  const r = await fetch(path, { credentials: "same-origin", cache: "no-store" });
+  return (await fetchJSON(path, "")).body;
+}
+
+// fetchJSON fetches path and returns its body and ETag; with tag (an
+// ETag) the body is null when the server says the answer has not changed.
+async function fetchJSON(path, tag) {
+  const headers = tag ? { "If-None-Match": tag } : {};
+  const r = await fetch(path, { credentials: "same-origin", cache: "no-store", headers });
+  if (r.status === 304) return { body: null, tag };
   let body;
   try { body = await r.json(); } catch (e) { body = null; }
   if (!r.ok) throw new Error((body && body.error) || r.status + " " + r.statusText);
-  return body;
+  return { body, tag: r.headers.get("ETag") || "" };
 }
 
 function stateOf(s) {
@@ -115,7 +124,11 @@ async function drawTables() {
   if (!chosen) return;
   title.textContent = "Convergence: " + chosen;
   try {
-    const v = await getJSON("api/sweeps/" + encodeURIComponent(chosen) + "/tables");
+    const path = "api/sweeps/" + encodeURIComponent(chosen) + "/tables";
+    const got = await fetchJSON(path, lastTablesHTML === null ? "" : tablesTag);
+    if (got.body === null) return; // unchanged
+    const v = got.body;
+    tablesTag = got.tag;
     const pending = v.studies.reduce((n, s) => n + s.pending, 0);
     note.className = "quiet";
     note.textContent = pending > 0
@@ -129,6 +142,7 @@ async function drawTables() {
   } catch (e) {
     note.className = "error";
     note.textContent = "Tables unavailable: " + e.message;
+    lastTablesHTML = null;
   }
 }
 
