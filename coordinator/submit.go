@@ -28,70 +28,107 @@ const submitChunk = 4096
 // spec twice queues nothing new: stored jobs are skipped, and a job still
 // queued or running is refused by the stream (one message per job subject).
 //
-// Jobs are recorded (one transaction each) and queued in chunks of
-// submitChunk, and each chunk's parameters are released once queued, so
-// that a large sweep is not held in memory twice.
+// The expansion is streamed (Spec.Each): jobs are recorded (one
+// transaction per chunk of submitChunk) and queued a chunk at a time, so
+// that a large sweep is never held in memory whole.
 func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed bool) (sweep.SubmitReply, error) {
-	jobs, err := spec.Expand()
-	if err != nil {
-		return sweep.SubmitReply{}, err
-	}
-	rep := sweep.SubmitReply{Sweep: spec.Name, Jobs: len(jobs)}
+	rep := sweep.SubmitReply{Sweep: spec.Name}
 	rec := store.SweepRecord{Name: spec.Name, SpecFile: spec.File, Spec: spec.Source}
-	// Job message IDs make a second publish of a job within the duplicate
-	// window a no-op. A sweep that was canceled (its queue purged) or whose
-	// failed jobs are retried must queue its jobs again: it gets fresh IDs.
-	msgID := func(id string) string { return id }
-	if old, err := c.db.Sweep(spec.Name); err == nil {
-		if old.Canceled {
-			msgID = requeueID()
-			if err := c.db.SetCanceled(spec.Name, false); err != nil {
-				return rep, err
-			}
-			if err := c.kv.Delete(ctx, sweep.SweepToken(spec.Name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
-				return rep, fmt.Errorf("clearing cancel mark: %w", err)
-			}
-		}
-		if retryFailed {
-			msgID = requeueID()
-			if rep.Retried, err = c.deleteFailed(spec.Name); err != nil {
-				return rep, err
-			}
-		}
-	}
 	defer c.bump()
-	pub := c.newPublisher(ctx, msgID)
-	for start := 0; start == 0 || start < len(jobs); start += submitChunk {
-		chunk := jobs[start:min(start+submitChunk, len(jobs))]
+	// Each checks the whole spec before it gives the first job, so that a
+	// bad spec changes nothing: the sweep is reopened at the first job.
+	var pub *publisher
+	start := func() error {
+		msgID, retried, err := c.reopen(ctx, spec.Name, retryFailed)
+		rep.Retried = retried
+		pub = c.newPublisher(ctx, msgID)
+		return err
+	}
+	chunk := make([]sweep.Job, 0, submitChunk)
+	ids := make([]string, 0, submitChunk)
+	flush := func() error {
 		if _, _, err := c.db.PutSweep(rec, chunk); err != nil {
-			return rep, err
+			return err
 		}
-		ids := make([]string, len(chunk))
-		for i, j := range chunk {
-			ids[i] = j.ID
+		ids = ids[:0]
+		for _, j := range chunk {
+			ids = append(ids, j.ID)
 		}
 		stored, err := c.db.Stored(ids)
 		if err != nil {
-			return rep, err
+			return err
 		}
-		// Expand sorts by cost, largest first; the stream keeps that order.
-		for i := range chunk {
-			if stored[chunk[i].ID] {
+		// Each gives the jobs largest cost first; the stream keeps that order.
+		for _, j := range chunk {
+			if stored[j.ID] {
 				rep.Stored++
-			} else if err := pub.add(chunk[i]); err != nil {
-				rep.Queued = pub.queued
-				return rep, err
+			} else if err := pub.add(j); err != nil {
+				return err
 			}
-			chunk[i].Params = nil
 		}
+		clear(chunk)
+		chunk = chunk[:0]
+		return nil
 	}
-	err = pub.wait()
-	rep.Queued = pub.queued
+	err := spec.Each(func(j sweep.Job) error {
+		if pub == nil {
+			if err := start(); err != nil {
+				return err
+			}
+		}
+		rep.Jobs++
+		if chunk = append(chunk, j); len(chunk) == submitChunk {
+			return flush()
+		}
+		return nil
+	})
+	if err == nil && pub == nil { // no jobs
+		err = start()
+	}
+	if err == nil && (len(chunk) > 0 || rep.Jobs == 0) {
+		err = flush()
+	}
+	if err == nil {
+		err = pub.wait()
+	}
+	if pub != nil {
+		rep.Queued = pub.queued
+	}
 	if err != nil {
 		return rep, err
 	}
 	c.log.Info("sweep submitted", "sweep", spec.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
 	return rep, nil
+}
+
+// reopen prepares a stored sweep for a submission: a canceled one is
+// un-canceled, and with retryFailed its failed outcomes are deleted (it
+// returns how many). Job message IDs make a second publish of a job within
+// the duplicate window a no-op; a sweep that was canceled (its queue
+// purged) or whose failed jobs are retried must queue its jobs again, so
+// msgID then gives fresh IDs.
+func (c *Coordinator) reopen(ctx context.Context, name string, retryFailed bool) (msgID func(string) string, retried int, err error) {
+	msgID = func(id string) string { return id }
+	old, err := c.db.Sweep(name)
+	if err != nil {
+		return msgID, 0, nil // a new sweep
+	}
+	if old.Canceled {
+		msgID = requeueID()
+		if err := c.db.SetCanceled(name, false); err != nil {
+			return msgID, 0, err
+		}
+		if err := c.kv.Delete(ctx, sweep.SweepToken(name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
+			return msgID, 0, fmt.Errorf("clearing cancel mark: %w", err)
+		}
+	}
+	if retryFailed {
+		msgID = requeueID()
+		if retried, err = c.deleteFailed(name); err != nil {
+			return msgID, 0, err
+		}
+	}
+	return msgID, retried, nil
 }
 
 // deleteFailed deletes the failed outcomes of a sweep and counts them.

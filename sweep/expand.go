@@ -1,8 +1,11 @@
 package sweep
 
 import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
-	"sort"
+	"slices"
 	"strings"
 
 	"fvsweep/fv2d"
@@ -73,27 +76,6 @@ func (st *Study) each(fn func(kv map[string]string) error) error {
 	}
 }
 
-// runs resolves every run of st and calls fn with its index in expansion
-// order, its values and its cost estimate.
-func (st *Study) runs(fn func(v fv2d.Values, c fv2d.Cost)) error {
-	i := 0
-	return st.each(func(kv map[string]string) error {
-		v, err := fv2d.Resolve(st.Case, kv)
-		if err != nil {
-			return fmt.Errorf("study %d: %w (at %s)", st.Index, err, st.point(kv))
-		}
-		var c fv2d.Cost
-		if i < len(st.costs) {
-			c = st.costs[i]
-		} else {
-			c = fv2d.Estimate(v)
-		}
-		i++
-		fn(v, c)
-		return nil
-	})
-}
-
 // Group returns the identity of v without the study's grid parameters: the
 // case and every other "k=v", keys sorted. Runs that differ only in their grid
 // share a group, the rows of one convergence table.
@@ -124,33 +106,271 @@ func (st *Study) isGrid(name string) bool {
 // Expand returns every job of the spec, one per distinct run: a run that two
 // studies share is kept once, with the first study's identity (its Snapshot
 // is set if any of them asks for one). Jobs are sorted by Cost, largest
-// first, then by ID, so that big runs are dispatched first.
+// first, then by ID, so that big runs are dispatched first. It holds every
+// job at once; Each streams them in the same order.
 func (s *Spec) Expand() ([]Job, error) {
-	seen := map[string]int{}
 	var jobs []Job
+	err := s.Each(func(j Job) error {
+		jobs = append(jobs, j)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return jobs, nil
+}
+
+// Each calls fn with every job of Expand, in the same order, one at a time,
+// and stops at the first error fn returns (Each returns it). An error in
+// the spec is returned before the first call of fn. Each keeps about 60
+// bytes per distinct run, not the jobs: a first pass computes each run's ID
+// and cost and sorts those, a second builds each job from its run index
+// just before fn gets it. fn owns the job (its Params map is its own).
+func (s *Spec) Each(fn func(Job) error) error {
+	tabs := make([]*runTable, len(s.Studies))
 	for i := range s.Studies {
-		st := &s.Studies[i]
-		err := st.runs(func(v fv2d.Values, c fv2d.Cost) {
-			id := JobID(v)
-			if j, dup := seen[id]; dup {
-				jobs[j].Snapshot = jobs[j].Snapshot || st.Snapshot
-				return
+		t, err := newRunTable(&s.Studies[i])
+		if err != nil {
+			return fmt.Errorf("spec %s: %w", s.File, err)
+		}
+		tabs[i] = t
+	}
+	order, err := s.order(tabs)
+	if err != nil {
+		return err
+	}
+	var idx []int
+	for _, e := range order {
+		t := tabs[e.study]
+		idx = t.at(e.run, idx)
+		st := t.st
+		j := Job{ID: hex.EncodeToString(e.id[:]), Sweep: s.Name, Study: st.Index, Case: st.Case,
+			Params: t.params(idx), Refine: st.Refine, Group: t.group(idx), Cost: e.cost, Snapshot: e.snap}
+		if err := fn(j); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// run is one distinct run in the first pass of Each.
+type run struct {
+	cost  float64
+	id    [16]byte // JobID, undecoded
+	run   int      // index in its study's expansion order
+	study int32    // index into Spec.Studies
+	snap  bool
+}
+
+// order lists the distinct runs of s, largest cost first, then by ID: the
+// first study to have a run gives it its identity, and it is a snapshot if
+// any study asks for one.
+func (s *Spec) order(tabs []*runTable) ([]run, error) {
+	seen := make(map[[16]byte]int, min(s.Count(), 1<<20))
+	var out []run
+	for i, t := range tabs {
+		err := t.walk(func(k int, idx []int) error {
+			id := t.id(idx)
+			if at, dup := seen[id]; dup {
+				out[at].snap = out[at].snap || t.st.Snapshot
+				return nil
 			}
-			seen[id] = len(jobs)
-			jobs = append(jobs, Job{ID: id, Sweep: s.Name, Study: st.Index, Case: st.Case, Params: v.Map(),
-				Refine: st.Refine, Group: st.Group(v), Cost: c.Work(), Snapshot: st.Snapshot})
+			c, err := t.cost(k, idx)
+			if err != nil {
+				return err
+			}
+			seen[id] = len(out)
+			out = append(out, run{cost: c.Work(), id: id, run: k, study: int32(i), snap: t.st.Snapshot})
+			return nil
 		})
 		if err != nil {
 			return nil, fmt.Errorf("spec %s: %w", s.File, err)
 		}
 	}
-	sort.Slice(jobs, func(i, j int) bool {
-		if jobs[i].Cost != jobs[j].Cost {
-			return jobs[i].Cost > jobs[j].Cost
+	slices.SortFunc(out, func(a, b run) int {
+		switch {
+		case a.cost > b.cost:
+			return -1
+		case a.cost < b.cost:
+			return 1
 		}
-		return jobs[i].ID < jobs[j].ID
+		return bytes.Compare(a.id[:], b.id[:]) // the order of the hex IDs
 	})
-	return jobs, nil
+	return out, nil
+}
+
+// runTable gives the canonical parameters of any run of a study from its
+// index, without calling fv2d.Resolve per run: a run's values are those of
+// run 0 (fixed values and defaults included) with each dimension's axes at
+// that run's position, each axis value canonicalised once. ParseSpec has
+// resolved and checked every run; a study it did not check (no cost
+// estimates) is resolved run by run as the runs are walked.
+type runTable struct {
+	st      *Study
+	checked bool
+	dims    [][]Axis
+	keys    []string   // every parameter of the case, sorted
+	base    []string   // canonical value of keys[k] in run 0
+	axis    []int      // keys[k]'s index in flat, -1 when not varied
+	flat    []flatAxis // the axes of every dimension
+	grid    []bool     // keys[k] is a grid parameter
+	buf     []byte     // scratch for the canonical strings
+	kv      map[string]string
+}
+
+type flatAxis struct {
+	dim    int
+	values []string // canonical
+}
+
+func newRunTable(st *Study) (*runTable, error) {
+	t := &runTable{st: st, dims: st.dims(), checked: len(st.costs) == st.Count()}
+	kv := st.kv(make([]int, len(t.dims)), nil)
+	v0, err := fv2d.Resolve(st.Case, kv)
+	if err != nil {
+		return nil, fmt.Errorf("study %d: %w (at %s)", st.Index, err, st.point(kv))
+	}
+	t.keys = v0.Keys()
+	pos := make(map[string]int, len(t.keys))
+	for k, name := range t.keys {
+		pos[name] = k
+		t.base = append(t.base, v0.Get(name))
+		t.grid = append(t.grid, st.isGrid(name))
+		t.axis = append(t.axis, -1)
+	}
+	// Dimension d at position p, the others at 0, is a run of the study:
+	// its resolution canonicalises the values of d's axes at p.
+	idx := make([]int, len(t.dims))
+	for d, axes := range t.dims {
+		first := len(t.flat)
+		for _, a := range axes {
+			t.axis[pos[a.Name]] = len(t.flat)
+			t.flat = append(t.flat, flatAxis{dim: d, values: make([]string, len(a.Values))})
+		}
+		for p := range axes[0].Values {
+			idx[d] = p
+			kv = st.kv(idx, kv)
+			v, err := fv2d.Resolve(st.Case, kv)
+			if err != nil {
+				return nil, fmt.Errorf("study %d: %w (at %s)", st.Index, err, st.point(kv))
+			}
+			for i, a := range axes {
+				t.flat[first+i].values[p] = v.Get(a.Name)
+			}
+		}
+		idx[d] = 0
+	}
+	return t, nil
+}
+
+// kv fills m (a new map when nil) with the spec's settings of the run at
+// position idx: fixed values and each dimension's axes.
+func (st *Study) kv(idx []int, m map[string]string) map[string]string {
+	if m == nil {
+		m = make(map[string]string, len(st.Fixed)+len(idx)+1)
+	}
+	for k, v := range st.Fixed {
+		m[k] = v
+	}
+	for i, d := range st.dims() {
+		for _, a := range d {
+			m[a.Name] = a.Values[idx[i]]
+		}
+	}
+	return m
+}
+
+// value is the canonical value of keys[k] at position idx.
+func (t *runTable) value(k int, idx []int) string {
+	if a := t.axis[k]; a >= 0 {
+		f := &t.flat[a]
+		return f.values[idx[f.dim]]
+	}
+	return t.base[k]
+}
+
+// walk calls fn with the index and position of every run of the study, in
+// expansion order (the grid fastest).
+func (t *runTable) walk(fn func(k int, idx []int) error) error {
+	idx := make([]int, len(t.dims))
+	for k := 0; ; k++ {
+		if err := fn(k, idx); err != nil {
+			return err
+		}
+		d := len(t.dims) - 1
+		for ; d >= 0; d-- {
+			if idx[d]++; idx[d] < len(t.dims[d][0].Values) {
+				break
+			}
+			idx[d] = 0
+		}
+		if d < 0 {
+			return nil
+		}
+	}
+}
+
+// at returns the position of run k (in idx, reused when long enough).
+func (t *runTable) at(k int, idx []int) []int {
+	idx = slices.Grow(idx[:0], len(t.dims))[:len(t.dims)]
+	for d := len(t.dims) - 1; d >= 0; d-- {
+		n := len(t.dims[d][0].Values)
+		idx[d] = k % n
+		k /= n
+	}
+	return idx
+}
+
+// canon appends the canonical "case k=v ..." of the run at idx to dst,
+// without the grid parameters when noGrid is set: JobID's and Group's text.
+func (t *runTable) canon(dst []byte, idx []int, noGrid bool) []byte {
+	dst = append(dst, t.st.Case...)
+	for k, name := range t.keys {
+		if noGrid && t.grid[k] {
+			continue
+		}
+		dst = append(dst, ' ')
+		dst = append(dst, name...)
+		dst = append(dst, '=')
+		dst = append(dst, t.value(k, idx)...)
+	}
+	return dst
+}
+
+// id is the JobID of the run at idx, as bytes.
+func (t *runTable) id(idx []int) [16]byte {
+	t.buf = t.canon(t.buf[:0], idx, false)
+	sum := sha256.Sum256(t.buf)
+	return [16]byte(sum[:16])
+}
+
+// group is Study.Group of the run at idx.
+func (t *runTable) group(idx []int) string {
+	t.buf = t.canon(t.buf[:0], idx, true)
+	return string(t.buf)
+}
+
+// params is a new map of every parameter of the run at idx.
+func (t *runTable) params(idx []int) map[string]string {
+	m := make(map[string]string, len(t.keys))
+	for k, name := range t.keys {
+		m[name] = t.value(k, idx)
+	}
+	return m
+}
+
+// cost is the estimate of run k at idx: ParseSpec's, or for a study it
+// did not check, from resolving the run now.
+func (t *runTable) cost(k int, idx []int) (fv2d.Cost, error) {
+	if t.checked {
+		return t.st.costs[k], nil
+	}
+	t.kv = t.st.kv(idx, t.kv)
+	v, err := fv2d.Resolve(t.st.Case, t.kv)
+	if err != nil {
+		return fv2d.Cost{}, fmt.Errorf("study %d: %w (at %s)", t.st.Index, err, t.st.point(t.kv))
+	}
+	return fv2d.Estimate(v), nil
 }
 
 // Plan is the expansion of a spec summarised per study.
@@ -174,24 +394,35 @@ type StudyPlan struct {
 // Plan expands s and summarises it per study without keeping the jobs.
 func (s *Spec) Plan() (*Plan, error) {
 	pl := &Plan{Sweep: s.Name}
-	seen := map[string]bool{}
+	seen := map[[16]byte]bool{}
 	sum := 0.0
 	for i := range s.Studies {
 		sp := StudyPlan{Study: &s.Studies[i]}
+		t, err := newRunTable(sp.Study)
+		if err != nil {
+			return nil, fmt.Errorf("spec %s: %w", s.File, err)
+		}
+		nx, _ := slices.BinarySearch(t.keys, "nx")
+		ny, _ := slices.BinarySearch(t.keys, "ny")
 		grids := map[string]bool{}
-		err := sp.Study.runs(func(v fv2d.Values, c fv2d.Cost) {
+		err = t.walk(func(k int, idx []int) error {
+			c, err := t.cost(k, idx)
+			if err != nil {
+				return err
+			}
 			w := c.Work()
 			sp.Runs++
 			sp.Cost += w
-			if g := v.Get("nx") + "x" + v.Get("ny"); !grids[g] {
+			if g := t.value(nx, idx) + "x" + t.value(ny, idx); !grids[g] {
 				grids[g] = true
 				sp.Grids = append(sp.Grids, g)
 			}
-			if id := JobID(v); !seen[id] {
+			if id := t.id(idx); !seen[id] {
 				seen[id] = true
 				pl.Jobs++
 				pl.Cost += w
 			}
+			return nil
 		})
 		if err != nil {
 			return nil, fmt.Errorf("spec %s: %w", s.File, err)

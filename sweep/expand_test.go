@@ -125,9 +125,9 @@ func TestCanonicalIDs(t *testing.T) {
 	}
 }
 
-func TestExpandDedup(t *testing.T) {
-	// Study 2 repeats study 1's mc runs and adds minmod: 2 + 2 runs, 3 jobs.
-	src := `name = "dup"
+// dupSpec: study 2 repeats study 1's mc runs and adds minmod: 2 + 2 runs,
+// 3 jobs.
+const dupSpec = `name = "dup"
 [[study]]
 case = "spec-test-case"
 axes = { limiter = ["mc"] }
@@ -139,7 +139,9 @@ snapshot = true
 axes = { limiter = ["minmod", "mc"] }
 fixed = { nx = 16, ny = 16 }
 `
-	s := mustParse(t, src, DefaultLimits())
+
+func TestExpandDedup(t *testing.T) {
+	s := mustParse(t, dupSpec, DefaultLimits())
 	jobs, err := s.Expand()
 	if err != nil {
 		t.Fatal(err)
@@ -224,18 +226,36 @@ func TestEachOrder(t *testing.T) {
 	}
 }
 
-func BenchmarkExpand(b *testing.B) {
-	// 10 x 10 x 10 x 10 x 10 = 100,000 jobs.
+// bench100k is a study of 10 x 10 x 10 x 10 x 10 = 100,000 runs.
+func bench100k(b *testing.B) *Spec {
 	list := "[0, 1, 2, 3, 4, 5, 6, 7, 8, 9]"
 	s, err := ParseSpec("bench.toml", []byte(study("case = \"spec-test-case\"\naxes = { k0 = "+list+", k1 = "+list+
 		", k2 = "+list+", k3 = "+list+" }\nrefine = { nx = [4, 5, 6, 7, 8, 9, 10, 11, 12, 13] }\n")), DefaultLimits())
 	if err != nil {
 		b.Fatal(err)
 	}
+	return s
+}
+
+func BenchmarkExpand(b *testing.B) {
+	s := bench100k(b)
 	for b.Loop() {
 		jobs, err := s.Expand()
 		if err != nil || len(jobs) != 100_000 {
 			b.Fatal(len(jobs), err)
+		}
+	}
+	b.ReportMetric(100_000, "jobs/op")
+}
+
+// BenchmarkEach streams the 100,000 jobs without keeping them.
+func BenchmarkEach(b *testing.B) {
+	s := bench100k(b)
+	for b.Loop() {
+		n := 0
+		err := s.Each(func(Job) error { n++; return nil })
+		if err != nil || n != 100_000 {
+			b.Fatal(n, err)
 		}
 	}
 	b.ReportMetric(100_000, "jobs/op")

@@ -1,0 +1,128 @@
+package sweep
+
+import (
+	"errors"
+	"path/filepath"
+	"reflect"
+	"sort"
+	"strings"
+	"testing"
+
+	"fvsweep/fv2d"
+)
+
+// resolveAll is the expansion by definition: every run resolved by
+// fv2d.Resolve, its ID from JobID, its group from Study.Group, its cost
+// from fv2d.Estimate; duplicates kept once (first study, snapshot if any
+// asks); sorted by cost, largest first, then ID.
+func resolveAll(t *testing.T, s *Spec) []Job {
+	t.Helper()
+	seen := map[string]int{}
+	var jobs []Job
+	for i := range s.Studies {
+		st := &s.Studies[i]
+		err := st.each(func(kv map[string]string) error {
+			v, err := fv2d.Resolve(st.Case, kv)
+			if err != nil {
+				return err
+			}
+			id := JobID(v)
+			if at, dup := seen[id]; dup {
+				jobs[at].Snapshot = jobs[at].Snapshot || st.Snapshot
+				return nil
+			}
+			seen[id] = len(jobs)
+			jobs = append(jobs, Job{ID: id, Sweep: s.Name, Study: st.Index, Case: st.Case, Params: v.Map(),
+				Refine: st.Refine, Group: st.Group(v), Cost: fv2d.Estimate(v).Work(), Snapshot: st.Snapshot})
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	sort.Slice(jobs, func(i, j int) bool {
+		if jobs[i].Cost != jobs[j].Cost {
+			return jobs[i].Cost > jobs[j].Cost
+		}
+		return jobs[i].ID < jobs[j].ID
+	})
+	return jobs
+}
+
+// Each (and Expand on it) gives exactly the jobs of the definition, in the
+// same order, for the test specs and every example config; so does a
+// study that ParseSpec did not check (resolved run by run).
+func TestEachMatchesResolve(t *testing.T) {
+	specs := map[string]*Spec{
+		"good": mustParse(t, goodSpec, DefaultLimits()),
+		"dup":  mustParse(t, dupSpec, DefaultLimits()),
+	}
+	files, _ := filepath.Glob("../configs/*.toml")
+	for _, f := range files {
+		s, err := LoadSpec(f, DefaultLimits())
+		if err != nil {
+			t.Fatal(err)
+		}
+		specs[f] = s
+	}
+	for name, s := range specs {
+		want := resolveAll(t, s)
+		got, err := s.Expand()
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if !reflect.DeepEqual(got, want) {
+			t.Errorf("%s: Expand differs from the per-run resolution (%d vs %d jobs)", name, len(got), len(want))
+			for i := range min(len(got), len(want)) {
+				if !reflect.DeepEqual(got[i], want[i]) {
+					t.Errorf("first difference at %d:\n got %+v\nwant %+v", i, got[i], want[i])
+					break
+				}
+			}
+		}
+		for i := range s.Studies {
+			s.Studies[i].costs = nil
+		}
+		if again, err := s.Expand(); err != nil || !reflect.DeepEqual(again, want) {
+			t.Errorf("%s: unchecked studies: %d jobs, %v", name, len(again), err)
+		}
+	}
+}
+
+// Each stops at fn's first error and returns it; a job's Params map is its
+// own.
+func TestEachStops(t *testing.T) {
+	s := mustParse(t, goodSpec, DefaultLimits())
+	stop := errors.New("stop")
+	n := 0
+	err := s.Each(func(j Job) error {
+		j.Params["limiter"] = "changed"
+		if n++; n == 5 {
+			return stop
+		}
+		return nil
+	})
+	if err != stop || n != 5 {
+		t.Fatalf("Each = %v after %d jobs, want stop after 5", err, n)
+	}
+	jobs, _ := s.Expand()
+	for _, j := range jobs {
+		if j.Params["limiter"] == "changed" {
+			t.Fatal("a job's Params is shared with another expansion")
+		}
+	}
+}
+
+// A study that ParseSpec did not check, with a run that the case refuses,
+// fails with the study and the run named.
+func TestEachUncheckedBadRun(t *testing.T) {
+	s := mustParse(t, study("case = \"spec-test-case\"\naxes = { test = [2, 1], amp = [0.2, 0.9] }\n"), DefaultLimits())
+	st := &s.Studies[0]
+	st.costs = nil
+	st.Axes[0].Values[1] = "3" // test = 3 needs amp <= 0.5
+	err := s.Each(func(Job) error { return nil })
+	if err == nil || !strings.Contains(err.Error(), "test 3 needs amp") || !strings.Contains(err.Error(), "study 1") ||
+		!strings.Contains(err.Error(), "amp=0.9 test=3") {
+		t.Fatalf("Each = %v, want the refused run named", err)
+	}
+}
