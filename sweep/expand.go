@@ -238,16 +238,24 @@ func newRunTable(st *Study) (*runTable, error) {
 		t.grid = append(t.grid, st.isGrid(name))
 		t.axis = append(t.axis, -1)
 	}
-	// Dimension d at position p, the others at 0, is a run of the study:
-	// its resolution canonicalises the values of d's axes at p.
+	// ParseSpec keeps canonical values. In a study it did not check, the
+	// run with dimension d at position p and the others at 0 canonicalises
+	// the values of d's axes at p.
 	idx := make([]int, len(t.dims))
 	for d, axes := range t.dims {
 		first := len(t.flat)
 		for _, a := range axes {
 			t.axis[pos[a.Name]] = len(t.flat)
-			t.flat = append(t.flat, flatAxis{dim: d, values: make([]string, len(a.Values))})
+			f := flatAxis{dim: d, values: a.Values}
+			if !t.checked {
+				f.values = make([]string, len(a.Values))
+			}
+			t.flat = append(t.flat, f)
 		}
 		for p := range axes[0].Values {
+			if t.checked {
+				break
+			}
 			idx[d] = p
 			kv = st.kv(idx, kv)
 			v, err := fv2d.Resolve(st.Case, kv)
