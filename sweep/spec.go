@@ -86,6 +86,7 @@ type Study struct {
 	Snapshot    bool              // store the final fields
 	DesignOrder float64           // expected order of accuracy; 0 = from the scheme
 	OrderTol    float64           // accepted |observed - design| order
+	OrderTolHi  float64           // accepted observed - design above it; = OrderTol unless set
 	Var         string            // conserved variable the tables judge
 	Norm        string            // l1, l2 or linf
 	Functional  string            // functional for the GCI, "" if none
@@ -190,7 +191,7 @@ func (p *parser) fail(study int, path []string, key, format string, args ...any)
 var (
 	topKeys   = []string{"name", "description", "study"}
 	studyKeys = []string{"case", "label", "fixed", "axes", "together", "refine", "snapshot",
-		"design_order", "order_tol", "var", "norm", "functional"}
+		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
 )
 
@@ -563,7 +564,10 @@ func (sp *studyParser) options(m map[string]any) error {
 	if st.DesignOrder, err = sp.number(m, "design_order", 0, true); err != nil {
 		return err
 	}
-	st.OrderTol, err = sp.number(m, "order_tol", DefaultOrderTol, false)
+	if st.OrderTol, err = sp.number(m, "order_tol", DefaultOrderTol, false); err != nil {
+		return err
+	}
+	st.OrderTolHi, err = sp.number(m, "order_tol_high", st.OrderTol, false)
 	return err
 }
 

@@ -74,3 +74,21 @@ func ExampleVerdict() {
 	// Output:
 	// pass: finest-pair order 1.98, fitted 1.95 ± 0.014 over 4 grids, design 2 ± 0.15
 }
+
+// The pass band of a limited second-order scheme on a smooth case is
+// [1.85, 2.6] (CHECKS.md section 4, common practice): an order of 2.4 on the
+// finest pair passes it and fails the symmetric band 2 ± 0.15.
+func TestVerdictBand(t *testing.T) {
+	h := []float64{0.4, 0.2, 0.1}
+	e := []float64{1, 1.0 / math.Pow(2, 2.4), 1.0 / math.Pow(2, 4.8)}
+	if v := VerdictBand(h, e, 2, 0.15, 0.6); v.Status != StatusPass {
+		t.Errorf("band [1.85, 2.6]: %s (%s)", v.Status, v.Summary)
+	}
+	if v := Verdict(h, e, 2, 0.15); v.Status != StatusHigh {
+		t.Errorf("band 2 ± 0.15: %s (%s)", v.Status, v.Summary)
+	}
+	e = []float64{1, 1.0 / math.Pow(2, 1.8), 1.0 / math.Pow(2, 3.6)}
+	if v := VerdictBand(h, e, 2, 0.15, 0.6); v.Status != StatusLow {
+		t.Errorf("order 1.8 in band [1.85, 2.6]: %s (%s)", v.Status, v.Summary)
+	}
+}

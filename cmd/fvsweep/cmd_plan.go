@@ -110,6 +110,7 @@ type planStudy struct {
 	Snapshot    bool              `json:"snapshot"`
 	DesignOrder float64           `json:"design_order"` // 0: from the scheme
 	OrderTol    float64           `json:"order_tol"`
+	OrderTolHi  float64           `json:"order_tol_high"`
 	Var         string            `json:"var"`
 	Norm        string            `json:"norm"`
 	Functional  string            `json:"functional,omitempty"`
@@ -138,7 +139,7 @@ func planJSON(spec *sweep.Spec, pl *sweep.Plan) planDoc {
 		st := sp.Study
 		ps := planStudy{Index: st.Index, Label: st.Label, Case: st.Case, Fixed: st.Fixed, Axes: planAxes(st.Axes),
 			Together: [][]planAxis{}, Refine: st.Refine, Grid: planAxes(st.Grid), Grids: sp.Grids, Runs: sp.Runs,
-			Cost: sp.Cost, Share: sp.Share, Snapshot: st.Snapshot, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol,
+			Cost: sp.Cost, Share: sp.Share, Snapshot: st.Snapshot, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol, OrderTolHi: st.OrderTolHi,
 			Var: st.Var, Norm: st.Norm, Functional: st.Functional}
 		if ps.Fixed == nil {
 			ps.Fixed = map[string]string{}
@@ -243,7 +244,11 @@ func judgedString(st *sweep.Study) string {
 	} else {
 		s += ", design order of the scheme"
 	}
-	s += fmt.Sprintf(" ± %g", st.OrderTol)
+	if st.OrderTolHi != st.OrderTol {
+		s += fmt.Sprintf(" -%g/+%g", st.OrderTol, st.OrderTolHi)
+	} else {
+		s += fmt.Sprintf(" ± %g", st.OrderTol)
+	}
 	if st.Snapshot {
 		s += ", final fields kept"
 	}

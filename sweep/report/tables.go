@@ -70,6 +70,7 @@ type Study struct {
 	Norm   string  `json:"norm"`
 	Design float64 `json:"design_order"` // 0: from each group's scheme
 	Tol    float64 `json:"order_tol"`
+	TolHi  float64 `json:"order_tol_high"`
 	// Exact tells whether the case has an exact solution, so that errors
 	// and orders exist at all.
 	Exact bool `json:"exact"`
@@ -143,10 +144,10 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 	reported := map[string]bool{} // functionals any result reports, for the Options.Functional error
 	for _, k := range idx {
 		sj := byStudy[k]
-		st := Study{Index: k, Case: sj[0].Case, Tol: sweep.DefaultOrderTol, Norm: "l1"}
+		st := Study{Index: k, Case: sj[0].Case, Tol: sweep.DefaultOrderTol, TolHi: sweep.DefaultOrderTol, Norm: "l1"}
 		if spec != nil && k >= 1 && k <= len(spec.Studies) {
 			ss := spec.Studies[k-1]
-			st.Var, st.Design, st.Tol, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.Functional
+			st.Var, st.Design, st.Tol, st.TolHi, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.OrderTolHi, ss.Functional
 			if ss.Label != ss.Case {
 				st.Label = ss.Label
 			}
@@ -283,7 +284,7 @@ func (st *Study) judge(g *Group) {
 		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Summary: "no design order: set design_order in the study"}
 		return
 	}
-	g.Verdict = sweep.Verdict(hs, es, design, st.Tol)
+	g.Verdict = sweep.VerdictBand(hs, es, design, st.Tol, st.TolHi)
 	g.Verdict.Summary = strings.TrimPrefix(g.Verdict.Summary, g.Verdict.Status+": ")
 }
 
