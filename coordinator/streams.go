@@ -98,7 +98,9 @@ func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d
 		Durable:       n.CoordinatorConsumer(),
 		Description:   "fvsweep coordinator: outcomes to the store",
 		AckPolicy:     jetstream.AckExplicitPolicy,
-		AckWait:       time.Minute,
+		// Outcomes a killed coordinator held come back after this; a batch
+		// that takes longer to store comes again as duplicates, no-ops.
+		AckWait:       d.AckWait,
 		MaxDeliver:    -1,
 		MaxAckPending: 20000,
 		Replicas:      d.Replicas,

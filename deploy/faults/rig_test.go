@@ -230,9 +230,11 @@ func (r *rig) writeSpec(src string) (string, string, map[string]sweep.Job) {
 
 // status asks the running coordinator for the sweep's status.
 func (r *rig) status(name string, nats string) (sweep.SweepStatus, bool) {
-	out, _, code := r.cli("status", name, "--json", "--data", r.data, "--nats", nats)
+	t0 := time.Now()
+	out, errs, code := r.cli("status", name, "--json", "--data", r.data, "--nats", nats)
 	var st sweep.SweepStatus
 	if code != 0 || json.Unmarshal([]byte(out), &st) != nil {
+		r.t.Logf("status after %v: exit %d: %s", time.Since(t0), code, strings.TrimSpace(errs))
 		return st, false
 	}
 	return st, true
