@@ -53,7 +53,7 @@ func TestNodeConfigsFormOneCluster(t *testing.T) {
 		if !slices.Equal(peers, want) {
 			t.Errorf("node %d routes to %v, want %v", i, peers, want)
 		}
-		if !o.JetStream || o.StoreDir != "/var/lib/fvsweep/nats" {
+		if !o.JetStream || o.StoreDir != "/var/lib/fvsweep-nats" {
 			t.Errorf("node %d: jetstream %v store %q", i, o.JetStream, o.StoreDir)
 		}
 	}

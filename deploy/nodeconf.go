@@ -27,7 +27,7 @@ func NATSDir() string {
 const (
 	clientListen  = "listen: 0.0.0.0:4222"
 	clusterListen = "listen: 0.0.0.0:6222"
-	storeDir      = `store_dir: "/var/lib/fvsweep/nats"`
+	storeDir      = `store_dir: "/var/lib/fvsweep-nats"`
 )
 
 func routeURL(i int) string { return fmt.Sprintf("nats-route://fvsweep-nats-%d:6222", i) }
