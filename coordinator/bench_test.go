@@ -91,7 +91,8 @@ func BenchmarkThroughputTrivial(b *testing.B) {
 // BenchmarkMemory100k runs a sweep of 100,000 trivial jobs with the NATS
 // server and 2 workers in a child process, so that this process is the
 // coordinator alone (with the spec parsing and the store), and reports its
-// peak resident memory (VmHWM) and peak Go heap.
+// peak resident memory (VmHWM), peak Go heap and, at the end, the resident
+// pages of mapped files (the store).
 func BenchmarkMemory100k(b *testing.B) {
 	const n = 100000
 	dir := b.TempDir()
@@ -144,7 +145,11 @@ func BenchmarkMemory100k(b *testing.B) {
 	close(stop)
 	wg.Wait()
 	b.ReportMetric(float64(peak.Load())/(1<<20), "peak-heap-MiB")
-	b.ReportMetric(float64(vmHWM())/(1<<20), "peak-RSS-MiB")
+	b.ReportMetric(float64(procStatus("VmHWM"))/(1<<20), "peak-RSS-MiB")
+	b.ReportMetric(float64(procStatus("RssFile"))/(1<<20), "end-RSS-file-MiB")
+	if fi, err := os.Stat(r.db.Path()); err == nil {
+		b.ReportMetric(float64(fi.Size())/(1<<20), "store-file-MiB")
+	}
 	b.ReportMetric(float64(n*b.N)/total.Seconds(), "jobs/s")
 	b.ReportMetric(0, "ns/op")
 }
@@ -184,15 +189,16 @@ func TestHelperServerAndWorkers(t *testing.T) {
 	wg.Wait()
 }
 
-// vmHWM is the peak resident set size of this process from
-// /proc/self/status (0 where there is none).
-func vmHWM() int64 {
+// procStatus is a size in bytes from /proc/self/status: VmHWM, the peak
+// resident set size, or RssFile, the resident pages of mapped files such as
+// the bbolt store (0 where there is none).
+func procStatus(field string) int64 {
 	data, err := os.ReadFile("/proc/self/status")
 	if err != nil {
 		return 0
 	}
 	for _, line := range strings.Split(string(data), "\n") {
-		if f := strings.Fields(line); len(f) >= 2 && f[0] == "VmHWM:" {
+		if f := strings.Fields(line); len(f) >= 2 && f[0] == field+":" {
 			kb, _ := strconv.ParseInt(f[1], 10, 64)
 			return kb << 10
 		}
