@@ -95,9 +95,9 @@ func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d
 		return fmt.Errorf("consumer %s: %w", n.WorkerConsumer(), err)
 	}
 	_, err = js.CreateOrUpdateConsumer(ctx, n.ResultStream(), jetstream.ConsumerConfig{
-		Durable:       n.CoordinatorConsumer(),
-		Description:   "fvsweep coordinator: outcomes to the store",
-		AckPolicy:     jetstream.AckExplicitPolicy,
+		Durable:     n.CoordinatorConsumer(),
+		Description: "fvsweep coordinator: outcomes to the store",
+		AckPolicy:   jetstream.AckExplicitPolicy,
 		// Outcomes a killed coordinator held come back after this; a batch
 		// that takes longer to store comes again as duplicates, no-ops.
 		AckWait:       d.AckWait,
