@@ -16,6 +16,7 @@ import (
 	"strings"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep"
 )
 
 func init() {
@@ -49,8 +50,9 @@ func solveMain(args []string, stdout, stderr io.Writer) int {
 	fs.Var(kv, "p", "parameter `key=value` (repeatable; see 'fvsweep cases CASE')")
 	asJSON := fs.Bool("json", false, "print the report as JSON")
 	dump := fs.String("dump", "", "write the final cell averages as CSV to `FILE`")
+	memLimit := fs.String("mem-limit", "8GiB", "refuse a run whose memory estimate exceeds `SIZE`")
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv]")
+		fmt.Fprintln(stderr, "usage: fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv] [--mem-limit SIZE]")
 		fs.PrintDefaults()
 	}
 	// The case name may come before or after the flags.
@@ -80,9 +82,21 @@ func solveMain(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "fvsweep solve: unexpected argument %q\n", rest[0])
 		return 2
 	}
+	maxBytes, err := sweep.ParseBytes(*memLimit)
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep solve: --mem-limit: %v\n", err)
+		return 2
+	}
 	v, err := fv2d.Resolve(name, kv)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep solve: %v\n", err)
+		return 1
+	}
+	// The same guard as a spec's: a grid too large for memory is refused
+	// before it is allocated, not left to crash the runtime.
+	if c := fv2d.Estimate(v); c.Bytes > maxBytes {
+		fmt.Fprintf(stderr, "fvsweep solve: case %s: grid %sx%s needs an estimated %.3g GiB, over --mem-limit %s\n",
+			name, v.Get("nx"), v.Get("ny"), float64(c.Bytes)/(1<<30), *memLimit)
 		return 1
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)

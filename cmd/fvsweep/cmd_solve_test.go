@@ -83,6 +83,9 @@ func TestSolveErrors(t *testing.T) {
 		{[]string{"shocktube", "-p", "test=2", "-p", "rho_l=3"}, "set test=0"},
 		{[]string{"burgers-sine", "-p", "t_end=1"}, "breaking time"},
 		{[]string{"vortex", "-p", "nx=16", "-p", "ny=16", "-p", "max_steps=2"}, "step guard exceeded"},
+		{[]string{"vortex", "-p", "nx=100000", "-p", "ny=100000"}, "over --mem-limit 8GiB"},
+		{[]string{"vortex", "-p", "nx=64", "-p", "ny=64", "--mem-limit", "1KiB"}, "needs an estimated"},
+		{[]string{"vortex", "--mem-limit", "lots"}, "--mem-limit: size"},
 	} {
 		code, _, errs := runSolve(tc.args...)
 		if code == 0 || !strings.Contains(errs, tc.want) || strings.Count(strings.TrimSpace(errs), "\n") != 0 {
