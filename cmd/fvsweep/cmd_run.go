@@ -139,7 +139,8 @@ func runRun(args []string) int {
 		return fail("run: %v", err)
 	}
 	printSubmitted(rep)
-	fmt.Printf("%d local workers x %d slots; other terminals: fvsweep status %s --data %s\n", *nw, *conc, rep.Sweep, c.data)
+	fmt.Printf("%d local %s x %d %s; other terminals: fvsweep status %s --data %s\n",
+		*nw, plural(*nw, "worker"), *conc, plural(*conc, "slot"), rep.Sweep, c.data)
 	finished := watchProgress(ctx, s.coord, rep, os.Stderr, log)
 	stop(!finished)
 	if !finished {

@@ -102,7 +102,7 @@ func storeStatus(c *common, name string) (rep sweep.StatusReply, live bool, err 
 // writeStatus prints the status as text tables.
 func writeStatus(w io.Writer, rep sweep.StatusReply, live bool) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "sweep\tjobs\tdone\tfailed\trunning\tqueued\t\tupdated\t")
+	fmt.Fprintln(tw, "sweep\tjobs\tdone\tfailed\trunning\tqueued\tstate\tupdated\t")
 	for _, s := range rep.Sweeps {
 		state := ""
 		if s.Canceled {
@@ -118,7 +118,7 @@ func writeStatus(w io.Writer, rep sweep.StatusReply, live bool) {
 		fmt.Fprintln(w, "\nno coordinator running: read from the store")
 		return
 	}
-	fmt.Fprintf(w, "\n%d live workers\n", len(rep.Workers))
+	fmt.Fprintf(w, "\n%d live %s\n", len(rep.Workers), plural(len(rep.Workers), "worker"))
 	if len(rep.Workers) == 0 {
 		return
 	}
@@ -133,4 +133,12 @@ func writeStatus(w io.Writer, rep sweep.StatusReply, live bool) {
 			100*r.Busy, strings.Join(cur, " "))
 	}
 	tw.Flush()
+}
+
+// plural returns noun, with an "s" unless n is 1.
+func plural(n int, noun string) string {
+	if n == 1 {
+		return noun
+	}
+	return noun + "s"
 }
