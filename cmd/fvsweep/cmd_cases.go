@@ -5,6 +5,7 @@ import (
 	"io"
 	"os"
 	"strings"
+	"text/tabwriter"
 
 	"fvsweep/fv2d"
 )
@@ -49,12 +50,16 @@ func casesMain(args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
+// printParams prints one parameter a line: name, default, type or choices,
+// meaning, in columns as wide as the longest entry.
 func printParams(w io.Writer, ps []fv2d.Param) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, p := range ps {
 		typ := p.Kind.String()
 		if p.Kind == fv2d.Choice {
 			typ = strings.Join(p.Choices, "|")
 		}
-		fmt.Fprintf(w, "  %-10s %-8s %-28s %s\n", p.Name, p.Default, typ, p.Doc)
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", p.Name, p.Default, typ, p.Doc)
 	}
+	tw.Flush()
 }
