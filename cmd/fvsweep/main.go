@@ -55,8 +55,10 @@ func main() {
 	os.Exit(c.run(os.Args[2:]))
 }
 
-// fail prints a one-line error and returns exit code 1.
+// fail prints a one-line error and returns exit code 1. format starts
+// with the command's name ("table: %v"), so the line reads
+// "fvsweep table: ...", as the commands that print their own errors do.
 func fail(format string, args ...any) int {
-	fmt.Fprintf(os.Stderr, "fvsweep: "+format+"\n", args...)
+	fmt.Fprintf(os.Stderr, "fvsweep "+format+"\n", args...)
 	return 1
 }
