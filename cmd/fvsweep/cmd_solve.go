@@ -179,16 +179,22 @@ func printReport(w io.Writer, r *fv2d.Result) {
 	fmt.Fprintf(w, "params      %s\n", strings.Join(ps, " "))
 	fmt.Fprintf(w, "grid        %d x %d cells, %d steps to t = %.6g\n", r.NX, r.NY, r.Steps, r.TFinal)
 	fmt.Fprintf(w, "wall        %.3f s, %.4g cell updates/s\n", r.WallS, r.CellUpdatesPerS)
-	fmt.Fprintf(w, "\n%-10s %22s %22s %12s\n", "total", "initial", "final", "rel. change")
+	// The change is relative to the initial total, or absolute (marked) when
+	// that total is 0.
+	fmt.Fprintf(w, "\n%-10s %22s %22s %16s\n", "total", "initial", "final", "change")
 	for _, k := range vars {
 		t := r.Totals[k]
-		rel := (t.Final - t.Initial) / math.Max(math.Abs(t.Initial), math.SmallestNonzeroFloat64)
-		if t.Initial == 0 {
-			rel = t.Final - t.Initial
+		d, unit := t.Final-t.Initial, "rel"
+		if t.Initial != 0 {
+			d /= math.Abs(t.Initial)
+		} else {
+			unit = "abs"
 		}
-		fmt.Fprintf(w, "%-10s %22.15g %22.15g %12.3e\n", k, t.Initial, t.Final, rel)
+		fmt.Fprintf(w, "%-10s %22.15g %22.15g %12.3e %s\n", k, t.Initial, t.Final, d, unit)
 	}
-	if r.Errors != nil {
+	if r.Errors == nil {
+		fmt.Fprintf(w, "\nerror       none: no exact solution for these parameters\n")
+	} else {
 		fmt.Fprintf(w, "\n%-10s %12s %12s %12s\n", "error", "L1", "L2", "Linf")
 		for _, k := range vars {
 			n := r.Errors[k]

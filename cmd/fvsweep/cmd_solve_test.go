@@ -60,10 +60,13 @@ func TestSolveTextAndDump(t *testing.T) {
 	if lines[0] != "x,y,u" || len(lines) != 1+8*2 {
 		t.Errorf("dump: header %q, %d lines", lines[0], len(lines))
 	}
-	code, _, _ = runSolve("quadrants", "-p", "nx=8", "-p", "ny=8", "--dump", path)
+	code, out, _ = runSolve("quadrants", "-p", "nx=8", "-p", "ny=8", "--dump", path)
 	b, _ = os.ReadFile(path)
 	if code != 0 || !strings.HasPrefix(string(b), "x,y,rho,u,v,p\n") {
 		t.Errorf("euler dump header: %q", strings.SplitN(string(b), "\n", 2)[0])
+	}
+	if !strings.Contains(out, "none: no exact solution") || strings.Contains(out, "Linf") {
+		t.Errorf("a case without exact solution should say so, not print errors:\n%s", out)
 	}
 }
 
