@@ -38,9 +38,10 @@ func ThisMachine(v string) Machine {
 
 // Figure is a drawn plot for the report.
 type Figure struct {
-	Title string
-	SVG   template.HTML // a checked, well-formed <svg> element
-	Notes []string
+	Title   string        // the plot's own title
+	Caption string        // what the plot shows, below it
+	SVG     template.HTML // a checked, well-formed <svg> element
+	Notes   []string
 }
 
 // StudyReport is a study's tables with its plots.
@@ -123,10 +124,14 @@ func (r *Report) AddFigures() {
 			sr.Notes = append(sr.Notes, "no errors to plot yet (no finished grid)")
 			continue
 		}
+		y := NormLabel(sr.Study.Norm, sr.Study.Var)
 		for _, mk := range []struct {
-			name string
-			fn   func(Study) (*plots.Figure, error)
-		}{{"convergence", ConvergenceFigure}, {"cost", CostFigure}} {
+			name, caption string
+			fn            func(Study) (*plots.Figure, error)
+		}{
+			{"convergence", y + " against the grid spacing h, log-log, one line per group; dashed grey: slopes of order 1 and 2; legend: least-squares order ± its standard error.", ConvergenceFigure},
+			{"cost", y + " against CPU seconds (wall x threads), coarse grid first: the line lower left reaches an error for less work.", CostFigure},
+		} {
 			f, err := mk.fn(sr.Study)
 			if err != nil {
 				sr.Notes = append(sr.Notes, fmt.Sprintf("%s plot: %v", mk.name, err))
@@ -137,7 +142,7 @@ func (r *Report) AddFigures() {
 				sr.Notes = append(sr.Notes, fmt.Sprintf("%s plot: %v", mk.name, err))
 				continue
 			}
-			sr.Figures = append(sr.Figures, Figure{Title: f.Title, SVG: svg, Notes: f.Notes})
+			sr.Figures = append(sr.Figures, Figure{Title: f.Title, Caption: mk.caption, SVG: svg, Notes: f.Notes})
 		}
 	}
 }
@@ -221,7 +226,7 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 {{template "head" .}}
 {{range .Figures}}<figure>
 {{.SVG}}
-<figcaption>{{.Title}}{{range .Notes}} <span class="note">{{.}}</span>{{end}}</figcaption>
+<figcaption>{{.Caption}}{{range .Notes}} <span class="note">{{.}}</span>{{end}}</figcaption>
 </figure>
 {{end}}{{range .Notes}}<p class="note">{{.}}</p>
 {{end}}{{template "study" .Study}}
