@@ -102,6 +102,10 @@ func solveMain(args []string, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	res, err := fv2d.Run(ctx, v)
+	if errors.Is(err, context.Canceled) {
+		fmt.Fprintf(stderr, "fvsweep solve: %s: interrupted\n", name)
+		return 130 // the shell's code for a run ended by SIGINT
+	}
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep solve: %s: %v\n", name, err)
 		return 1
