@@ -490,6 +490,13 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 				Reason: fmt.Sprintf("step guard exceeded: %d steps taken, t_end=%g not reached", s.steps, s.tEnd)}
 		}
 		dt := s.MaxDt()
+		if need := (s.tEnd - s.t) / dt; s.steps == 0 && need > 10*float64(s.maxSteps) {
+			// Fail at once rather than after max_steps steps: even a tenfold
+			// growth of dt would not reach t_end within the guard.
+			return nil, &Failure{T: s.t, Step: s.steps, I: -1, J: -1, Vars: vars,
+				Reason: fmt.Sprintf("step guard: the first step dt=%.3g needs about %.3g steps to reach t_end=%g, over max_steps=%d",
+					dt, need, s.tEnd, s.maxSteps)}
+		}
 		last := s.t+dt*(1+1e-12) >= s.tEnd
 		if last {
 			dt = s.tEnd - s.t

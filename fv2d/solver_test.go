@@ -346,6 +346,12 @@ func TestFailureReport(t *testing.T) {
 	if !errors.As(err, &f) || !strings.Contains(f.Reason, "step guard") || f.Step != 3 {
 		t.Errorf("max_steps=3: got %v", err)
 	}
+	// A run that could never reach t_end within the guard fails at once, not
+	// after max_steps steps (cfl=1e-300 would take 10^6 steps of 64^2 cells).
+	_, err = Run(context.Background(), resolve(t, "vortex", map[string]string{"nx": "64", "ny": "64", "cfl": "1e-300"}))
+	if !errors.As(err, &f) || !strings.Contains(f.Reason, "step guard") || f.Step != 0 {
+		t.Errorf("cfl=1e-300: got %v", err)
+	}
 }
 
 // Run stops between steps when its context is cancelled.
