@@ -45,6 +45,7 @@ type Coordinator struct {
 	cfg  Config
 	log  hclog.Logger
 	jobs jetstream.Stream
+	outs jetstream.Stream // the results stream
 	kv   jetstream.KeyValue
 	reg  *registry
 
@@ -80,6 +81,9 @@ func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordin
 		return nil, err
 	}
 	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(), tallies: map[string]tally{}}
+	if c.outs, err = js.Stream(ctx, cfg.Names.ResultStream()); err != nil {
+		return nil, fmt.Errorf("stream %s: %w", cfg.Names.ResultStream(), err)
+	}
 	if c.jobs, err = js.Stream(ctx, cfg.Names.JobStream()); err != nil {
 		return nil, fmt.Errorf("stream %s: %w", cfg.Names.JobStream(), err)
 	}
@@ -121,6 +125,9 @@ func (c *Coordinator) Run(ctx context.Context) error {
 	in := make(chan jetstream.Msg, 4*c.cfg.Batch)
 	cc, err := cons.Consume(func(m jetstream.Msg) { in <- m },
 		jetstream.PullMaxMessages(2*c.cfg.Batch),
+		// A pull lost with a cluster node is noticed after two missed
+		// heartbeats (expiry/2 each): seconds, not the default minute.
+		jetstream.PullExpiry(5*time.Second),
 		jetstream.ConsumeErrHandler(func(_ jetstream.ConsumeContext, err error) {
 			if !errors.Is(err, jetstream.ErrNoHeartbeat) {
 				c.log.Debug("results consumer", "error", err)
@@ -305,7 +312,15 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 		c.jobs.DeleteMsg(ctx, a.StreamSeq)
 		return
 	}
-	if _, found, err := c.db.Outcome(job.ID); err == nil && !found {
+	// Acks lost while a cluster elects a new consumer leader run a job
+	// again and again although its outcome is on its way: not a failure.
+	_, perr := c.outs.GetLastMsgForSubject(ctx, c.cfg.Names.ResultSubject(job.Sweep, job.ID))
+	if perr != nil && !errors.Is(perr, jetstream.ErrMsgNotFound) {
+		c.log.Debug("max-deliveries: looking for a queued outcome", "job", job.ID, "error", perr)
+	}
+	if perr == nil {
+		c.log.Info("delivery limit reached, but an outcome is queued: not failed", "job", job.ID, "deliveries", a.Deliveries)
+	} else if _, found, err := c.db.Outcome(job.ID); err == nil && !found {
 		o := sweep.Outcome{
 			JobID: job.ID, Sweep: job.Sweep, Status: sweep.StatusFailed, Attempts: int(a.Deliveries),
 			Error: fmt.Sprintf("no result after %d deliveries (ack wait %v each): the worker was lost, hung or killed",

@@ -473,9 +473,11 @@ func (w *Worker) settle() {
 		select {
 		case <-p.ack.Ok():
 		case err := <-p.ack.Err():
-			w.log.Warn("publishing result; the job will be delivered again", "job", p.job, "error", err)
-			p.msg.Nak()
-			continue
+			if err = w.republish(p); err != nil {
+				w.log.Warn("publishing result; the job will be delivered again", "job", p.job, "error", err)
+				p.msg.Nak()
+				continue
+			}
 		}
 		p.msg.Ack()
 		if p.status == sweep.StatusDone {
@@ -485,6 +487,28 @@ func (w *Worker) settle() {
 			w.log.Info("job failed", "job", p.job, "error", p.reason)
 		}
 	}
+}
+
+// republish sends a result whose asynchronous publish failed again, a few
+// times over about ten seconds, keeping its job in progress meanwhile: a
+// results stream that is electing a new leader (a cluster node went down)
+// refuses publishes for a few seconds, and a job should not use up its
+// deliveries on that. The message ID makes a repeat that did land a
+// duplicate the stream drops.
+func (w *Worker) republish(p pending) error {
+	var err error
+	for i := 1; i <= 5; i++ {
+		p.msg.InProgress()
+		ctx, cancel := context.WithTimeout(context.Background(), 2*time.Second)
+		_, err = w.js.PublishMsg(ctx, p.ack.Msg())
+		cancel()
+		if err == nil {
+			return nil
+		}
+		w.log.Debug("publishing result again", "job", p.job, "try", i, "error", err)
+		time.Sleep(time.Duration(i) * 200 * time.Millisecond)
+	}
+	return err
 }
 
 // safeRun calls the runner, turning a panic into an error.

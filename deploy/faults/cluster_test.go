@@ -105,7 +105,9 @@ func TestClusterLosesANode(t *testing.T) {
 	var coord *proc
 	deadline := time.Now().Add(30 * time.Second)
 	for { // the cluster elects a metadata leader first
-		coord = r.start("serve", r.serveArgs("--nats", url, "--replicas", "3")...)
+		// Ack wait x deliveries must outlast the cluster's recovery from a
+		// lost node (leader elections: seconds on a loaded machine).
+		coord = r.start("serve", r.serveArgs("--nats", url, "--replicas", "3", "--ack-wait", "2s", "--max-deliver", "10")...)
 		if waitEither(coord, "workers join with", 10*time.Second) || time.Now().After(deadline) {
 			break
 		}

@@ -165,7 +165,7 @@ func newRig(t *testing.T, env ...string) *rig {
 				p.kill()
 			}
 			if t.Failed() {
-				t.Logf("--- %s log:\n%s", p.name, tail(p.output(), 4000))
+				t.Logf("--- %s log:\n%s", p.name, tail(p.output(), 8000))
 			}
 		}
 	})
