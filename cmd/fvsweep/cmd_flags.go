@@ -10,6 +10,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"os/signal"
 	"path/filepath"
@@ -39,6 +40,10 @@ type common struct {
 	nats     string
 	logLevel string
 	logJSON  bool
+
+	// lim are the spec limits of the commands that take --job-limit and
+	// --mem-limit (zero: the defaults).
+	lim sweep.Limits
 
 	// Credentials and TLS (coordinator.DialOptions).
 	token, user, creds, nkey string
@@ -235,12 +240,27 @@ func signals(again func()) (context.Context, func()) {
 	return ctx, func() { signal.Stop(ch); cancel() }
 }
 
-// loadSpec reads and checks a spec file.
-func loadSpec(path string) (*sweep.Spec, error) {
-	return sweep.LoadSpec(path, sweep.DefaultLimits())
+// specLimits are the limits of c's command: its --job-limit and --mem-limit,
+// or the defaults.
+func (c *common) specLimits() sweep.Limits {
+	if c.lim.MaxJobs == 0 {
+		return sweep.DefaultLimits()
+	}
+	return c.lim
 }
 
-// parseSpec is the coordinator's parser of submitted specs.
-func parseSpec(file, src string) (*sweep.Spec, error) {
-	return sweep.ParseSpec(file, []byte(src), sweep.DefaultLimits())
+// loadSpec reads and checks a spec file against c's limits.
+func (c *common) loadSpec(path string) (*sweep.Spec, error) {
+	return sweep.LoadSpec(path, c.specLimits())
+}
+
+// parseSpec is the coordinator's parser of submitted specs, with c's limits.
+func (c *common) parseSpec(file, src string) (*sweep.Spec, error) {
+	return sweep.ParseSpec(file, []byte(src), c.specLimits())
+}
+
+// parseStoredSpec parses a spec already stored, to read its study settings:
+// it was checked when it was submitted, so no limit applies again.
+func parseStoredSpec(file, src string) (*sweep.Spec, error) {
+	return sweep.ParseSpec(file, []byte(src), sweep.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
 }

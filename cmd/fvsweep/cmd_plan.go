@@ -21,10 +21,8 @@ estimated cost (cells x steps, and the share of the whole), then the total.
 Runs shared by two studies are counted once in the total.
 
 flags:
-  --json        print the plan as JSON
-  --job-limit   refuse a spec of more runs than this (default 200000)
-  --mem-limit   refuse a run whose memory estimate exceeds this (default 8GiB)
-`
+  --json             print the plan as JSON
+` + limitUsage
 
 func init() {
 	register(command{name: "plan", summary: "show what a sweep spec expands to, without running it",
@@ -36,8 +34,8 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("plan", flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
 	asJSON := fs.Bool("json", false, "")
-	jobLimit := fs.Int("job-limit", sweep.DefaultMaxJobs, "")
-	memLimit := fs.String("mem-limit", "8GiB", "")
+	var lf limitFlags
+	lf.register(fs)
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep plan: "+format+"\n", a...)
 		return 2
@@ -58,14 +56,11 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	if len(files) != 1 {
 		return bad("want one SPEC file, got %d (see fvsweep plan -h)", len(files))
 	}
-	maxBytes, err := sweep.ParseBytes(*memLimit)
+	lim, err := lf.limits()
 	if err != nil {
-		return bad("--mem-limit: %v", err)
+		return bad("%v", err)
 	}
-	if *jobLimit <= 0 {
-		return bad("--job-limit: want a positive number of jobs, got %d", *jobLimit)
-	}
-	spec, err := sweep.LoadSpec(files[0], sweep.Limits{MaxJobs: *jobLimit, MaxBytes: maxBytes})
+	spec, err := sweep.LoadSpec(files[0], lim)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 		return 1

@@ -41,7 +41,7 @@ flags:
   --listen HOST:PORT client address of the embedded server (default 127.0.0.1, a free port)
   --retry-failed     run again the jobs whose stored outcome is failed
   --format F         format of the tables at the end: text, markdown, csv, json or none
-` + webUsage + serverUsage + commonUsage
+` + limitUsage + webUsage + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "run", summary: "run a sweep on this machine: server, coordinator, workers, tables", run: runRun})
@@ -60,10 +60,17 @@ func runRun(args []string) int {
 	listen := fs.String("listen", "", "")
 	retry := fs.Bool("retry-failed", false, "")
 	format := fs.String("format", "text", "")
+	var lf limitFlags
+	lf.register(fs)
 	pos, code, done := parseCommand("run", runUsage, fs, args, func(n int) bool { return n == 1 })
 	if done {
 		return code
 	}
+	lim, err := lf.limits()
+	if err != nil {
+		return usageErr("run", "%v", err)
+	}
+	c.lim = lim
 	if *nw < 0 {
 		return usageErr("run", "--workers %d: want 0 or more", *nw)
 	}
@@ -78,7 +85,7 @@ func runRun(args []string) int {
 	if err != nil {
 		return usageErr("run", "%v", err)
 	}
-	spec, err := loadSpec(pos[0])
+	spec, err := c.loadSpec(pos[0])
 	if err != nil {
 		return fail("run: %v", err)
 	}

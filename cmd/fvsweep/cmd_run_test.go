@@ -137,3 +137,26 @@ func TestCommandsAskRunningCoordinator(t *testing.T) {
 		t.Fatalf("status: exit %d\n%s", code, out)
 	}
 }
+
+// run and submit enforce --job-limit before anything is stored: the spec of
+// 8 runs is refused under a limit of 4 and accepted under the default.
+func TestRunJobLimit(t *testing.T) {
+	dir := t.TempDir()
+	spec := filepath.Join(dir, "cli.toml")
+	if err := os.WriteFile(spec, []byte(cliSpec), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	data := filepath.Join(dir, "data")
+	if code, _ := capture(t, func() int { return runRun([]string{spec, "--data", data, "--job-limit", "4"}) }); code != 1 {
+		t.Errorf("run --job-limit 4 of 8 runs: exit %d, want 1", code)
+	}
+	if _, err := os.Stat(filepath.Join(data, dbFile)); !os.IsNotExist(err) {
+		t.Errorf("a refused spec left a store behind: %v", err)
+	}
+	if code, _ := capture(t, func() int { return runRun([]string{spec, "--data", data, "--job-limit", "0"}) }); code != 2 {
+		t.Errorf("run --job-limit 0: exit %d, want 2 (usage)", code)
+	}
+	if code, _ := capture(t, func() int { return runSubmit([]string{spec, "--data", data, "--mem-limit", "1KiB"}) }); code != 1 {
+		t.Errorf("submit --mem-limit 1KiB: exit %d, want 1", code)
+	}
+}

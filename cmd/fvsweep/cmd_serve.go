@@ -30,7 +30,7 @@ SIGINT or SIGTERM stops it after storing the outcomes in hand.
 flags:
   --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222);
                      any address but loopback needs --token
-` + webUsage + serverUsage + commonUsage
+` + limitUsage + webUsage + serverUsage + commonUsage
 
 func init() {
 	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
@@ -85,7 +85,7 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	s.coord, err = coordinator.New(ctx, s.nc, db, coordinator.Config{
-		Log: log.Named("coordinator"), ParseSpec: parseSpec, OnStored: onStored, Delivery: sf.delivery(),
+		Log: log.Named("coordinator"), ParseSpec: c.parseSpec, OnStored: onStored, Delivery: sf.delivery(),
 	})
 	if err != nil {
 		cancel()
@@ -143,9 +143,16 @@ func runServe(args []string) int {
 	var wf webFlags
 	wf.register(fs)
 	listen := fs.String("listen", "127.0.0.1:4222", "")
+	var lf limitFlags
+	lf.register(fs)
 	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
 		return code
 	}
+	lim, err := lf.limits()
+	if err != nil {
+		return usageErr("serve", "%v", err)
+	}
+	c.lim = lim
 	log, err := c.logger("fvsweep")
 	if err != nil {
 		return usageErr("serve", "%v", err)

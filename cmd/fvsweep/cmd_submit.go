@@ -17,7 +17,7 @@ outcome, largest first. The spec is checked here first. Submitting the same
 
 flags:
   --retry-failed     also run again the jobs whose stored outcome is failed
-` + commonUsage
+` + limitUsage + commonUsage
 
 func init() {
 	register(command{name: "submit", summary: "queue a sweep spec on the running coordinator", run: runSubmit})
@@ -28,11 +28,17 @@ func runSubmit(args []string) int {
 	var c common
 	c.register(fs)
 	retry := fs.Bool("retry-failed", false, "")
+	var lf limitFlags
+	lf.register(fs)
 	pos, code, done := parseCommand("submit", submitUsage, fs, args, func(n int) bool { return n == 1 })
 	if done {
 		return code
 	}
-	spec, err := loadSpec(pos[0])
+	var err error
+	if c.lim, err = lf.limits(); err != nil {
+		return usageErr("submit", "%v", err)
+	}
+	spec, err := c.loadSpec(pos[0])
 	if err != nil {
 		return fail("submit: %v", err)
 	}

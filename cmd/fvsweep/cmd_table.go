@@ -91,7 +91,7 @@ func openSweep(c *common, name string) (*sweepData, error) {
 func (d *sweepData) tables(o report.Options) ([]report.Study, []report.Failure, map[string]sweep.Outcome, error) {
 	var spec *sweep.Spec
 	if d.spec != "" {
-		spec, _ = parseSpec(d.specFile, d.spec) // nil: study settings take defaults
+		spec, _ = parseStoredSpec(d.specFile, d.spec) // nil: study settings take defaults
 	}
 	jobs := make([]sweep.Job, len(d.rows))
 	outs := map[string]sweep.Outcome{}

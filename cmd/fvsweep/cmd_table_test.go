@@ -40,7 +40,7 @@ design_order = 2
 // coarse), and vortex errors falling like h^1.5.
 func tableData(t *testing.T) *sweepData {
 	t.Helper()
-	spec, err := parseSpec("tbl.toml", tableSpec)
+	spec, err := parseStoredSpec("tbl.toml", tableSpec)
 	if err != nil {
 		t.Fatal(err)
 	}
