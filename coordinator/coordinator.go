@@ -49,6 +49,8 @@ type Coordinator struct {
 	kv   jetstream.KeyValue
 	reg  *registry
 
+	ready chan struct{} // closed once Run answers on every subject
+
 	mu      sync.Mutex
 	gen     uint64 // store writes so far
 	tallies map[string]tally
@@ -80,7 +82,8 @@ func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordin
 	if err := EnsureStreams(ctx, js, cfg.Names, cfg.Delivery); err != nil {
 		return nil, err
 	}
-	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(), tallies: map[string]tally{}}
+	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(), tallies: map[string]tally{},
+		ready: make(chan struct{})}
 	if c.outs, err = js.Stream(ctx, cfg.Names.ResultStream()); err != nil {
 		return nil, fmt.Errorf("stream %s: %w", cfg.Names.ResultStream(), err)
 	}
@@ -113,6 +116,10 @@ func (c *Coordinator) syncCanceled(ctx context.Context) error {
 	}
 	return nil
 }
+
+// Ready is closed once Run has subscribed to every subject: from then on
+// commands get answers (submit, status, ping).
+func (c *Coordinator) Ready() <-chan struct{} { return c.ready }
 
 // Run collects outcomes, watches worker reports and delivery advisories
 // and serves the API until ctx is done; then it stops taking outcomes,
@@ -168,6 +175,10 @@ func (c *Coordinator) Run(ctx context.Context) error {
 		defer close(done)
 		c.collect(in, ctx.Done())
 	}()
+	if err := c.nc.Flush(); err != nil { // the server now knows every subscription
+		c.log.Warn("flush after subscribing", "error", err)
+	}
+	close(c.ready)
 	<-ctx.Done()
 	for _, s := range subs {
 		s.Unsubscribe()

@@ -83,6 +83,11 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 		}
 	}()
 	t.Cleanup(r.close)
+	select {
+	case <-r.coord.Ready():
+	case <-time.After(10 * time.Second):
+		t.Fatal("coordinator not ready after 10 s")
+	}
 	return r
 }
 

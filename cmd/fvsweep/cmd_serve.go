@@ -94,6 +94,14 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	}
 	s.stop, s.done = cancel, make(chan error, 1)
 	go func() { s.done <- s.coord.Run(ctx) }()
+	select {
+	case <-s.coord.Ready():
+	case err := <-s.done: // Run failed before it could answer
+		s.stop, s.done = nil, nil
+		cancel()
+		s.close()
+		return nil, err
+	}
 	if err := os.WriteFile(s.urlPath, []byte(s.url+"\n"), 0o644); err != nil {
 		log.Warn("cannot write the coordinator URL; other commands need --nats", "file", s.urlPath, "error", err)
 	}
