@@ -30,41 +30,62 @@ type presetStates struct {
 	selector string    // "test", "config"
 	names    []string  // explicit parameters
 	defaults []float64 // their defaults
+	// preset returns the states of preset n (nil for n = 0, the explicit
+	// states) and its final time.
+	preset func(n int) (states []float64, tEnd float64)
 }
 
-func (ps presetStates) params(docs []string) []Param {
+// params declares the explicit states, docs[i] the meaning of names[i] and
+// note (which presets set it) appended to each in parentheses.
+func (ps presetStates) params(docs []string, note string) []Param {
 	out := make([]Param, len(ps.names))
 	for i, n := range ps.names {
 		def := strconv.FormatFloat(ps.defaults[i], 'g', -1, 64)
+		doc := docs[i] + " (" + note + ")"
 		if n[0] == 'r' || n[0] == 'p' { // rho_*, p_*
-			out[i] = positiveParam(n, def, docs[i])
+			out[i] = positiveParam(n, def, doc)
 		} else {
-			out[i] = floatParam(n, def, docs[i])
+			out[i] = floatParam(n, def, doc)
 		}
 	}
 	return out
 }
 
 // check rejects explicit states given together with a preset: with
-// selector = N != 0, every explicit parameter must keep its default.
+// selector = N != 0, every explicit parameter must keep its default or have
+// the value of preset N (as in the completed values of a run, which are
+// resolved again by whoever runs it).
 func (ps presetStates) check(v Values) error {
-	if v.Int(ps.selector) == 0 {
+	n := v.Int(ps.selector)
+	if n == 0 {
 		return nil
 	}
-	for i, n := range ps.names {
-		if v.Float(n) != ps.defaults[i] {
+	preset, _ := ps.preset(n)
+	for i, name := range ps.names {
+		if x := v.Float(name); x != ps.defaults[i] && (preset == nil || x != preset[i]) {
 			return fmt.Errorf("parameter %s is set together with %s=%d: set %s=0 to give the states explicitly",
-				n, ps.selector, v.Int(ps.selector), ps.selector)
+				name, ps.selector, n, ps.selector)
 		}
 	}
 	return nil
 }
 
-// values returns the explicit states of v, or preset when selector != 0.
-func (ps presetStates) values(v Values, preset []float64) []float64 {
-	if v.Int(ps.selector) != 0 {
-		return preset
+// complete returns the parameters that v's preset fixes: the states of
+// preset N != 0, and t_end when it is 0 (the preset's own time).
+func (ps presetStates) complete(v Values) map[string]string {
+	states, tEnd := ps.preset(v.Int(ps.selector))
+	out := make(map[string]string, len(states)+1)
+	for i, x := range states {
+		out[ps.names[i]] = strconv.FormatFloat(x, 'g', -1, 64)
 	}
+	if v.Float("t_end") == 0 {
+		out["t_end"] = strconv.FormatFloat(tEnd, 'g', -1, 64)
+	}
+	return out
+}
+
+// values returns the states of v: explicit or, once completed, the preset's.
+func (ps presetStates) values(v Values) []float64 {
 	out := make([]float64, len(ps.names))
 	for i, n := range ps.names {
 		out[i] = v.Float(n)

@@ -7,7 +7,8 @@ import "fmt"
 // quadrants around (xc, yc). config selects a configuration of Lax & Liu
 // (1998, SIAM J. Sci. Comput. 19, "Solution of two-dimensional Riemann
 // problems of gas dynamics by positive schemes"; states recalled from
-// memory); config=0 takes the states from the explicit parameters. There is
+// memory) and Complete writes its states into the resolved values;
+// config=0 takes the states from the explicit parameters. There is
 // no exact solution: the case reports functionals only. Configurations 3
 // and 12 are symmetric under the reflection x <-> y (with u <-> v).
 type quadrantsCase struct{}
@@ -40,7 +41,13 @@ var quadConfigs = map[int]quadConfig{
 }
 
 var quadStates = func() presetStates {
-	ps := presetStates{selector: "config"}
+	ps := presetStates{selector: "config", preset: func(n int) ([]float64, float64) {
+		c, ok := quadConfigs[n]
+		if n == 0 || !ok {
+			return nil, 0.25
+		}
+		return c.s[:], c.t
+	}}
 	c := quadConfigs[3]
 	for q, quad := range []string{"ne", "nw", "sw", "se"} {
 		for k, name := range []string{"rho", "u", "v", "p"} {
@@ -68,9 +75,9 @@ func (quadrantsCase) Params() []Param {
 	}
 	docs := make([]string, len(quadStates.names))
 	for i, n := range quadStates.names {
-		docs[i] = fmt.Sprintf("%s in quadrant %s (config=0)", map[byte]string{'r': "density", 'u': "x velocity", 'v': "y velocity", 'p': "pressure"}[n[0]], n[len(n)-2:])
+		docs[i] = fmt.Sprintf("%s in quadrant %s", map[byte]string{'r': "density", 'u': "x velocity", 'v': "y velocity", 'p': "pressure"}[n[0]], n[len(n)-2:])
 	}
-	return append(ps, quadStates.params(docs)...)
+	return append(ps, quadStates.params(docs, "set by config=3, 6, 12; give it with config=0")...)
 }
 
 // Validate accepts the known configurations only and rejects explicit
@@ -84,14 +91,14 @@ func (quadrantsCase) Validate(v Values) error {
 	return quadStates.check(v)
 }
 
+// Complete sets the states and (for t_end=0) the final time of config N.
+func (quadrantsCase) Complete(v Values) map[string]string { return quadStates.complete(v) }
+
+// Setup reads the states from the completed values.
 func (quadrantsCase) Setup(v Values) (*Problem, error) {
 	gamma := v.Float("gamma")
-	cfg := quadConfig{t: 0.25}
-	if n := v.Int("config"); n != 0 {
-		cfg = quadConfigs[n]
-	} else {
-		copy(cfg.s[:], quadStates.values(v, nil))
-	}
+	var cfg quadConfig
+	copy(cfg.s[:], quadStates.values(v))
 	xc, yc := v.Float("xc"), v.Float("yc")
 	p := &Problem{
 		Eq: Euler, Gamma: gamma, X0: 0, X1: 1, Y0: 0, Y1: 1,
@@ -114,9 +121,6 @@ func (quadrantsCase) Setup(v Values) (*Problem, error) {
 			ExtremumFunctional("rho_max", "largest cell density", 0, true),
 			ProbeFunctional("rho_centre", "density in the cell containing (xc, yc)", xc, yc, 0),
 		},
-	}
-	if p.TEnd == 0 {
-		p.TEnd = cfg.t
 	}
 	return p, nil
 }

@@ -8,8 +8,9 @@ import (
 // shocktubeCase is a Riemann problem of the Euler equations along x or y on
 // [0,1]^2 with transmissive sides: the left state for s < x0 and the right
 // state for s > x0, s the coordinate along axis. test=1..5 selects the
-// states, diaphragm and output time of the five tests of Toro (2009, ch. 4);
-// test=0 takes the states from rho_l u_l p_l rho_r u_r p_r. The exact
+// states, diaphragm and output time of the five tests of Toro (2009, ch. 4)
+// and Complete writes them into the resolved values; test=0 takes the
+// states from rho_l u_l p_l rho_r u_r p_r and x0. The exact
 // solution comes from SolveRiemann (none when the data generate vacuum).
 type shocktubeCase struct{}
 
@@ -34,6 +35,13 @@ var tubeStates = presetStates{
 	selector: "test",
 	names:    []string{"rho_l", "u_l", "p_l", "rho_r", "u_r", "p_r", "x0"},
 	defaults: []float64{1, 0, 1, 0.125, 0, 0.1, 0.5},
+	preset: func(n int) ([]float64, float64) {
+		if n == 0 {
+			return nil, 0.2
+		}
+		t := toroTubes[n]
+		return []float64{t.rl, t.ul, t.pl, t.rr, t.ur, t.pr, t.x0}, t.t
+	},
 }
 
 func (shocktubeCase) Name() string       { return "shocktube" }
@@ -52,10 +60,10 @@ func (shocktubeCase) Params() []Param {
 			Doc: "direction of the tube"},
 	}
 	return append(ps, tubeStates.params([]string{
-		"left density (test=0)", "left normal velocity (test=0)", "left pressure (test=0)",
-		"right density (test=0)", "right normal velocity (test=0)", "right pressure (test=0)",
-		"diaphragm position along the axis, in (0,1) (test=0)",
-	})...)
+		"left density", "left normal velocity", "left pressure",
+		"right density", "right normal velocity", "right pressure",
+		"diaphragm position along the axis, in (0,1)",
+	}, "set by test=1..5; give it with test=0")...)
 }
 
 // Validate rejects explicit states given together with test=N and a
@@ -70,22 +78,19 @@ func (shocktubeCase) Validate(v Values) error {
 	return nil
 }
 
+// Complete sets the states, x0 and (for t_end=0) the final time of test N.
+func (shocktubeCase) Complete(v Values) map[string]string { return tubeStates.complete(v) }
+
+// Setup reads the states from the completed values.
 func (shocktubeCase) Setup(v Values) (*Problem, error) {
 	gamma := v.Float("gamma")
-	tube := toroTube{t: 0.2}
-	if n := v.Int("test"); n != 0 {
-		tube = toroTubes[n]
-	} else {
-		s := tubeStates.values(v, nil)
-		tube.rl, tube.ul, tube.pl, tube.rr, tube.ur, tube.pr, tube.x0 = s[0], s[1], s[2], s[3], s[4], s[5], s[6]
-	}
+	var tube toroTube
+	s := tubeStates.values(v)
+	tube.rl, tube.ul, tube.pl, tube.rr, tube.ur, tube.pr, tube.x0 = s[0], s[1], s[2], s[3], s[4], s[5], s[6]
 	p := &Problem{
 		Eq: Euler, Gamma: gamma, X0: 0, X1: 1, Y0: 0, Y1: 1,
 		BC:   [4]Boundary{Transmissive, Transmissive, Transmissive, Transmissive},
 		TEnd: v.Float("t_end"),
-	}
-	if p.TEnd == 0 {
-		p.TEnd = tube.t
 	}
 	alongY := v.Get("axis") == "y"
 	// put writes the 1-D state (rho, normal velocity, p) at coordinate s.

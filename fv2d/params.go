@@ -165,14 +165,7 @@ func (v Values) Map() map[string]string {
 }
 
 // Keys returns the parameter names in sorted order.
-func (v Values) Keys() []string {
-	keys := make([]string, 0, len(v.m))
-	for k := range v.m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	return keys
-}
+func (v Values) Keys() []string { return sortedKeys(v.m) }
 
 // String is "case k1=v1 k2=v2 ..." with keys sorted: the canonical identity
 // of a run.
@@ -203,12 +196,7 @@ func Resolve(name string, kv map[string]string) (Values, error) {
 		byName[p.Name] = p
 	}
 	m := make(map[string]string, len(params))
-	keys := make([]string, 0, len(kv))
-	for k := range kv {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	for _, k := range keys {
+	for _, k := range sortedKeys(kv) {
 		p, ok := byName[k]
 		if !ok {
 			return Values{}, fmt.Errorf("case %s: unknown parameter %q (known: %s)", name, k, strings.Join(paramNames(params), " "))
@@ -229,7 +217,51 @@ func Resolve(name string, kv map[string]string) (Values, error) {
 			return Values{}, fmt.Errorf("case %s: %w", name, err)
 		}
 	}
+	if cc, ok := c.(Completer); ok {
+		set := cc.Complete(v)
+		for _, k := range sortedKeys(set) {
+			p, ok := byName[k]
+			if !ok {
+				return Values{}, fmt.Errorf("case %s: completion sets unknown parameter %q", name, k)
+			}
+			if err := p.Check(set[k]); err != nil {
+				return Values{}, fmt.Errorf("case %s: completion: %w", name, err)
+			}
+			m[k] = p.Canon(set[k])
+		}
+	}
 	return v, nil
+}
+
+// Completer is a case some of whose parameters follow from others: a preset
+// (shocktube test=N) fixes the states and the final time that the explicit
+// parameters would otherwise give. Resolve calls Complete once the values
+// are checked and validated, and stores what it returns (checked and in
+// canonical spelling) over them, so that the resolved values are those the
+// run uses. Complete must be idempotent: resolving a run's resolved values
+// again gives the same values (workers re-resolve a job's parameters).
+type Completer interface {
+	Complete(v Values) map[string]string
+}
+
+// IsCompleter reports whether case name completes its resolved values, so
+// that a run's values are not just its settings over the defaults.
+func IsCompleter(name string) bool {
+	c, err := LookupCase(name)
+	if err != nil {
+		return false
+	}
+	_, ok := c.(Completer)
+	return ok
+}
+
+func sortedKeys(m map[string]string) []string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	return keys
 }
 
 func paramNames(ps []Param) []string {

@@ -56,6 +56,7 @@ func TestEachMatchesResolve(t *testing.T) {
 	specs := map[string]*Spec{
 		"good": mustParse(t, goodSpec, DefaultLimits()),
 		"dup":  mustParse(t, dupSpec, DefaultLimits()),
+		"tube": mustParse(t, tubeSpec, DefaultLimits()),
 	}
 	files, _ := filepath.Glob("../configs/*.toml")
 	for _, f := range files {
@@ -124,5 +125,64 @@ func TestEachUncheckedBadRun(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "test 3 needs amp") || !strings.Contains(err.Error(), "study 1") ||
 		!strings.Contains(err.Error(), "amp=0.9 test=3") {
 		t.Fatalf("Each = %v, want the refused run named", err)
+	}
+}
+
+// tubeSpec has axes over the presets of the cases that complete their
+// values (shocktube test, quadrants config), with a grid.
+const tubeSpec = `name = "tubes"
+
+[[study]]
+case = "shocktube"
+fixed = { ny = 1 }
+axes = { test = [1, 3], flux = ["hll", "hllc"] }
+refine = { nx = [20, 40] }
+
+[[study]]
+case = "quadrants"
+axes = { config = [6, 3] }
+refine = { nx = [8, 16] }
+`
+
+// A job of a study with an axis over test (config) carries that test's
+// (configuration's) states and final time, not those of run 0: Toro (2009)
+// ch. 4 tests 1 and 3, shared/reference CHECKS.md section 1 (recalled from
+// memory); Lax & Liu (1998) configurations 3 and 6 (recalled from memory).
+// The same holds for a study that ParseSpec did not check.
+func TestExpandPresetAxis(t *testing.T) {
+	want := map[string]map[string]string{
+		"test=1":   {"rho_l": "1", "p_l": "1", "rho_r": "0.125", "p_r": "0.1", "t_end": "0.25"},
+		"test=3":   {"rho_l": "1", "p_l": "1000", "rho_r": "1", "p_r": "0.01", "t_end": "0.012"},
+		"config=3": {"rho_sw": "0.138", "p_sw": "0.029", "t_end": "0.3"},
+		"config=6": {"rho_nw": "2", "rho_se": "3", "p_sw": "1", "t_end": "0.3"},
+	}
+	s := mustParse(t, tubeSpec, DefaultLimits())
+	for pass := range 2 {
+		jobs, err := s.Expand()
+		if err != nil {
+			t.Fatal(err)
+		}
+		seen := map[string]int{}
+		for _, j := range jobs {
+			key := "test=" + j.Params["test"]
+			if j.Case == "quadrants" {
+				key = "config=" + j.Params["config"]
+			}
+			seen[key]++
+			for k, v := range want[key] {
+				if j.Params[k] != v {
+					t.Errorf("pass %d: job %s %s: %s = %s, want %s", pass, j.ID, key, k, j.Params[k], v)
+				}
+			}
+			if !strings.Contains(j.Group, " t_end="+want[key]["t_end"]+" ") {
+				t.Errorf("pass %d: group %q lacks t_end=%s", pass, j.Group, want[key]["t_end"])
+			}
+		}
+		if seen["test=1"] != 4 || seen["test=3"] != 4 || seen["config=3"] != 2 || seen["config=6"] != 2 {
+			t.Errorf("pass %d: jobs per preset %v, want 4 4 2 2", pass, seen)
+		}
+		for i := range s.Studies {
+			s.Studies[i].costs = nil
+		}
 	}
 }

@@ -143,6 +143,9 @@ func (s *Spec) Each(fn func(Job) error) error {
 	for _, e := range order {
 		t := tabs[e.study]
 		idx = t.at(e.run, idx)
+		if err := t.load(idx); err != nil {
+			return fmt.Errorf("spec %s: %w", s.File, err)
+		}
 		st := t.st
 		j := Job{ID: hex.EncodeToString(e.id[:]), Sweep: s.Name, Study: st.Index, Case: st.Case,
 			Params: t.params(idx), Refine: st.Refine, Group: t.group(idx), Cost: e.cost, Snapshot: e.snap}
@@ -204,18 +207,23 @@ func (s *Spec) order(tabs []*runTable) ([]run, error) {
 // run 0 (fixed values and defaults included) with each dimension's axes at
 // that run's position, each axis value canonicalised once. ParseSpec has
 // resolved and checked every run; a study it did not check (no cost
-// estimates) is resolved run by run as the runs are walked.
+// estimates) is resolved run by run as the runs are walked. A case that
+// completes its values (fv2d.Completer: test=N sets the states) breaks the
+// rule "run 0 plus the axes", so its runs are resolved one by one: load
+// resolves the run at a position, and value then reads that run's values.
 type runTable struct {
-	st      *Study
-	checked bool
-	dims    [][]Axis
-	keys    []string   // every parameter of the case, sorted
-	base    []string   // canonical value of keys[k] in run 0
-	axis    []int      // keys[k]'s index in flat, -1 when not varied
-	flat    []flatAxis // the axes of every dimension
-	grid    []bool     // keys[k] is a grid parameter
-	buf     []byte     // scratch for the canonical strings
-	kv      map[string]string
+	st       *Study
+	checked  bool
+	complete bool        // the case is an fv2d.Completer: resolve each run
+	cur      fv2d.Values // complete: the run load resolved
+	dims     [][]Axis
+	keys     []string   // every parameter of the case, sorted
+	base     []string   // canonical value of keys[k] in run 0
+	axis     []int      // keys[k]'s index in flat, -1 when not varied
+	flat     []flatAxis // the axes of every dimension
+	grid     []bool     // keys[k] is a grid parameter
+	buf      []byte     // scratch for the canonical strings
+	kv       map[string]string
 }
 
 type flatAxis struct {
@@ -224,7 +232,7 @@ type flatAxis struct {
 }
 
 func newRunTable(st *Study) (*runTable, error) {
-	t := &runTable{st: st, dims: st.dims(), checked: len(st.costs) == st.Count()}
+	t := &runTable{st: st, dims: st.dims(), checked: len(st.costs) == st.Count(), complete: fv2d.IsCompleter(st.Case)}
 	kv := st.kv(make([]int, len(t.dims)), nil)
 	v0, err := fv2d.Resolve(st.Case, kv)
 	if err != nil {
@@ -253,7 +261,7 @@ func newRunTable(st *Study) (*runTable, error) {
 			t.flat = append(t.flat, f)
 		}
 		for p := range axes[0].Values {
-			if t.checked {
+			if t.checked || t.complete {
 				break
 			}
 			idx[d] = p
@@ -288,8 +296,27 @@ func (st *Study) kv(idx []int, m map[string]string) map[string]string {
 	return m
 }
 
-// value is the canonical value of keys[k] at position idx.
+// load resolves the run at idx when the case completes its values (a no-op
+// otherwise); value, id, group, params and cost of idx need it first.
+func (t *runTable) load(idx []int) error {
+	if !t.complete {
+		return nil
+	}
+	t.kv = t.st.kv(idx, t.kv)
+	v, err := fv2d.Resolve(t.st.Case, t.kv)
+	if err != nil {
+		return fmt.Errorf("study %d: %w (at %s)", t.st.Index, err, t.st.point(t.kv))
+	}
+	t.cur = v
+	return nil
+}
+
+// value is the canonical value of keys[k] at position idx (the run load
+// resolved, for a case that completes its values).
 func (t *runTable) value(k int, idx []int) string {
+	if t.complete {
+		return t.cur.Get(t.keys[k])
+	}
 	if a := t.axis[k]; a >= 0 {
 		f := &t.flat[a]
 		return f.values[idx[f.dim]]
@@ -298,10 +325,13 @@ func (t *runTable) value(k int, idx []int) string {
 }
 
 // walk calls fn with the index and position of every run of the study, in
-// expansion order (the grid fastest).
+// expansion order (the grid fastest), each run loaded.
 func (t *runTable) walk(fn func(k int, idx []int) error) error {
 	idx := make([]int, len(t.dims))
 	for k := 0; ; k++ {
+		if err := t.load(idx); err != nil {
+			return err
+		}
 		if err := fn(k, idx); err != nil {
 			return err
 		}
@@ -372,6 +402,9 @@ func (t *runTable) params(idx []int) map[string]string {
 func (t *runTable) cost(k int, idx []int) (fv2d.Cost, error) {
 	if t.checked {
 		return t.st.costs[k], nil
+	}
+	if t.complete {
+		return fv2d.Estimate(t.cur), nil
 	}
 	t.kv = t.st.kv(idx, t.kv)
 	v, err := fv2d.Resolve(t.st.Case, t.kv)
