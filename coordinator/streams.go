@@ -2,6 +2,7 @@ package coordinator
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"time"
 
@@ -51,6 +52,29 @@ func (d Delivery) withDefaults() Delivery {
 // is refused), whatever the duplicate window. Jobs are delivered in the order
 // they were published.
 func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d Delivery) error {
+	// A cluster that has just elected its meta leader may not yet count
+	// every peer as online: placing a replicated stream then fails with "no
+	// suitable peers" for a moment. Try again for a while before giving up.
+	deadline := time.Now().Add(20 * time.Second)
+	for {
+		err := ensureStreams(ctx, js, n, d)
+		var apiErr *jetstream.APIError
+		if err == nil || !errors.As(err, &apiErr) || apiErr.ErrorCode != errClusterNoPeers || time.Now().After(deadline) {
+			return err
+		}
+		select {
+		case <-ctx.Done():
+			return err
+		case <-time.After(250 * time.Millisecond):
+		}
+	}
+}
+
+// errClusterNoPeers is the server's JSClusterNoPeersErr ("no suitable peers
+// for placement"), which nats.go has no name for.
+const errClusterNoPeers jetstream.ErrorCode = 10005
+
+func ensureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d Delivery) error {
 	d = d.withDefaults()
 	_, err := js.CreateOrUpdateStream(ctx, jetstream.StreamConfig{
 		Name:                 n.JobStream(),
