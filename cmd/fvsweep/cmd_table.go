@@ -315,6 +315,15 @@ func (t tableStudy) cells(r tableRow) []string {
 	return append(c, strconv.FormatFloat(r.WallS, 'g', 3, 64), r.Status)
 }
 
+// rowCells are the grid rows of g as text cells under t.header().
+func (t tableStudy) rowCells(g tableGroup) [][]string {
+	rows := make([][]string, len(g.Rows))
+	for i, r := range g.Rows {
+		rows[i] = t.cells(r)
+	}
+	return rows
+}
+
 // writeAligned writes a table with columns padded to their widths,
 // right-aligned but for the columns in left, each line after indent.
 func writeAligned(w io.Writer, indent string, header []string, rows [][]string, left ...int) {
@@ -355,11 +364,7 @@ func writeTablesText(w io.Writer, t tableSet) error {
 		head := st.header()
 		for _, g := range st.Groups {
 			fmt.Fprintf(w, "\n  %s\n", g.Label)
-			rows := make([][]string, len(g.Rows))
-			for i, r := range g.Rows {
-				rows[i] = st.cells(r)
-			}
-			writeAligned(w, "    ", head, rows, len(head)-1)
+			writeAligned(w, "    ", head, st.rowCells(g), len(head)-1)
 			if st.Exact {
 				fmt.Fprintf(w, "    %s\n", g.verdict(""))
 			}
@@ -412,11 +417,7 @@ func writeTablesMarkdown(w io.Writer, t tableSet) error {
 		head := st.header()
 		for _, g := range st.Groups {
 			fmt.Fprintf(w, "\n### %s\n\n", g.Label)
-			rows := make([][]string, len(g.Rows))
-			for i, r := range g.Rows {
-				rows[i] = st.cells(r)
-			}
-			writeMarkdownTable(w, head, rows, len(head)-1)
+			writeMarkdownTable(w, head, st.rowCells(g), len(head)-1)
 			if st.Exact {
 				v := g.verdict("**")
 				fmt.Fprintf(w, "\n%s%s\n", strings.ToUpper(v[:1]), v[1:])
