@@ -33,7 +33,6 @@ const blockCols = 8
 // Solver advances one run. Build it with NewSolver, advance it with Step
 // (or let Run do the whole run), and Close it to stop its goroutines.
 type Solver struct {
-	v    Values
 	prob *Problem
 	st   *State
 
@@ -103,8 +102,7 @@ func NewSolver(v Values) (*Solver, error) {
 		return nil, fmt.Errorf("case %s: empty domain [%g,%g]x[%g,%g]", v.Case, p.X0, p.X1, p.Y0, p.Y1)
 	}
 	s := &Solver{
-		v: v, prob: p,
-		nx: v.Int("nx"), ny: v.Int("ny"),
+		prob: p, nx: v.Int("nx"), ny: v.Int("ny"),
 		cfl: v.Float("cfl"), tEnd: v.Float("t_end"),
 		strang: v.Get("split") == "strang", alternate: v.Bool("alternate"),
 		maxSteps: v.Int("max_steps"),
@@ -425,10 +423,10 @@ func (w *worker) speeds(speed bool) {
 func (s *Solver) failure() *Failure {
 	st := s.st
 	f := &Failure{T: s.t, Step: s.steps + 1, I: -1, J: -1, Vars: st.Eq.Vars(), Reason: "non-physical state"}
+	vals := make([]float64, len(st.U))
 	for j := 0; j < st.NY; j++ {
 		for i := 0; i < st.NX; i++ {
 			idx := st.Index(i, j)
-			vals := make([]float64, len(st.U))
 			for k := range st.U {
 				vals[k] = st.U[k][idx]
 			}
