@@ -107,6 +107,9 @@ func TestResolveIdempotent(t *testing.T) {
 		for _, kv := range settings {
 			v, err := Resolve(c.Name(), kv)
 			if err != nil {
+				if kv == nil {
+					t.Errorf("%s: the defaults do not resolve: %v", c.Name(), err)
+				}
 				continue // a setting of another case
 			}
 			again := resolveOK(t, c.Name(), v.Map())
