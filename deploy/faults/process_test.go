@@ -66,19 +66,38 @@ func bigJob(t *testing.T, jobs map[string]sweep.Job) string {
 	return ""
 }
 
+// bigOnA is a coordinator with bigAndSmall submitted and worker A one
+// second into the big job, the one it takes first.
+type bigOnA struct {
+	r         *rig
+	name, url string
+	ids       map[string]sweep.Job
+	big       string
+	coord, a  *proc
+	obs       *observer
+}
+
+func startBigOnA(t *testing.T) bigOnA {
+	t.Helper()
+	m := bigOnA{r: newRig(t)}
+	var spec string
+	spec, m.name, m.ids = m.r.writeSpec(bigAndSmall)
+	m.big = bigJob(t, m.ids)
+	m.coord, m.url = m.r.serve(freePort(t))
+	m.obs = observe(t, m.url)
+	m.r.submit(spec, m.url)
+	m.a = m.r.worker("worker-a", m.url, 1)
+	time.Sleep(time.Second)
+	return m
+}
+
 // TestWorkerKilledMidJob: worker A takes the big job first and is
 // SIGKILLed a second into it; the job is redelivered after the ack wait to
 // worker B and stored once, from B, on its second delivery.
 func TestWorkerKilledMidJob(t *testing.T) {
-	r := newRig(t)
-	spec, name, ids := r.writeSpec(bigAndSmall)
-	big := bigJob(t, ids)
-	coord, url := r.serve(freePort(t))
-	obs := observe(t, url)
-	r.submit(spec, url)
-	a := r.worker("worker-a", url, 1)
-	time.Sleep(time.Second)
-	a.kill()
+	m := startBigOnA(t)
+	r, name, ids, big, coord, url, obs := m.r, m.name, m.ids, m.big, m.coord, m.url, m.obs
+	m.a.kill()
 	if n := len(obs.results(big)); n != 0 {
 		t.Fatalf("the big job finished within a second (%d results): the kill was not mid-job", n)
 	}
@@ -97,14 +116,8 @@ func TestWorkerKilledMidJob(t *testing.T) {
 // stored; A then wakes (SIGCONT), finishes and publishes its late
 // outcome, which changes nothing: the stored outcome stays B's.
 func TestWorkerCutOffLongerThanAckWait(t *testing.T) {
-	r := newRig(t)
-	spec, name, ids := r.writeSpec(bigAndSmall)
-	big := bigJob(t, ids)
-	coord, url := r.serve(freePort(t))
-	obs := observe(t, url)
-	r.submit(spec, url)
-	a := r.worker("worker-a", url, 1)
-	time.Sleep(time.Second)
+	m := startBigOnA(t)
+	r, name, ids, big, coord, url, obs, a := m.r, m.name, m.ids, m.big, m.coord, m.url, m.obs, m.a
 	a.signal(syscall.SIGSTOP)
 	r.worker("worker-b", url, 1)
 	r.waitDone(name, url, len(ids), 60*time.Second)
