@@ -258,18 +258,17 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 // g from its rows. The verdict's summary leaves out the status, which the
 // tables print beside it.
 func (st *Study) judge(g *Group) {
+	allH, allE := make([]float64, len(g.Rows)), make([]float64, len(g.Rows))
 	var hs, es []float64
-	for i := range g.Rows {
-		r := &g.Rows[i]
-		if i > 0 {
-			c := g.Rows[i-1]
-			if p := sweep.ObservedOrders([]float64{c.H, r.H}, []float64{c.Err, r.Err}); len(p) == 1 {
-				r.Order = p[0]
-			}
-		}
+	for i, r := range g.Rows {
+		allH[i], allE[i] = r.H, r.Err
 		if r.Err > 0 && !math.IsInf(r.Err, 0) && r.H > 0 {
 			hs, es = append(hs, r.H), append(es, r.Err)
 		}
+	}
+	// Order of each grid against the next coarser one (NaN where undefined).
+	for i, p := range sweep.ObservedOrders(allH, allE) {
+		g.Rows[i+1].Order = p
 	}
 	if fit, err := sweep.FitOrder(hs, es); err == nil {
 		g.Fit, g.Fitted = fit, true
