@@ -20,8 +20,9 @@ type Job struct {
 	Snapshot bool              `json:"snapshot"` // store the final field
 }
 
-// JobID is the deterministic identity of a run: the hex SHA-256 of the
-// canonical "case k=v ..." string of its resolved parameters.
+// JobID is the deterministic identity of a run: the first 16 bytes of the
+// SHA-256 of the canonical "case k=v ..." string of its resolved
+// parameters, as 32 hex digits (what ValidJobID accepts).
 func JobID(v fv2d.Values) string {
 	sum := sha256.Sum256([]byte(v.String()))
 	return hex.EncodeToString(sum[:16])

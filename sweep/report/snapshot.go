@@ -26,7 +26,9 @@ func SnapshotVars(conserved []string) []string {
 // variables, interior cells, x fastest) as a plots.Field, and, when the
 // problem has an exact solution, that variable's exact value at the
 // snapshot's time as a function of (x, y). prob may be nil (no exact
-// solution). An unknown name is an error listing the available ones.
+// solution); the Euler pressure then assumes gamma = 1.4 (air, common
+// practice), since a snapshot does not record gamma. An unknown name is an
+// error listing the available ones.
 func SnapshotField(h sweep.FieldHeader, data [][]float32, name string, prob *fv2d.Problem) (plots.Field, func(x, y float64) float64, error) {
 	avail := SnapshotVars(h.Vars)
 	if !slices.Contains(avail, name) {
