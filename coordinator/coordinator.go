@@ -236,7 +236,7 @@ func (c *Coordinator) store(msgs []jetstream.Msg) {
 	outs := make([]sweep.Outcome, 0, len(msgs))
 	keep := msgs[:0:0]
 	for _, m := range msgs {
-		o, err := c.checkResult(m.Data())
+		o, err := checkResult(m.Data())
 		if err != nil {
 			c.log.Warn("dropping result", "subject", m.Subject(), "error", err)
 			m.Term()
@@ -248,12 +248,28 @@ func (c *Coordinator) store(msgs []jetstream.Msg) {
 	if len(outs) == 0 {
 		return
 	}
+	known, err := c.db.HasJobs(outs)
+	if err != nil {
+		c.nakAll(keep, "reading the store", err)
+		return
+	}
+	n := 0
+	for i, m := range keep {
+		if !known[i] {
+			c.log.Warn("dropping result for a job not in the store", "subject", m.Subject(), "sweep", outs[i].Sweep, "job", outs[i].JobID)
+			m.Term()
+			continue
+		}
+		outs[n], keep[n] = outs[i], m
+		n++
+	}
+	outs, keep = outs[:n], keep[:n]
+	if n == 0 {
+		return
+	}
 	written, err := c.db.PutOutcomes(outs)
 	if err != nil {
-		c.log.Error("storing results; they will come again", "count", len(outs), "error", err)
-		for _, m := range keep {
-			m.NakWithDelay(time.Second)
-		}
+		c.nakAll(keep, "storing results", err)
 		return
 	}
 	c.mu.Lock()
@@ -268,20 +284,22 @@ func (c *Coordinator) store(msgs []jetstream.Msg) {
 	}
 }
 
-// checkResult decodes a result and checks that it is for a job the store
-// knows.
-func (c *Coordinator) checkResult(data []byte) (sweep.Outcome, error) {
+// nakAll gives a batch back to come again after a failed store call.
+func (c *Coordinator) nakAll(msgs []jetstream.Msg, what string, err error) {
+	c.log.Error(what+"; the results will come again", "count", len(msgs), "error", err)
+	for _, m := range msgs {
+		m.NakWithDelay(time.Second)
+	}
+}
+
+// checkResult decodes a result and checks its fields; store checks in one
+// read transaction per batch that its job is stored.
+func checkResult(data []byte) (sweep.Outcome, error) {
 	o, err := sweep.DecodeOutcome(data)
 	if err != nil {
 		return o, err
 	}
-	if err := store.CheckOutcome(o); err != nil {
-		return o, err
-	}
-	if _, err := c.db.Job(o.Sweep, o.JobID); err != nil {
-		return o, fmt.Errorf("result for a job not in the store: %w", err)
-	}
-	return o, nil
+	return o, store.CheckOutcome(o)
 }
 
 // onReport records a worker's report.

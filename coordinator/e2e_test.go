@@ -189,9 +189,13 @@ func TestDuplicateResultIsNoOp(t *testing.T) {
 	}
 	// A malformed result and one for an unknown job are dropped.
 	js.Publish(context.Background(), r.names.ResultSubject("small", id), []byte("{not json"))
-	data, _ := sweep.EncodeOutcome(sweep.Outcome{JobID: strings.Repeat("ab", 16), Sweep: "small", Status: sweep.StatusDone})
+	unknown := strings.Repeat("ab", 16)
+	data, _ := sweep.EncodeOutcome(sweep.Outcome{JobID: unknown, Sweep: "small", Status: sweep.StatusDone})
 	js.Publish(context.Background(), r.names.ResultSubject("small", "x"), data)
 	waitEmpty(t, js, r.names.ResultStream())
+	if _, ok, err := r.db.Outcome(unknown); ok || err != nil {
+		t.Fatalf("a result for a job not in the store was stored (%v)", err)
+	}
 	after, _, _ := r.db.Outcome(id)
 	if after.Worker != before.Worker || after.Steps != before.Steps || after.Status != sweep.StatusDone {
 		t.Fatalf("outcome changed by a duplicate: before %+v after %+v", before, after)

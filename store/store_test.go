@@ -220,6 +220,24 @@ func TestNotFound(t *testing.T) {
 	}
 }
 
+func TestHasJobs(t *testing.T) {
+	db := openTemp(t)
+	jobs := testJobs("lim")
+	if _, _, err := db.PutSweep(SweepRecord{Name: "lim"}, jobs); err != nil {
+		t.Fatal(err)
+	}
+	outs := []sweep.Outcome{
+		{Sweep: "lim", JobID: jobs[0].ID},
+		{Sweep: "lim", JobID: "0123"},       // unknown job
+		{Sweep: "other", JobID: jobs[1].ID}, // unknown sweep
+		{Sweep: "lim", JobID: jobs[len(jobs)-1].ID},
+	}
+	known, err := db.HasJobs(outs)
+	if want := []bool{true, false, false, true}; err != nil || !reflect.DeepEqual(known, want) {
+		t.Fatalf("HasJobs = %v, %v; want %v", known, err, want)
+	}
+}
+
 func TestOutcomePrecedence(t *testing.T) {
 	db := openTemp(t)
 	j := testJobs("p")[0]

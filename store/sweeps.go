@@ -430,6 +430,22 @@ func (db *DB) Job(sweepName, jobID string) (sweep.Job, error) {
 	return j, err
 }
 
+// HasJobs reports, for each outcome, whether the store holds its job in its
+// sweep: one read transaction for the batch, no job decoded.
+func (db *DB) HasJobs(outs []sweep.Outcome) ([]bool, error) {
+	known := make([]bool, len(outs))
+	err := db.bolt.View(func(tx *bolt.Tx) error {
+		jobs := tx.Bucket(bucketJobs)
+		for i, o := range outs {
+			if b := jobs.Bucket([]byte(o.Sweep)); b != nil {
+				known[i] = b.Get([]byte(o.JobID)) != nil
+			}
+		}
+		return nil
+	})
+	return known, err
+}
+
 // interner shares equal strings among decoded jobs.
 type interner map[string]string
 
