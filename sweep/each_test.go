@@ -33,7 +33,7 @@ func resolveAll(t *testing.T, s *Spec) []Job {
 			}
 			seen[id] = len(jobs)
 			jobs = append(jobs, Job{ID: id, Sweep: s.Name, Study: st.Index, Case: st.Case, Params: v.Map(),
-				Refine: st.Refine, Group: st.Group(v), Cost: fv2d.Estimate(v).Work(), Snapshot: st.Snapshot})
+				Refine: st.Refine, Group: groupOf(st, v), Cost: fv2d.Estimate(v).Work(), Snapshot: st.Snapshot})
 			return nil
 		})
 		if err != nil {
@@ -185,4 +185,21 @@ func TestExpandPresetAxis(t *testing.T) {
 			s.Studies[i].costs = nil
 		}
 	}
+}
+
+// groupOf is Job.Group computed from resolved values, the slow way: the
+// case and every "k=v" but the study's grid parameters, keys sorted.
+func groupOf(st *Study, v fv2d.Values) string {
+	var b strings.Builder
+	b.WriteString(v.Case)
+	for _, k := range v.Keys() {
+		if st.isGrid(k) {
+			continue
+		}
+		b.WriteByte(' ')
+		b.WriteString(k)
+		b.WriteByte('=')
+		b.WriteString(v.Get(k))
+	}
+	return b.String()
 }

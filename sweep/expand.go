@@ -6,7 +6,6 @@ import (
 	"encoding/hex"
 	"fmt"
 	"slices"
-	"strings"
 
 	"fvsweep/fv2d"
 )
@@ -74,24 +73,6 @@ func (st *Study) each(fn func(kv map[string]string) error) error {
 			return nil
 		}
 	}
-}
-
-// Group returns the identity of v without the study's grid parameters: the
-// case and every other "k=v", keys sorted. Runs that differ only in their grid
-// share a group, the rows of one convergence table.
-func (st *Study) Group(v fv2d.Values) string {
-	var b strings.Builder
-	b.WriteString(v.Case)
-	for _, k := range v.Keys() {
-		if st.isGrid(k) {
-			continue
-		}
-		b.WriteByte(' ')
-		b.WriteString(k)
-		b.WriteByte('=')
-		b.WriteString(v.Get(k))
-	}
-	return b.String()
 }
 
 func (st *Study) isGrid(name string) bool {
@@ -360,7 +341,7 @@ func (t *runTable) at(k int, idx []int) []int {
 }
 
 // canon appends the canonical "case k=v ..." of the run at idx to dst,
-// without the grid parameters when noGrid is set: JobID's and Group's text.
+// without the grid parameters when noGrid is set: JobID's and group's text.
 func (t *runTable) canon(dst []byte, idx []int, noGrid bool) []byte {
 	dst = append(dst, t.st.Case...)
 	for k, name := range t.keys {
@@ -382,7 +363,10 @@ func (t *runTable) id(idx []int) [16]byte {
 	return [16]byte(sum[:16])
 }
 
-// group is Study.Group of the run at idx.
+// group is Job.Group of the run at idx: the canonical text without the
+// study's grid parameters, the case and every other "k=v", keys sorted.
+// Runs that differ only in their grid share a group, the rows of one
+// convergence table.
 func (t *runTable) group(idx []int) string {
 	t.buf = t.canon(t.buf[:0], idx, true)
 	return string(t.buf)

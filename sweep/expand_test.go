@@ -56,8 +56,8 @@ func TestExpandCounts(t *testing.T) {
 			// Every parameter but the grid is in the group identity.
 			v2, _ := fv2d.Resolve(j.Case, map[string]string{"nx": "999", "ny": "999", "limiter": j.Params["limiter"],
 				"scheme": j.Params["scheme"], "flux": j.Params["flux"], "amp": j.Params["amp"], "t_end": "0.5", "cfl": "0.8"})
-			if s.Studies[0].Group(v) != g || s.Studies[0].Group(v2) != g {
-				t.Errorf("group %q: job %v has group %q", g, j.Params, s.Studies[0].Group(v))
+			if groupOf(&s.Studies[0], v) != g || groupOf(&s.Studies[0], v2) != g {
+				t.Errorf("group %q: job %v has group %q", g, j.Params, groupOf(&s.Studies[0], v))
 			}
 		}
 		if len(js) != 3 || len(grids) != 3 {
