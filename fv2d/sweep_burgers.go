@@ -49,7 +49,7 @@ func burgersMUSCL(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
 		u2 := u[i+1]
 		d := lim(u1-u0, u2-u1)
 		lo, hi := u1-0.5*d, u1+0.5*d
-		e := h * 0.5 * (hi*hi - lo*lo)
+		e := h * u1 * d // = h (hi^2 - lo^2)/2
 		lo -= e
 		if i >= 2 {
 			f := flux(xr, lo)
