@@ -9,6 +9,7 @@ import (
 	"os"
 	"regexp"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -237,7 +238,7 @@ func (p *parser) spec(doc map[string]any) (*Spec, error) {
 // knownKeys refuses a key of m that is not in known.
 func (p *parser) knownKeys(study int, path []string, prefix string, m map[string]any, known []string) error {
 	for _, k := range p.lines.ordered(path, m) {
-		if !contains(known, k) {
+		if !slices.Contains(known, k) {
 			return p.fail(study, sub(path, k), prefix+keyName(k), "unknown key (known: %s)", strings.Join(known, " "))
 		}
 	}
@@ -276,7 +277,7 @@ func (p *parser) study(i int, raw any) (Study, error) {
 			return st, err
 		}
 	}
-	if contains(c.Equation().Vars(), st.Var) {
+	if slices.Contains(c.Equation().Vars(), st.Var) {
 		return st, nil
 	}
 	return st, p.fail(st.Index, sub(path, "var"), "var", "%q is not a conserved variable of %s (one of %s)",
@@ -878,15 +879,6 @@ func keyName(k string) string {
 		return k
 	}
 	return strconv.Quote(k)
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 func sub(path []string, keys ...string) []string {
