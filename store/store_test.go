@@ -48,8 +48,6 @@ func testID(kase string, params map[string]string) string {
 	return hex.EncodeToString(sum[:16])
 }
 
-func nanValue() float64 { return math.NaN() }
-
 func testJobs(name string) []sweep.Job {
 	var jobs []sweep.Job
 	for _, lim := range []string{"minmod", "vanleer", "mc"} {
@@ -408,7 +406,7 @@ func TestInvalidBatchWritesNothing(t *testing.T) {
 		t.Fatal(err)
 	}
 	nan := testOutcome(jobs[3], StatusDone)
-	nan.Errors["rho"] = fv2d.Norms{L1: nanValue()}
+	nan.Errors["rho"] = fv2d.Norms{L1: math.NaN()}
 	badOutcomes := []struct {
 		name string
 		o    sweep.Outcome
@@ -756,7 +754,6 @@ func TestAppendJobMatchesMarshal(t *testing.T) {
 		j := benchJobs("sw", 3)[i%3]
 		j.Sweep, j.Case, j.Group = s, s+"c", "g"+s
 		j.Params[s] = s
-		j.Cost = floats[i%len(floats)]
 		j.Study = i * 1000
 		j.Snapshot = i%2 == 0
 		if i == 3 {
