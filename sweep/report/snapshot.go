@@ -41,12 +41,11 @@ func SnapshotField(h sweep.FieldHeader, data [][]float32, name string, prob *fv2
 	if prob != nil && prob.Gamma > 1 {
 		gamma = prob.Gamma
 	}
-	f := plots.Field{Name: name, NX: h.NX, NY: h.NY, X0: x0, X1: x1, Y0: y0, Y1: y1, V: make([]float64, h.NX*h.NY)}
+	var f plots.Field
 	if k := slices.Index(h.Vars, name); k >= 0 {
-		for i, v := range data[k] {
-			f.V[i] = float64(v)
-		}
+		f = plots.FromFloat32(name, h.NX, h.NY, x0, x1, y0, y1, data[k])
 	} else { // a primitive variable of Euler from the conserved ones
+		f = plots.Field{Name: name, NX: h.NX, NY: h.NY, X0: x0, X1: x1, Y0: y0, Y1: y1, V: make([]float64, h.NX*h.NY)}
 		for i := range f.V {
 			u := [4]float64{float64(data[0][i]), float64(data[1][i]), float64(data[2][i]), float64(data[3][i])}
 			f.V[i] = eulerPrimitive(u, name, gamma)
