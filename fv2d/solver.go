@@ -312,21 +312,26 @@ func (w *worker) do(j job) {
 	}
 }
 
+// line runs kern on [lo, hi) of the line variables q (one for Burgers,
+// four for Euler) and folds what it reports into res.
+func (res *lineResult) line(kern lineKernel, sp *sweepParams, q [][]float64, lo, hi int) {
+	var r lineResult
+	if len(q) == 1 {
+		r = kern(sp, q[0][lo:hi], nil, nil, nil)
+	} else {
+		r = kern(sp, q[0][lo:hi], q[1][lo:hi], q[2][lo:hi], q[3][lo:hi])
+	}
+	res.sn, res.st = math.Max(res.sn, r.sn), math.Max(res.st, r.st)
+	res.bad = res.bad || r.bad
+}
+
 // sweepX runs the kernel on the worker's rows, in place in the state.
 func (w *worker) sweepX(sp *sweepParams) {
 	s := w.s
 	u, stride, kern := s.st.U, s.stride, s.kern
 	var res lineResult
 	for j := w.j0; j < w.j1; j++ {
-		lo, hi := (j+s.g)*stride, (j+s.g+1)*stride
-		var r lineResult
-		if len(u) == 1 {
-			r = kern(sp, u[0][lo:hi], nil, nil, nil)
-		} else {
-			r = kern(sp, u[0][lo:hi], u[1][lo:hi], u[2][lo:hi], u[3][lo:hi])
-		}
-		res.sn, res.st = math.Max(res.sn, r.sn), math.Max(res.st, r.st)
-		res.bad = res.bad || r.bad
+		res.line(kern, sp, u, (j+s.g)*stride, (j+s.g+1)*stride)
 	}
 	w.sx, w.sy, w.bad = res.sn, res.st, res.bad
 }
@@ -358,15 +363,7 @@ func (w *worker) sweepY(sp *sweepParams) {
 			}
 		}
 		for c := 0; c < bw; c++ {
-			lo, hi := c*n, (c+1)*n
-			var r lineResult
-			if nv == 1 {
-				r = kern(sp, w.yb[0][lo:hi], nil, nil, nil)
-			} else {
-				r = kern(sp, w.yb[0][lo:hi], w.yb[1][lo:hi], w.yb[2][lo:hi], w.yb[3][lo:hi])
-			}
-			res.sn, res.st = math.Max(res.sn, r.sn), math.Max(res.st, r.st)
-			res.bad = res.bad || r.bad
+			res.line(kern, sp, w.yb[:nv], c*n, (c+1)*n)
 		}
 		for k := 0; k < nv; k++ {
 			src, dst := w.yb[k], q[k]
