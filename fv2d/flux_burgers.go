@@ -3,6 +3,7 @@ package fv2d
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // BurgersFlux is a numerical flux of the scalar law u_t + f(u)_x = 0 with
@@ -22,7 +23,7 @@ func BurgersFluxByName(name string) (BurgersFlux, error) {
 	case "rusanov":
 		return BurgersRusanov, nil
 	}
-	return nil, fmt.Errorf("unknown Burgers flux %q (known: %s)", name, joinNames(BurgersFluxNames))
+	return nil, fmt.Errorf("unknown Burgers flux %q (known: %s)", name, strings.Join(BurgersFluxNames, " "))
 }
 
 // BurgersGodunov is the exact Godunov flux of f(u) = u^2/2 (Godunov 1959;

@@ -35,10 +35,8 @@ func EulerFluxByName(name string) (EulerFlux, error) {
 	case "roe":
 		return EulerRoe, nil
 	}
-	return nil, fmt.Errorf("unknown Euler flux %q (known: %s)", name, joinNames(EulerFluxNames))
+	return nil, fmt.Errorf("unknown Euler flux %q (known: %s)", name, strings.Join(EulerFluxNames, " "))
 }
-
-func joinNames(names []string) string { return strings.Join(names, " ") }
 
 // EulerPhysicalFlux is the exact flux F(W) of the Euler equations normal to
 // a face for the primitive state (r, u, v, p):
