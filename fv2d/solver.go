@@ -400,19 +400,20 @@ func (w *worker) speeds(speed bool) {
 	u, g := s.st.U, s.st.Gamma
 	var res lineResult
 	for j := w.j0; j < w.j1; j++ {
-		lo := s.st.Index(0, j)
-		for idx := lo; idx < lo+s.nx; idx++ {
-			if len(u) == 1 {
-				checkBurgers(&res, speed, u[0][idx])
-			} else {
-				checkEuler(&res, speed, g, u[0][idx], u[1][idx], u[2][idx], u[3][idx])
+		lo, hi := s.st.Index(0, j), s.st.Index(0, j)+s.nx
+		if len(u) == 1 {
+			for _, x := range u[0][lo:hi] {
+				checkBurgers(&res, speed, x)
 			}
+			res.st = res.sn
+			continue
+		}
+		r, m, t, e := u[0][lo:hi], u[1][lo:hi], u[2][lo:hi], u[3][lo:hi]
+		for i := range r {
+			checkEuler(&res, speed, g, r[i], m[i], t[i], e[i])
 		}
 	}
-	if len(u) == 1 {
-		res.st = res.sn
-	}
-	w.sx, w.sy, w.bad = math.Max(w.sx, res.sn), math.Max(w.sy, res.st), w.bad || res.bad
+	w.sx, w.sy, w.bad = res.sn, res.st, res.bad
 }
 
 // failure scans the state for the first non-physical cell (row by row) and
