@@ -6,14 +6,13 @@ import (
 	"crypto/tls"
 	"errors"
 	"fmt"
+	"fvsweep/sweep/wire"
 	"net"
 	"strings"
 	"time"
 
 	"github.com/nats-io/nats-server/v2/server"
 	"github.com/nats-io/nats.go"
-
-	"fvsweep/sweep"
 )
 
 // Who may do what on NATS. The same two sets of rights are written out in
@@ -28,7 +27,7 @@ import (
 //     sweep, or change a stream or consumer.
 
 // CoordinatorRights are the NATS permissions of the coordinator user.
-func CoordinatorRights(n sweep.Names) *server.Permissions {
+func CoordinatorRights(n wire.Names) *server.Permissions {
 	return &server.Permissions{
 		Publish: &server.SubjectPermission{Allow: []string{
 			prefix(n) + ".>", "$JS.API.>", "$JS.ACK.>", "$JS.FC.>",
@@ -41,7 +40,7 @@ func CoordinatorRights(n sweep.Names) *server.Permissions {
 }
 
 // WorkerRights are the NATS permissions of the worker user.
-func WorkerRights(n sweep.Names) *server.Permissions {
+func WorkerRights(n wire.Names) *server.Permissions {
 	jobs, cons := n.JobStream(), n.WorkerConsumer()
 	kv, obj := "KV_"+n.CancelBucket(), "OBJ_"+n.FieldBucket()
 	return &server.Permissions{
@@ -62,22 +61,22 @@ func WorkerRights(n sweep.Names) *server.Permissions {
 				"$O." + n.FieldBucket() + ".>",
 				n.ResultFilter(),
 				n.WorkerFilter(),
-				n.API(sweep.VerbPing), n.API(sweep.VerbStatus), n.API(sweep.VerbRows),
+				n.API(wire.VerbPing), n.API(wire.VerbStatus), n.API(wire.VerbRows),
 			},
-			Deny: []string{n.JobFilter(""), n.API(sweep.VerbSubmit), n.API(sweep.VerbCancel)},
+			Deny: []string{n.JobFilter(""), n.API(wire.VerbSubmit), n.API(wire.VerbCancel)},
 		},
 		Subscribe: &server.SubjectPermission{Allow: []string{"_INBOX.>"}},
 	}
 }
 
-func prefix(n sweep.Names) string {
+func prefix(n wire.Names) string {
 	if n.Prefix == "" {
-		return sweep.DefaultPrefix
+		return wire.DefaultPrefix
 	}
 	return n.Prefix
 }
 
-func maxDeliveriesSubject(n sweep.Names) string {
+func maxDeliveriesSubject(n wire.Names) string {
 	return fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", n.JobStream(), n.WorkerConsumer())
 }
 
@@ -93,7 +92,7 @@ type Access struct {
 	// Without it, workers use Token.
 	WorkerToken string
 	// Names are the names the rights are scoped to.
-	Names sweep.Names
+	Names wire.Names
 }
 
 // tokenAuth checks a connecting client's token (or user and password)

@@ -8,7 +8,8 @@ import (
 	"github.com/nats-io/nats.go"
 
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 // tallyMaxAge is how stale a cached count may be while outcomes arrive.
@@ -43,7 +44,7 @@ func (c *Coordinator) count(name string) (store.Tally, error) {
 }
 
 // Status counts the jobs of sweep name, or of every sweep when name is "".
-func (c *Coordinator) Status(name string) ([]sweep.SweepStatus, error) {
+func (c *Coordinator) Status(name string) ([]wire.SweepStatus, error) {
 	now := time.Now()
 	return SweepStatuses(c.db, name, c.count, func(s string) int { return c.reg.runningIn(s, now) })
 }
@@ -51,7 +52,7 @@ func (c *Coordinator) Status(name string) ([]sweep.SweepStatus, error) {
 // SweepStatuses builds the status of sweep name (all sweeps for "") from
 // the store: count tallies a sweep (nil: db.Count), running counts its jobs
 // running now (nil: none, as when no coordinator is up).
-func SweepStatuses(db *store.DB, name string, count func(string) (store.Tally, error), running func(string) int) ([]sweep.SweepStatus, error) {
+func SweepStatuses(db *store.DB, name string, count func(string) (store.Tally, error), running func(string) int) ([]wire.SweepStatus, error) {
 	if count == nil {
 		count = db.Count
 	}
@@ -68,13 +69,13 @@ func SweepStatuses(db *store.DB, name string, count func(string) (store.Tally, e
 		}
 		recs = []store.SweepRecord{r}
 	}
-	out := make([]sweep.SweepStatus, 0, len(recs))
+	out := make([]wire.SweepStatus, 0, len(recs))
 	for _, r := range recs {
 		t, err := count(r.Name)
 		if err != nil {
 			return nil, err
 		}
-		s := sweep.SweepStatus{
+		s := wire.SweepStatus{
 			Sweep: r.Name, SpecFile: r.SpecFile, JobsTotal: t.Jobs, Done: t.Done, Failed: t.Failed,
 			Canceled: r.Canceled, Created: r.Created, Updated: r.Updated,
 		}
@@ -90,20 +91,20 @@ func SweepStatuses(db *store.DB, name string, count func(string) (store.Tally, e
 
 // Rows returns every job of sweep name in dispatch order with its state;
 // running maps the job IDs running now to their worker (nil: none).
-func Rows(db *store.DB, name string, running map[string]string) ([]sweep.Row, error) {
+func Rows(db *store.DB, name string, running map[string]string) ([]wire.Row, error) {
 	rs, err := db.Query(name, nil)
 	if err != nil {
 		return nil, err
 	}
-	out := make([]sweep.Row, len(rs))
+	out := make([]wire.Row, len(rs))
 	for i, r := range rs {
-		row := sweep.Row{Job: r.Job, Outcome: r.Outcome, Status: "queued"}
+		row := wire.Row{Job: r.Job, Outcome: r.Outcome, Status: job.StatusQueued}
 		switch {
 		case r.Outcome != nil:
 			row.Status = r.Outcome.Status
 			row.Worker = r.Outcome.Worker
 		case running[r.Job.ID] != "":
-			row.Status = "running"
+			row.Status = job.StatusRunning
 			row.Worker = running[r.Job.ID]
 		}
 		out[i] = row
@@ -130,13 +131,13 @@ func errString(err error) string {
 }
 
 func (c *Coordinator) onStatus(m *nats.Msg) {
-	var req sweep.SweepRequest
-	if err := sweep.Decode("status request", m.Data, &req); err != nil {
-		c.reply(m, sweep.StatusReply{Error: err.Error()})
+	var req wire.SweepRequest
+	if err := wire.Decode("status request", m.Data, &req); err != nil {
+		c.reply(m, wire.StatusReply{Error: err.Error()})
 		return
 	}
 	st, err := c.Status(req.Sweep)
-	c.reply(m, sweep.StatusReply{Sweeps: st, Workers: c.Workers(), Error: errString(err)})
+	c.reply(m, wire.StatusReply{Sweeps: st, Workers: c.Workers(), Error: errString(err)})
 }
 
 // rowsChunk is the payload size at which a rows reply is sent and a new
@@ -146,28 +147,28 @@ const rowsChunk = 256 << 10
 // onRows streams the rows of a sweep to the requester's inbox in chunks,
 // the last one marked Last.
 func (c *Coordinator) onRows(m *nats.Msg) {
-	var req sweep.RowsRequest
-	if err := sweep.Decode("rows request", m.Data, &req); err != nil {
-		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+	var req wire.RowsRequest
+	if err := wire.Decode("rows request", m.Data, &req); err != nil {
+		c.reply(m, wire.RowsReply{Last: true, Error: err.Error()})
 		return
 	}
 	rows, err := Rows(c.db, req.Sweep, c.reg.running(time.Now()))
 	if err != nil {
-		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+		c.reply(m, wire.RowsReply{Last: true, Error: err.Error()})
 		return
 	}
 	rec, err := c.db.Sweep(req.Sweep)
 	if err != nil {
-		c.reply(m, sweep.RowsReply{Last: true, Error: err.Error()})
+		c.reply(m, wire.RowsReply{Last: true, Error: err.Error()})
 		return
 	}
 	var (
-		page []sweep.Row
+		page []wire.Row
 		size int
 		seq  int
 	)
 	send := func(last bool) bool {
-		rep := sweep.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last}
+		rep := wire.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last}
 		if seq == 0 {
 			rep.SpecFile, rep.Spec = rec.SpecFile, rec.Spec
 		}
@@ -198,18 +199,18 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 }
 
 func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {
-	var req sweep.SubmitRequest
-	if err := sweep.Decode("submit request", m.Data, &req); err != nil {
-		c.reply(m, sweep.SubmitReply{Error: err.Error()})
+	var req wire.SubmitRequest
+	if err := wire.Decode("submit request", m.Data, &req); err != nil {
+		c.reply(m, wire.SubmitReply{Error: err.Error()})
 		return
 	}
 	if c.cfg.ParseSpec == nil {
-		c.reply(m, sweep.SubmitReply{Error: "this coordinator takes no submissions"})
+		c.reply(m, wire.SubmitReply{Error: "this coordinator takes no submissions"})
 		return
 	}
 	spec, err := c.cfg.ParseSpec(req.File, req.Source)
 	if err != nil {
-		c.reply(m, sweep.SubmitReply{Error: err.Error()})
+		c.reply(m, wire.SubmitReply{Error: err.Error()})
 		return
 	}
 	rep, err := c.Submit(ctx, spec, req.RetryFailed)
@@ -218,9 +219,9 @@ func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {
 }
 
 func (c *Coordinator) onCancel(ctx context.Context, m *nats.Msg) {
-	var req sweep.SweepRequest
-	if err := sweep.Decode("cancel request", m.Data, &req); err != nil {
-		c.reply(m, sweep.CancelReply{Error: err.Error()})
+	var req wire.SweepRequest
+	if err := wire.Decode("cancel request", m.Data, &req); err != nil {
+		c.reply(m, wire.CancelReply{Error: err.Error()})
 		return
 	}
 	rep, err := c.Cancel(ctx, req.Sweep)

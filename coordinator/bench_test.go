@@ -18,7 +18,7 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 	"fvsweep/worker"
 )
 
@@ -210,14 +210,14 @@ func procStatus(field string) int64 {
 // reports the busy fraction: the time its slots spent in jobs over
 // 2 x (last job end - first job start), and the worker's own figure.
 func BenchmarkWorkerBusy50ms(b *testing.B) {
-	const n, conc, job = 60, 2, 50 * time.Millisecond
+	const n, conc, jb = 60, 2, 50 * time.Millisecond
 	r := newRig(b, testDelivery)
 	var mu sync.Mutex
 	var first, last time.Time
 	var busy time.Duration
-	sleep := func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+	sleep := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		t0 := time.Now()
-		time.Sleep(job)
+		time.Sleep(jb)
 		t1 := time.Now()
 		mu.Lock()
 		if first.IsZero() || t0.Before(first) {
@@ -228,7 +228,7 @@ func BenchmarkWorkerBusy50ms(b *testing.B) {
 		}
 		busy += t1.Sub(t0)
 		mu.Unlock()
-		return sweep.Outcome{Status: sweep.StatusDone}, nil, nil
+		return job.Outcome{Status: job.StatusDone}, nil, nil
 	}
 	var w *worker.Worker
 	b.ResetTimer()

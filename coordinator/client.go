@@ -5,12 +5,11 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"fvsweep/sweep/wire"
 	"os"
 	"time"
 
 	"github.com/nats-io/nats.go"
-
-	"fvsweep/sweep"
 )
 
 // DialOptions say how a command, a worker or a coordinator connects to NATS.
@@ -144,14 +143,14 @@ var ErrNoCoordinator = errors.New("no coordinator is answering")
 // Client sends the API requests of the commands to a running coordinator.
 type Client struct {
 	nc    *nats.Conn
-	names sweep.Names
+	names wire.Names
 	// Timeout bounds a request (default 10 s); Submit waits up to ten times
 	// as long, since a large sweep takes a while to queue.
 	Timeout time.Duration
 }
 
 // NewClient returns a client on nc.
-func NewClient(nc *nats.Conn, names sweep.Names) *Client {
+func NewClient(nc *nats.Conn, names wire.Names) *Client {
 	return &Client{nc: nc, names: names, Timeout: 10 * time.Second}
 }
 
@@ -173,7 +172,7 @@ func (c *Client) request(ctx context.Context, verb string, timeout time.Duration
 	if err != nil {
 		return fmt.Errorf("%s: %w", verb, err)
 	}
-	return sweep.Decode(verb+" reply", m.Data, rep)
+	return wire.Decode(verb+" reply", m.Data, rep)
 }
 
 func replyErr(s string) error {
@@ -187,7 +186,7 @@ func replyErr(s string) error {
 func (c *Client) Ping(ctx context.Context) (string, error) {
 	ctx, cancel := context.WithTimeout(ctx, c.Timeout)
 	defer cancel()
-	m, err := requestChecked(ctx, c.nc, c.names.API(sweep.VerbPing), nil)
+	m, err := requestChecked(ctx, c.nc, c.names.API(wire.VerbPing), nil)
 	if errors.Is(err, nats.ErrPermissionViolation) {
 		return "", fmt.Errorf("ping: %w", err)
 	}
@@ -198,27 +197,27 @@ func (c *Client) Ping(ctx context.Context) (string, error) {
 }
 
 // Status asks for the status of sweep name ("" for all) and the live workers.
-func (c *Client) Status(ctx context.Context, name string) (sweep.StatusReply, error) {
-	var rep sweep.StatusReply
-	if err := c.request(ctx, sweep.VerbStatus, c.Timeout, sweep.SweepRequest{Sweep: name}, &rep); err != nil {
+func (c *Client) Status(ctx context.Context, name string) (wire.StatusReply, error) {
+	var rep wire.StatusReply
+	if err := c.request(ctx, wire.VerbStatus, c.Timeout, wire.SweepRequest{Sweep: name}, &rep); err != nil {
 		return rep, err
 	}
 	return rep, replyErr(rep.Error)
 }
 
 // Submit sends a spec's source to be expanded and queued.
-func (c *Client) Submit(ctx context.Context, req sweep.SubmitRequest) (sweep.SubmitReply, error) {
-	var rep sweep.SubmitReply
-	if err := c.request(ctx, sweep.VerbSubmit, 10*c.Timeout, req, &rep); err != nil {
+func (c *Client) Submit(ctx context.Context, req wire.SubmitRequest) (wire.SubmitReply, error) {
+	var rep wire.SubmitReply
+	if err := c.request(ctx, wire.VerbSubmit, 10*c.Timeout, req, &rep); err != nil {
 		return rep, err
 	}
 	return rep, replyErr(rep.Error)
 }
 
 // Cancel cancels sweep name.
-func (c *Client) Cancel(ctx context.Context, name string) (sweep.CancelReply, error) {
-	var rep sweep.CancelReply
-	if err := c.request(ctx, sweep.VerbCancel, c.Timeout, sweep.SweepRequest{Sweep: name}, &rep); err != nil {
+func (c *Client) Cancel(ctx context.Context, name string) (wire.CancelReply, error) {
+	var rep wire.CancelReply
+	if err := c.request(ctx, wire.VerbCancel, c.Timeout, wire.SweepRequest{Sweep: name}, &rep); err != nil {
 		return rep, err
 	}
 	return rep, replyErr(rep.Error)
@@ -226,20 +225,20 @@ func (c *Client) Cancel(ctx context.Context, name string) (sweep.CancelReply, er
 
 // Rows fetches every job of sweep name with its state; the coordinator
 // sends them in chunks.
-func (c *Client) Rows(ctx context.Context, name string) ([]sweep.Row, error) {
+func (c *Client) Rows(ctx context.Context, name string) ([]wire.Row, error) {
 	rows, _, err := c.rows(ctx, name)
 	return rows, err
 }
 
 // RowsSpec is Rows and the sweep's spec as last submitted (file name and
 // TOML source), for study settings such as design orders.
-func (c *Client) RowsSpec(ctx context.Context, name string) (rows []sweep.Row, specFile, spec string, err error) {
+func (c *Client) RowsSpec(ctx context.Context, name string) (rows []wire.Row, specFile, spec string, err error) {
 	rows, first, err := c.rows(ctx, name)
 	return rows, first.SpecFile, first.Spec, err
 }
 
-func (c *Client) rows(ctx context.Context, name string) ([]sweep.Row, sweep.RowsReply, error) {
-	var first sweep.RowsReply
+func (c *Client) rows(ctx context.Context, name string) ([]wire.Row, wire.RowsReply, error) {
+	var first wire.RowsReply
 	inbox := c.nc.NewRespInbox()
 	sub, err := c.nc.SubscribeSync(inbox)
 	if err != nil {
@@ -247,11 +246,11 @@ func (c *Client) rows(ctx context.Context, name string) ([]sweep.Row, sweep.Rows
 	}
 	defer sub.Unsubscribe()
 	sub.SetPendingLimits(-1, -1)
-	data, _ := json.Marshal(sweep.RowsRequest{Sweep: name})
-	if err := c.nc.PublishRequest(c.names.API(sweep.VerbRows), inbox, data); err != nil {
+	data, _ := json.Marshal(wire.RowsRequest{Sweep: name})
+	if err := c.nc.PublishRequest(c.names.API(wire.VerbRows), inbox, data); err != nil {
 		return nil, first, err
 	}
-	var rows []sweep.Row
+	var rows []wire.Row
 	for seq := 0; ; seq++ {
 		ctx, cancel := context.WithTimeout(ctx, c.Timeout)
 		m, err := sub.NextMsgWithContext(ctx)
@@ -265,8 +264,8 @@ func (c *Client) rows(ctx context.Context, name string) ([]sweep.Row, sweep.Rows
 		if len(m.Data) == 0 && m.Header.Get("Status") == "503" {
 			return nil, first, fmt.Errorf("rows: %w (no responders)", ErrNoCoordinator)
 		}
-		var rep sweep.RowsReply
-		if err := sweep.Decode("rows reply", m.Data, &rep); err != nil {
+		var rep wire.RowsReply
+		if err := wire.Decode("rows reply", m.Data, &rep); err != nil {
 			return nil, first, err
 		}
 		if rep.Error != "" {

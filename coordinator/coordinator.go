@@ -13,13 +13,15 @@ import (
 	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 )
 
 // Config configures a Coordinator. The zero value of every field but Store
 // is usable.
 type Config struct {
-	Names    sweep.Names
+	Names    wire.Names
 	Delivery Delivery
 	// Batch is the most outcomes written to the store in one transaction
 	// (default 512); Flush the longest an outcome waits for its batch to
@@ -28,9 +30,9 @@ type Config struct {
 	Flush time.Duration
 	// ParseSpec turns a submitted spec (file name for messages, TOML text)
 	// into a Spec; submit requests over NATS fail without it.
-	ParseSpec func(file, source string) (*sweep.Spec, error)
+	ParseSpec func(file, source string) (*spec.Spec, error)
 	// OnStored, if set, is called after each batch of outcomes is stored.
-	OnStored func([]sweep.Outcome)
+	OnStored func([]job.Outcome)
 	Log      hclog.Logger
 }
 
@@ -159,11 +161,11 @@ func (c *Coordinator) Run(ctx context.Context) error {
 	}{
 		{c.cfg.Names.WorkerFilter(), c.onReport},
 		{adv, func(m *nats.Msg) { c.onMaxDeliveries(ctx, m) }},
-		{c.cfg.Names.API(sweep.VerbPing), func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) }},
-		{c.cfg.Names.API(sweep.VerbStatus), c.onStatus},
-		{c.cfg.Names.API(sweep.VerbRows), c.onRows},
-		{c.cfg.Names.API(sweep.VerbSubmit), func(m *nats.Msg) { c.onSubmit(ctx, m) }},
-		{c.cfg.Names.API(sweep.VerbCancel), func(m *nats.Msg) { c.onCancel(ctx, m) }},
+		{c.cfg.Names.API(wire.VerbPing), func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) }},
+		{c.cfg.Names.API(wire.VerbStatus), c.onStatus},
+		{c.cfg.Names.API(wire.VerbRows), c.onRows},
+		{c.cfg.Names.API(wire.VerbSubmit), func(m *nats.Msg) { c.onSubmit(ctx, m) }},
+		{c.cfg.Names.API(wire.VerbCancel), func(m *nats.Msg) { c.onCancel(ctx, m) }},
 	} {
 		if err := sub(s.subject, s.h); err != nil {
 			cc.Stop()
@@ -233,7 +235,7 @@ func (c *Coordinator) collect(in <-chan jetstream.Msg, stop <-chan struct{}) {
 // them; malformed or unknown results are terminated, a failed write naks
 // the whole batch so that it comes again.
 func (c *Coordinator) store(msgs []jetstream.Msg) {
-	outs := make([]sweep.Outcome, 0, len(msgs))
+	outs := make([]job.Outcome, 0, len(msgs))
 	keep := msgs[:0:0]
 	for _, m := range msgs {
 		o, err := checkResult(m.Data())
@@ -294,8 +296,8 @@ func (c *Coordinator) nakAll(msgs []jetstream.Msg, what string, err error) {
 
 // checkResult decodes a result and checks its fields; store checks in one
 // read transaction per batch that its job is stored.
-func checkResult(data []byte) (sweep.Outcome, error) {
-	o, err := sweep.DecodeOutcome(data)
+func checkResult(data []byte) (job.Outcome, error) {
+	o, err := job.DecodeOutcome(data)
 	if err != nil {
 		return o, err
 	}
@@ -304,7 +306,7 @@ func checkResult(data []byte) (sweep.Outcome, error) {
 
 // onReport records a worker's report.
 func (c *Coordinator) onReport(m *nats.Msg) {
-	r, err := sweep.DecodeWorkerReport(m.Data)
+	r, err := wire.DecodeWorkerReport(m.Data)
 	if err != nil {
 		c.log.Warn("dropping worker report", "subject", m.Subject, "error", err)
 		return
@@ -335,7 +337,7 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 		c.log.Debug("max-deliveries: job already gone", "seq", a.StreamSeq, "error", err)
 		return
 	}
-	job, err := sweep.DecodeJob(raw.Data)
+	jb, err := job.Decode(raw.Data)
 	if err != nil {
 		c.log.Warn("max-deliveries: malformed job removed", "seq", a.StreamSeq, "error", err)
 		c.jobs.DeleteMsg(ctx, a.StreamSeq)
@@ -343,28 +345,28 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 	}
 	// Acks lost while a cluster elects a new consumer leader run a job
 	// again and again although its outcome is on its way: not a failure.
-	_, perr := c.outs.GetLastMsgForSubject(ctx, c.cfg.Names.ResultSubject(job.Sweep, job.ID))
+	_, perr := c.outs.GetLastMsgForSubject(ctx, c.cfg.Names.ResultSubject(jb.Sweep, jb.ID))
 	if perr != nil && !errors.Is(perr, jetstream.ErrMsgNotFound) {
-		c.log.Debug("max-deliveries: looking for a queued outcome", "job", job.ID, "error", perr)
+		c.log.Debug("max-deliveries: looking for a queued outcome", "job", jb.ID, "error", perr)
 	}
 	if perr == nil {
-		c.log.Info("delivery limit reached, but an outcome is queued: not failed", "job", job.ID, "deliveries", a.Deliveries)
-	} else if _, found, err := c.db.Outcome(job.ID); err == nil && !found {
-		o := sweep.Outcome{
-			JobID: job.ID, Sweep: job.Sweep, Status: sweep.StatusFailed, Attempts: int(a.Deliveries),
+		c.log.Info("delivery limit reached, but an outcome is queued: not failed", "job", jb.ID, "deliveries", a.Deliveries)
+	} else if _, found, err := c.db.Outcome(jb.ID); err == nil && !found {
+		o := job.Outcome{
+			JobID: jb.ID, Sweep: jb.Sweep, Status: job.StatusFailed, Attempts: int(a.Deliveries),
 			Error: fmt.Sprintf("no result after %d deliveries (ack wait %v each): the worker was lost, hung or killed",
 				a.Deliveries, c.cfg.Delivery.AckWait),
 		}
-		if _, err := c.db.PutOutcomes([]sweep.Outcome{o}); err != nil {
-			c.log.Error("max-deliveries: storing failure", "job", job.ID, "error", err)
+		if _, err := c.db.PutOutcomes([]job.Outcome{o}); err != nil {
+			c.log.Error("max-deliveries: storing failure", "job", jb.ID, "error", err)
 			return
 		}
 		c.mu.Lock()
 		c.gen++
 		c.mu.Unlock()
-		c.log.Warn("job failed: delivery limit reached", "job", job.ID, "sweep", job.Sweep, "deliveries", a.Deliveries)
+		c.log.Warn("job failed: delivery limit reached", "job", jb.ID, "sweep", jb.Sweep, "deliveries", a.Deliveries)
 		if c.cfg.OnStored != nil {
-			c.cfg.OnStored([]sweep.Outcome{o})
+			c.cfg.OnStored([]job.Outcome{o})
 		}
 	}
 	if err := c.jobs.DeleteMsg(ctx, a.StreamSeq); err != nil {
@@ -373,4 +375,4 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 }
 
 // Workers returns the reports of the live workers.
-func (c *Coordinator) Workers() []sweep.WorkerReport { return c.reg.live(time.Now()) }
+func (c *Coordinator) Workers() []wire.WorkerReport { return c.reg.live(time.Now()) }

@@ -14,7 +14,8 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
 	"fvsweep/worker"
 )
 
@@ -34,17 +35,17 @@ type counting struct {
 	run worker.Runner
 }
 
-func (c *counting) Run(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+func (c *counting) Run(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 	c.n.Add(1)
 	return c.run(ctx, j)
 }
 
 // trivial is a runner that does no work.
-func trivial(context.Context, sweep.Job) (sweep.Outcome, *fv2d.State, error) {
-	return sweep.Outcome{Status: sweep.StatusDone, Steps: 1}, nil, nil
+func trivial(context.Context, job.Job) (job.Outcome, *fv2d.State, error) {
+	return job.Outcome{Status: job.StatusDone, Steps: 1}, nil, nil
 }
 
-func ids(jobs []sweep.Job) []string {
+func ids(jobs []job.Job) []string {
 	out := make([]string, len(jobs))
 	for i, j := range jobs {
 		out[i] = j.ID
@@ -76,7 +77,7 @@ func TestSweepStoresExactlyTheExpandedJobs(t *testing.T) {
 	var got []string
 	for id, o := range outs {
 		got = append(got, id)
-		if o.Status != sweep.StatusDone || o.Errors["u"].L1 <= 0 || o.Steps <= 0 || o.Worker == "" || o.Attempts != 1 {
+		if o.Status != job.StatusDone || o.Errors["u"].L1 <= 0 || o.Steps <= 0 || o.Worker == "" || o.Attempts != 1 {
 			t.Errorf("outcome %s: %+v", id, o)
 		}
 	}
@@ -125,7 +126,7 @@ axes = { max_steps = [1, 1000], limiter = ["minmod", "mc"] }
 	}
 	for _, row := range rows {
 		o := row.Outcome
-		if o == nil || o.Status != sweep.StatusFailed || !strings.Contains(o.Error, "step guard") || o.Attempts != 1 {
+		if o == nil || o.Status != job.StatusFailed || !strings.Contains(o.Error, "step guard") || o.Attempts != 1 {
 			t.Errorf("job %s: outcome %+v, want failed on attempt 1 with the step guard as reason", row.Job.ID, o)
 		}
 	}
@@ -139,7 +140,7 @@ func TestPanickingJobFailsAfterDeliveryLimit(t *testing.T) {
 	var bad string
 	var mu sync.Mutex
 	var calls int
-	r.addWorker(2, func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+	r.addWorker(2, func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		if j.Params["limiter"] == "mc" && j.Params["nx"] == "32" {
 			mu.Lock()
 			bad, calls = j.ID, calls+1
@@ -157,7 +158,7 @@ func TestPanickingJobFailsAfterDeliveryLimit(t *testing.T) {
 	if err != nil || !found {
 		t.Fatalf("outcome of %s: %v %v", bad, found, err)
 	}
-	if o.Status != sweep.StatusFailed || !strings.Contains(o.Error, "panic: boom") || o.Attempts != testDelivery.MaxDeliver {
+	if o.Status != job.StatusFailed || !strings.Contains(o.Error, "panic: boom") || o.Attempts != testDelivery.MaxDeliver {
 		t.Errorf("outcome %+v, want failed after %d attempts with the panic", o, testDelivery.MaxDeliver)
 	}
 	mu.Lock()
@@ -178,11 +179,11 @@ func TestDuplicateResultIsNoOp(t *testing.T) {
 	id := jobs[0].ID
 	before, _, _ := r.db.Outcome(id)
 	js, _ := jetstream.New(r.nc)
-	for _, o := range []sweep.Outcome{
-		{JobID: id, Sweep: "small", Status: sweep.StatusDone, Worker: "late", Attempts: 2, Steps: 99},
-		{JobID: id, Sweep: "small", Status: sweep.StatusFailed, Worker: "late", Attempts: 2, Error: "late failure"},
+	for _, o := range []job.Outcome{
+		{JobID: id, Sweep: "small", Status: job.StatusDone, Worker: "late", Attempts: 2, Steps: 99},
+		{JobID: id, Sweep: "small", Status: job.StatusFailed, Worker: "late", Attempts: 2, Error: "late failure"},
 	} {
-		data, _ := sweep.EncodeOutcome(o)
+		data, _ := job.EncodeOutcome(o)
 		if _, err := js.Publish(context.Background(), r.names.ResultSubject("small", id), data); err != nil {
 			t.Fatal(err)
 		}
@@ -190,14 +191,14 @@ func TestDuplicateResultIsNoOp(t *testing.T) {
 	// A malformed result and one for an unknown job are dropped.
 	js.Publish(context.Background(), r.names.ResultSubject("small", id), []byte("{not json"))
 	unknown := strings.Repeat("ab", 16)
-	data, _ := sweep.EncodeOutcome(sweep.Outcome{JobID: unknown, Sweep: "small", Status: sweep.StatusDone})
+	data, _ := job.EncodeOutcome(job.Outcome{JobID: unknown, Sweep: "small", Status: job.StatusDone})
 	js.Publish(context.Background(), r.names.ResultSubject("small", "x"), data)
 	waitEmpty(t, js, r.names.ResultStream())
 	if _, ok, err := r.db.Outcome(unknown); ok || err != nil {
 		t.Fatalf("a result for a job not in the store was stored (%v)", err)
 	}
 	after, _, _ := r.db.Outcome(id)
-	if after.Worker != before.Worker || after.Steps != before.Steps || after.Status != sweep.StatusDone {
+	if after.Worker != before.Worker || after.Steps != before.Steps || after.Status != job.StatusDone {
 		t.Fatalf("outcome changed by a duplicate: before %+v after %+v", before, after)
 	}
 	if tally, _ := r.db.Count("small"); tally.Done != 6 || tally.Jobs != 6 {
@@ -274,10 +275,10 @@ fixed = { nx = 16 }
 func TestCancelStopsSweepAndResubmitResumes(t *testing.T) {
 	r := newRig(t, testDelivery)
 	var started atomic.Int64
-	block := func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+	block := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		started.Add(1)
 		<-ctx.Done()
-		return sweep.Outcome{}, nil, ctx.Err()
+		return job.Outcome{}, nil, ctx.Err()
 	}
 	w := r.addWorker(2, block)
 	r.submit(smallSpec)
@@ -329,14 +330,14 @@ snapshot = true
 		t.Fatal(err)
 	}
 	for id, o := range outs {
-		if o.Status != sweep.StatusDone || o.Snapshot != r.names.FieldBucket()+"/"+id {
+		if o.Status != job.StatusDone || o.Snapshot != r.names.FieldBucket()+"/"+id {
 			t.Fatalf("outcome %+v", o)
 		}
 		data, err := obs.GetBytes(context.Background(), id)
 		if err != nil {
 			t.Fatal(err)
 		}
-		h, f, err := sweep.DecodeField(data)
+		h, f, err := field.Decode(data)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -356,12 +357,12 @@ func TestWorkerDrainFinishesRunningJob(t *testing.T) {
 	r := newRig(t, testDelivery)
 	var once sync.Once
 	running := make(chan struct{})
-	slow := func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+	slow := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		once.Do(func() { close(running) })
 		select {
 		case <-time.After(300 * time.Millisecond):
 		case <-ctx.Done():
-			return sweep.Outcome{}, nil, errors.New("stopped")
+			return job.Outcome{}, nil, errors.New("stopped")
 		}
 		return trivial(ctx, j)
 	}

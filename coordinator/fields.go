@@ -14,8 +14,8 @@ import (
 
 // FetchField reads the field snapshot ref from the JetStream object store
 // on nc; ref is what a done outcome holds in Snapshot, "BUCKET/OBJECT"
-// (the bucket sweep.Names.FieldBucket, the object the job ID). The bytes
-// are the snapshot encoding of sweep.EncodeField.
+// (the bucket wire.Names.FieldBucket, the object the job ID). The bytes
+// are the snapshot encoding of field.Encode.
 func FetchField(ctx context.Context, nc *nats.Conn, ref string) ([]byte, error) {
 	bucket, obj, ok := strings.Cut(ref, "/")
 	if !ok || bucket == "" || obj == "" || strings.ContainsAny(bucket, ".*> ") {

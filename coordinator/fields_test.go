@@ -8,7 +8,7 @@ import (
 	"time"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
 	"fvsweep/worker"
 )
 
@@ -43,7 +43,7 @@ snapshot = true
 	if err != nil {
 		t.Fatal(err)
 	}
-	if h, _, err := sweep.DecodeField(live); err != nil || h.JobID != id {
+	if h, _, err := field.Decode(live); err != nil || h.JobID != id {
 		t.Fatalf("snapshot of %s: header %+v, %v", id, h, err)
 	}
 	for _, bad := range []string{"", "nobucket", "/" + id, r.names.FieldBucket() + "/", r.names.FieldBucket() + "/" + strings.Repeat("0", 32)} {

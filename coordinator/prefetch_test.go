@@ -8,20 +8,20 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 )
 
 // stallAfter is a runner whose first k calls return at once and whose
 // next call takes d (or until its context ends); started is closed when
 // that slow call begins.
-func stallAfter(k int64, d time.Duration, calls *atomic.Int64, started chan struct{}) func(context.Context, sweep.Job) (sweep.Outcome, *fv2d.State, error) {
-	return func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+func stallAfter(k int64, d time.Duration, calls *atomic.Int64, started chan struct{}) func(context.Context, job.Job) (job.Outcome, *fv2d.State, error) {
+	return func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		if calls.Add(1) == k+1 {
 			close(started)
 			select {
 			case <-time.After(d):
 			case <-ctx.Done():
-				return sweep.Outcome{}, nil, ctx.Err()
+				return job.Outcome{}, nil, ctx.Err()
 			}
 		}
 		return trivial(ctx, j)

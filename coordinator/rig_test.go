@@ -14,7 +14,8 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
@@ -28,7 +29,7 @@ type rig struct {
 	nc    *nats.Conn
 	db    *store.DB
 	coord *coordinator.Coordinator
-	names sweep.Names
+	names wire.Names
 
 	stop    context.CancelFunc
 	wg      sync.WaitGroup
@@ -54,7 +55,7 @@ func newRig(t testing.TB, d coordinator.Delivery) *rig {
 // workers can be added unless r.srv is set).
 func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 	t.Helper()
-	r := &rig{t: t, dir: t.TempDir(), names: sweep.Names{}, url: url}
+	r := &rig{t: t, dir: t.TempDir(), names: wire.Names{}, url: url}
 	var err error
 	r.nc, err = coordinator.Dial(coordinator.DialOptions{URL: url, Name: "test coordinator"})
 	if err != nil {
@@ -68,8 +69,8 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 	r.stop = cancel
 	r.coord, err = coordinator.New(ctx, r.nc, r.db, coordinator.Config{
 		Names: r.names, Delivery: d, Log: testLog(t, "coordinator"),
-		ParseSpec: func(file, src string) (*sweep.Spec, error) {
-			return sweep.ParseSpec(file, []byte(src), sweep.DefaultLimits())
+		ParseSpec: func(file, src string) (*spec.Spec, error) {
+			return spec.Parse(file, []byte(src), spec.DefaultLimits())
 		},
 	})
 	if err != nil {
@@ -150,16 +151,16 @@ func (r *rig) close() {
 	}
 }
 
-func (r *rig) spec(src string) *sweep.Spec {
+func (r *rig) spec(src string) *spec.Spec {
 	r.t.Helper()
-	s, err := sweep.ParseSpec("test.toml", []byte(src), sweep.DefaultLimits())
+	s, err := spec.Parse("test.toml", []byte(src), spec.DefaultLimits())
 	if err != nil {
 		r.t.Fatal(err)
 	}
 	return s
 }
 
-func (r *rig) submit(src string) sweep.SubmitReply {
+func (r *rig) submit(src string) wire.SubmitReply {
 	r.t.Helper()
 	rep, err := r.coord.Submit(context.Background(), r.spec(src), false)
 	if err != nil {

@@ -4,11 +4,10 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"fvsweep/sweep/wire"
 	"time"
 
 	"github.com/nats-io/nats.go/jetstream"
-
-	"fvsweep/sweep"
 )
 
 // Delivery tunes the work-queue consumer that all workers share.
@@ -51,7 +50,7 @@ func (d Delivery) withDefaults() Delivery {
 // is already queued or running cannot be queued a second time (the publish
 // is refused), whatever the duplicate window. Jobs are delivered in the order
 // they were published.
-func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d Delivery) error {
+func EnsureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d Delivery) error {
 	// A cluster that has just elected its meta leader may not yet count
 	// every peer as online: placing a replicated stream then fails with "no
 	// suitable peers" for a moment. Try again for a while before giving up.
@@ -74,7 +73,7 @@ func EnsureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d
 // for placement"), which nats.go has no name for.
 const errClusterNoPeers jetstream.ErrorCode = 10005
 
-func ensureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d Delivery) error {
+func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d Delivery) error {
 	d = d.withDefaults()
 	_, err := js.CreateOrUpdateStream(ctx, jetstream.StreamConfig{
 		Name:                 n.JobStream(),
@@ -86,7 +85,7 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d
 		MaxMsgsPerSubject:    1,
 		DiscardNewPerSubject: true,
 		Duplicates:           d.DupWindow,
-		MaxMsgSize:           sweep.MaxMessage,
+		MaxMsgSize:           wire.MaxMessage,
 		Replicas:             d.Replicas,
 	})
 	if err != nil {
@@ -99,7 +98,7 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n sweep.Names, d
 		Retention:   jetstream.WorkQueuePolicy,
 		Storage:     jetstream.FileStorage,
 		Duplicates:  d.DupWindow,
-		MaxMsgSize:  sweep.MaxMessage,
+		MaxMsgSize:  wire.MaxMessage,
 		Replicas:    d.Replicas,
 	})
 	if err != nil {

@@ -11,7 +11,9 @@ import (
 	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 )
 
 // publishWindow is how many job publishes are in flight before the
@@ -31,20 +33,20 @@ const submitChunk = 4096
 // The expansion is streamed (Spec.Each): jobs are recorded (one
 // transaction per chunk of submitChunk) and queued a chunk at a time, so
 // that a large sweep is never held in memory whole.
-func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed bool) (sweep.SubmitReply, error) {
-	rep := sweep.SubmitReply{Sweep: spec.Name}
-	rec := store.SweepRecord{Name: spec.Name, SpecFile: spec.File, Spec: spec.Source}
+func (c *Coordinator) Submit(ctx context.Context, sp *spec.Spec, retryFailed bool) (wire.SubmitReply, error) {
+	rep := wire.SubmitReply{Sweep: sp.Name}
+	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source}
 	defer c.bump()
 	// Each checks the whole spec before it gives the first job, so that a
 	// bad spec changes nothing: the sweep is reopened at the first job.
 	var pub *publisher
 	start := func() error {
-		msgID, retried, err := c.reopen(ctx, spec.Name, retryFailed)
+		msgID, retried, err := c.reopen(ctx, sp.Name, retryFailed)
 		rep.Retried = retried
 		pub = c.newPublisher(ctx, msgID)
 		return err
 	}
-	chunk := make([]sweep.Job, 0, submitChunk)
+	chunk := make([]job.Job, 0, submitChunk)
 	ids := make([]string, 0, submitChunk)
 	flush := func() error {
 		if _, _, err := c.db.PutSweep(rec, chunk); err != nil {
@@ -70,7 +72,7 @@ func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed 
 		chunk = chunk[:0]
 		return nil
 	}
-	err := spec.Each(func(j sweep.Job) error {
+	err := sp.Each(func(j job.Job) error {
 		if pub == nil {
 			if err := start(); err != nil {
 				return err
@@ -97,7 +99,7 @@ func (c *Coordinator) Submit(ctx context.Context, spec *sweep.Spec, retryFailed 
 	if err != nil {
 		return rep, err
 	}
-	c.log.Info("sweep submitted", "sweep", spec.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
+	c.log.Info("sweep submitted", "sweep", sp.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
 	return rep, nil
 }
 
@@ -118,7 +120,7 @@ func (c *Coordinator) reopen(ctx context.Context, name string, retryFailed bool)
 		if err := c.db.SetCanceled(name, false); err != nil {
 			return msgID, 0, err
 		}
-		if err := c.kv.Delete(ctx, sweep.SweepToken(name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
+		if err := c.kv.Delete(ctx, wire.SweepToken(name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
 			return msgID, 0, fmt.Errorf("clearing cancel mark: %w", err)
 		}
 	}
@@ -139,7 +141,7 @@ func (c *Coordinator) deleteFailed(name string) (int, error) {
 	}
 	var failed []string
 	for id, o := range outs {
-		if o.Status == sweep.StatusFailed {
+		if o.Status == job.StatusFailed {
 			failed = append(failed, id)
 		}
 	}
@@ -167,8 +169,8 @@ func (c *Coordinator) newPublisher(ctx context.Context, msgID func(string) strin
 	return &publisher{c: c, ctx: ctx, msgID: msgID, futures: make([]jetstream.PubAckFuture, 0, publishWindow)}
 }
 
-func (p *publisher) add(j sweep.Job) error {
-	data, err := sweep.EncodeJob(j)
+func (p *publisher) add(j job.Job) error {
+	data, err := job.Encode(j)
 	if err != nil {
 		return fmt.Errorf("job %s: %w", j.ID, err)
 	}
@@ -213,28 +215,28 @@ func alreadyQueued(err error) bool {
 // Cancel marks the sweep canceled in the store and in the cancel bucket
 // (workers stop its running jobs and drop its deliveries) and purges its
 // queued jobs. Dropped counts the jobs left without an outcome.
-func (c *Coordinator) Cancel(ctx context.Context, name string) (sweep.CancelReply, error) {
+func (c *Coordinator) Cancel(ctx context.Context, name string) (wire.CancelReply, error) {
 	if _, err := c.db.Sweep(name); err != nil {
-		return sweep.CancelReply{}, err
+		return wire.CancelReply{}, err
 	}
 	if err := c.db.SetCanceled(name, true); err != nil {
-		return sweep.CancelReply{}, err
+		return wire.CancelReply{}, err
 	}
 	if err := c.markCanceled(ctx, name); err != nil {
-		return sweep.CancelReply{}, err
+		return wire.CancelReply{}, err
 	}
 	t, err := c.db.Count(name)
 	if err != nil {
-		return sweep.CancelReply{}, err
+		return wire.CancelReply{}, err
 	}
 	c.bump()
 	c.log.Info("sweep canceled", "sweep", name)
-	return sweep.CancelReply{Purged: uint64(t.Jobs - t.Done - t.Failed)}, nil
+	return wire.CancelReply{Purged: uint64(t.Jobs - t.Done - t.Failed)}, nil
 }
 
 // markCanceled sets the cancel mark and purges the sweep's queued jobs.
 func (c *Coordinator) markCanceled(ctx context.Context, name string) error {
-	if _, err := c.kv.PutString(ctx, sweep.SweepToken(name), name); err != nil {
+	if _, err := c.kv.PutString(ctx, wire.SweepToken(name), name); err != nil {
 		return fmt.Errorf("cancel mark for %s: %w", name, err)
 	}
 	if err := c.jobs.Purge(ctx, jetstream.WithPurgeSubject(c.cfg.Names.JobFilter(name))); err != nil {

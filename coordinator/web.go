@@ -5,7 +5,7 @@ package coordinator
 // coordinator's state and the store.
 //
 //	GET /                          the page
-//	GET /api/sweeps                sweep.StatusReply: every sweep and the live workers
+//	GET /api/sweeps                wire.StatusReply: every sweep and the live workers
 //	GET /api/sweeps/{name}/status  SweepView: one sweep and the live workers
 //	GET /api/sweeps/{name}/tables  TablesView: convergence tables and failures so far
 //	GET /api/workers               WorkersView: live workers, when each was last heard from
@@ -31,8 +31,10 @@ import (
 	"github.com/hashicorp/go-hclog"
 
 	"fvsweep/store"
-	"fvsweep/sweep"
 	"fvsweep/sweep/report"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/verify"
+	"fvsweep/sweep/wire"
 )
 
 //go:embed web
@@ -132,14 +134,14 @@ func loopbackName(host string) bool {
 // SweepView is one sweep's status with the live workers: the answer of
 // GET /api/sweeps/{name}/status and what 'status SWEEP --json' prints.
 type SweepView struct {
-	sweep.SweepStatus
-	Workers []sweep.WorkerReport `json:"workers"`
+	wire.SweepStatus
+	Workers []wire.WorkerReport `json:"workers"`
 }
 
 // WorkerView is a live worker's last report and when it came, by the
 // coordinator's clock.
 type WorkerView struct {
-	sweep.WorkerReport
+	wire.WorkerReport
 	LastSeen time.Time `json:"last_seen"`
 	SeenAgoS float64   `json:"seen_ago_s"`
 }
@@ -178,11 +180,11 @@ type StudyTable struct {
 
 // GroupTable is report.Group with undefined numbers as nil.
 type GroupTable struct {
-	Label   string             `json:"label"`
-	Rows    []GridTable        `json:"rows"`
-	Order   *float64           `json:"fitted_order"`
-	OrderSE *float64           `json:"fitted_order_se"`
-	Verdict sweep.OrderVerdict `json:"verdict"`
+	Label   string              `json:"label"`
+	Rows    []GridTable         `json:"rows"`
+	Order   *float64            `json:"fitted_order"`
+	OrderSE *float64            `json:"fitted_order_se"`
+	Verdict verify.OrderVerdict `json:"verdict"`
 }
 
 // GridTable is report.GridRow with undefined numbers as nil.
@@ -330,9 +332,9 @@ func writeJSON(w http.ResponseWriter, v any, err error) {
 func (h *webHandler) sweeps(w http.ResponseWriter, r *http.Request) {
 	st, err := h.c.Status("")
 	if st == nil {
-		st = []sweep.SweepStatus{}
+		st = []wire.SweepStatus{}
 	}
-	writeJSON(w, sweep.StatusReply{Sweeps: st, Workers: h.c.Workers()}, err)
+	writeJSON(w, wire.StatusReply{Sweeps: st, Workers: h.c.Workers()}, err)
 }
 
 func (h *webHandler) sweepStatus(w http.ResponseWriter, r *http.Request) {
@@ -409,17 +411,17 @@ func (c *Coordinator) Tables(name string) (TablesView, error) {
 	if err != nil {
 		return v, err
 	}
-	var spec *sweep.Spec
+	var sp *spec.Spec
 	if rec.Spec != "" {
 		parse := c.cfg.ParseSpec
 		if parse == nil {
-			parse = func(file, src string) (*sweep.Spec, error) {
-				return sweep.ParseSpec(file, []byte(src), sweep.DefaultLimits())
+			parse = func(file, src string) (*spec.Spec, error) {
+				return spec.Parse(file, []byte(src), spec.DefaultLimits())
 			}
 		}
-		spec, _ = parse(rec.SpecFile, rec.Spec) // nil: study settings take defaults
+		sp, _ = parse(rec.SpecFile, rec.Spec) // nil: study settings take defaults
 	}
-	studies, fails, err := report.Build(spec, jobs, outs, report.Options{})
+	studies, fails, err := report.Build(sp, jobs, outs, report.Options{})
 	if err != nil {
 		return v, fmt.Errorf("tables of %s: %w", name, err)
 	}

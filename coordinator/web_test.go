@@ -19,7 +19,8 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
@@ -39,11 +40,11 @@ fixed = { t_end = 0.05, nx = 16, max_steps = 1 }
 // gated is a runner that holds every job until release is closed, then
 // solves it.
 func gated(release <-chan struct{}) worker.Runner {
-	return func(ctx context.Context, j sweep.Job) (sweep.Outcome, *fv2d.State, error) {
+	return func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
 		select {
 		case <-release:
 		case <-ctx.Done():
-			return sweep.Outcome{}, nil, ctx.Err()
+			return job.Outcome{}, nil, ctx.Err()
 		}
 		return worker.Solve(ctx, j)
 	}
@@ -107,7 +108,7 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 
 	close(release)
 	r.wait("live", 4, 20*time.Second)
-	var all sweep.StatusReply
+	var all wire.StatusReply
 	for deadline := time.Now().Add(2 * time.Second); ; time.Sleep(20 * time.Millisecond) {
 		// Counts are cached for up to 250 ms while outcomes arrive.
 		get(t, h, host, "/api/sweeps", &all)

@@ -1,11 +1,10 @@
 package coordinator
 
 import (
+	"fvsweep/sweep/wire"
 	"sort"
 	"sync"
 	"time"
-
-	"fvsweep/sweep"
 )
 
 // registry keeps the latest report of every live worker. A worker is live
@@ -16,13 +15,13 @@ type registry struct {
 }
 
 type seen struct {
-	r  sweep.WorkerReport
+	r  wire.WorkerReport
 	at time.Time
 }
 
 func newRegistry() *registry { return &registry{workers: map[string]seen{}} }
 
-func (g *registry) update(r sweep.WorkerReport, now time.Time) {
+func (g *registry) update(r wire.WorkerReport, now time.Time) {
 	g.mu.Lock()
 	defer g.mu.Unlock()
 	if r.Leaving {
@@ -33,10 +32,10 @@ func (g *registry) update(r sweep.WorkerReport, now time.Time) {
 }
 
 // live returns the live workers' reports sorted by ID, dropping the dead.
-func (g *registry) live(now time.Time) []sweep.WorkerReport {
+func (g *registry) live(now time.Time) []wire.WorkerReport {
 	g.mu.Lock()
 	defer g.mu.Unlock()
-	out := make([]sweep.WorkerReport, 0, len(g.workers))
+	out := make([]wire.WorkerReport, 0, len(g.workers))
 	for id, s := range g.workers {
 		if now.Sub(s.at) > 3*s.r.Every {
 			delete(g.workers, id)

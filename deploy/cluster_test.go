@@ -16,7 +16,8 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
@@ -184,7 +185,7 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 		}
 	}()
 
-	spec, err := sweep.ParseSpec("cluster.toml", []byte(`name = "cluster"
+	sp, err := spec.Parse("cluster.toml", []byte(`name = "cluster"
 [[study]]
 case = "burgers-sine"
 fixed = { t_end = 0.05 }
@@ -194,11 +195,11 @@ refine = { nx = [16, 32] }
 case = "burgers-sine"
 fixed = { t_end = 0.05, nx = 24 }
 snapshot = true
-`), sweep.DefaultLimits())
+`), spec.DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}
-	rep, err := coord.Submit(ctx, spec, false)
+	rep, err := coord.Submit(ctx, sp, false)
 	if err != nil || rep.Queued != rep.Jobs || rep.Jobs == 0 {
 		t.Fatalf("submit: %+v, %v", rep, err)
 	}
@@ -225,8 +226,8 @@ snapshot = true
 		t.Fatal(err)
 	}
 	defer bad.Close()
-	n := sweep.Names{}
-	for _, subj := range []string{n.JobSubject("cluster", "0123456789abcdef0123456789abcdef"), n.API(sweep.VerbSubmit), n.API(sweep.VerbCancel)} {
+	n := wire.Names{}
+	for _, subj := range []string{n.JobSubject("cluster", "0123456789abcdef0123456789abcdef"), n.API(wire.VerbSubmit), n.API(wire.VerbCancel)} {
 		bad.Publish(subj, []byte(`{}`))
 		select {
 		case err := <-violations:

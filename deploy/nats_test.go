@@ -9,7 +9,7 @@ import (
 	"github.com/nats-io/nats-server/v2/server"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
+	"fvsweep/sweep/wire"
 )
 
 // loadNode parses nats/node-i.conf with the NATS server's own reader.
@@ -83,7 +83,7 @@ func TestNodeUsersRights(t *testing.T) {
 	if co == nil || wk == nil || co.Password != "c0ffee01" || wk.Password != "deadbeef02" {
 		t.Fatalf("users %+v, want coordinator and worker with the passwords from the environment", o.Users)
 	}
-	n := sweep.Names{}
+	n := wire.Names{}
 	for _, c := range []struct {
 		who  string
 		conf *server.Permissions
@@ -99,7 +99,7 @@ func TestNodeUsersRights(t *testing.T) {
 			}
 		}
 	}
-	for _, s := range []string{n.JobFilter(""), n.API(sweep.VerbSubmit), n.API(sweep.VerbCancel)} {
+	for _, s := range []string{n.JobFilter(""), n.API(wire.VerbSubmit), n.API(wire.VerbCancel)} {
 		if !slices.Contains(wk.Permissions.Publish.Deny, s) {
 			t.Errorf("worker is not denied %s", s)
 		}

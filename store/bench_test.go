@@ -10,17 +10,16 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 )
 
 // benchJobs makes n distinct jobs of sweep name with the parameter set of an
 // Euler case (the common scheme parameters plus three of the case's own), so
 // that records have the size real ones have.
-func benchJobs(name string, n int) []sweep.Job {
+func benchJobs(name string, n int) []job.Job {
 	limiters := []string{"minmod", "vanleer", "mc", "superbee"}
 	fluxes := []string{"exact", "hll", "hllc", "rusanov", "roe"}
-	jobs := make([]sweep.Job, n)
+	jobs := make([]job.Job, n)
 	for i := range jobs {
 		n := 16 << (i % 5)
 		nx := strconv.Itoa(n)
@@ -34,7 +33,7 @@ func benchJobs(name string, n int) []sweep.Job {
 		delete(p, "nx")
 		group := testID("vortex", p)
 		p["nx"] = nx
-		jobs[i] = sweep.Job{
+		jobs[i] = job.Job{
 			ID: testID("vortex", p), Sweep: name, Study: i / 900, Case: "vortex",
 			Params: p, Refine: "nx", Group: group, Cost: float64(n) * float64(n) * float64(n),
 		}
@@ -44,18 +43,18 @@ func benchJobs(name string, n int) []sweep.Job {
 
 // benchOutcome is a done outcome of j the size of an Euler result: norms and
 // totals of four variables and two functionals.
-func benchOutcome(j sweep.Job) sweep.Outcome {
-	o := sweep.Outcome{
-		JobID: j.ID, Sweep: j.Sweep, Status: StatusDone, Worker: "node-07/12",
+func benchOutcome(j job.Job) job.Outcome {
+	o := job.Outcome{
+		JobID: j.ID, Sweep: j.Sweep, Status: job.StatusDone, Worker: "node-07/12",
 		Attempts: 1, WallS: 0.0123, Steps: 412, TFinal: 2, CellUpdatesPerS: 4.1e7,
-		Errors:      map[string]fv2d.Norms{},
-		Totals:      map[string]fv2d.Total{},
+		Errors:      map[string]job.Norms{},
+		Totals:      map[string]job.Total{},
 		Functionals: map[string]float64{"peak_p": 1.7, "impulse": 0.031},
 	}
 	for k, v := range []string{"rho", "mx", "my", "E"} {
 		e := 1e-3 / float64(k+1)
-		o.Errors[v] = fv2d.Norms{L1: e, L2: 1.3 * e, Linf: 4 * e}
-		o.Totals[v] = fv2d.Total{Initial: float64(k), Final: float64(k) + 1e-15}
+		o.Errors[v] = job.Norms{L1: e, L2: 1.3 * e, Linf: 4 * e}
+		o.Totals[v] = job.Total{Initial: float64(k), Final: float64(k) + 1e-15}
 	}
 	return o
 }
@@ -76,7 +75,7 @@ func BenchmarkPutOutcomesBatch(b *testing.B) {
 			b.Run(name, func(b *testing.B) {
 				db := openTemp(b)
 				jobs := benchJobs("bench", size*64)
-				outs := make([]sweep.Outcome, len(jobs))
+				outs := make([]job.Outcome, len(jobs))
 				for i, j := range jobs {
 					outs[i] = benchOutcome(j)
 				}

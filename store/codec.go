@@ -4,18 +4,11 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"fvsweep/sweep/job"
 	"math"
 	"slices"
 	"strconv"
 	"unicode/utf8"
-
-	"fvsweep/sweep"
-)
-
-// Outcome statuses the store accepts.
-const (
-	StatusDone   = "done"
-	StatusFailed = "failed"
 )
 
 // maxKeyLen bounds sweep names and job IDs. Job IDs are 32 hex digits; the
@@ -43,12 +36,12 @@ func checkFinite(what string, v float64) error {
 // CheckOutcome reports why o cannot be stored, or nil. PutOutcomes applies
 // the same check to every record; a caller that wants to drop bad records
 // rather than fail a whole batch checks them first.
-func CheckOutcome(o sweep.Outcome) error {
+func CheckOutcome(o job.Outcome) error {
 	if err := checkKey("job_id", o.JobID); err != nil {
 		return err
 	}
-	if o.Status != StatusDone && o.Status != StatusFailed {
-		return fmt.Errorf("job %s: status %q is neither %q nor %q", o.JobID, o.Status, StatusDone, StatusFailed)
+	if !o.Status.Valid() {
+		return fmt.Errorf("job %s: status %q is neither %q nor %q", o.JobID, o.Status, job.StatusDone, job.StatusFailed)
 	}
 	if o.Attempts < 0 || o.Steps < 0 {
 		return fmt.Errorf("job %s: negative attempts or steps", o.JobID)
@@ -94,7 +87,7 @@ func CheckOutcome(o sweep.Outcome) error {
 }
 
 // checkJob reports why j cannot be stored as a job of the sweep named name.
-func checkJob(j sweep.Job, name string) error {
+func checkJob(j job.Job, name string) error {
 	if err := checkKey("job_id", j.ID); err != nil {
 		return err
 	}
@@ -115,26 +108,26 @@ func checkJob(j sweep.Job, name string) error {
 
 // DecodeOutcome decodes a stored result record. Bytes that are not a JSON
 // object with a job_id and a known status give an error.
-func DecodeOutcome(data []byte) (sweep.Outcome, error) {
-	var o sweep.Outcome
+func DecodeOutcome(data []byte) (job.Outcome, error) {
+	var o job.Outcome
 	if err := json.Unmarshal(data, &o); err != nil {
-		return sweep.Outcome{}, fmt.Errorf("result record: %w", err)
+		return job.Outcome{}, fmt.Errorf("result record: %w", err)
 	}
 	if err := CheckOutcome(o); err != nil {
-		return sweep.Outcome{}, fmt.Errorf("result record: %w", err)
+		return job.Outcome{}, fmt.Errorf("result record: %w", err)
 	}
 	return o, nil
 }
 
 // DecodeJob decodes a stored job record. Bytes that are not a JSON object
 // with a job_id and a case give an error.
-func DecodeJob(data []byte) (sweep.Job, error) {
-	var j sweep.Job
+func DecodeJob(data []byte) (job.Job, error) {
+	var j job.Job
 	if err := json.Unmarshal(data, &j); err != nil {
-		return sweep.Job{}, fmt.Errorf("job record: %w", err)
+		return job.Job{}, fmt.Errorf("job record: %w", err)
 	}
 	if err := checkJob(j, j.Sweep); err != nil {
-		return sweep.Job{}, fmt.Errorf("job record: %w", err)
+		return job.Job{}, fmt.Errorf("job record: %w", err)
 	}
 	return j, nil
 }
@@ -167,22 +160,22 @@ var (
 // statusOf reads only the status of a stored result record: a scan for the
 // marker of the record's status field, and a full decode when the record
 // does not have the layout this package writes.
-func statusOf(data []byte) (string, error) {
+func statusOf(data []byte) (job.Status, error) {
 	if i := bytes.Index(data, markStatus); i >= 0 && len(data) > 0 && data[0] == '{' && data[len(data)-1] == '}' {
 		switch {
 		case bytes.HasPrefix(data[i:], markDone):
-			return StatusDone, nil
+			return job.StatusDone, nil
 		case bytes.HasPrefix(data[i:], markFailed):
-			return StatusFailed, nil
+			return job.StatusFailed, nil
 		}
 	}
 	var s struct {
-		Status string `json:"status"`
+		Status job.Status `json:"status"`
 	}
 	if err := json.Unmarshal(data, &s); err != nil {
 		return "", fmt.Errorf("result record: %w", err)
 	}
-	if s.Status != StatusDone && s.Status != StatusFailed {
+	if !s.Status.Valid() {
 		return "", fmt.Errorf("result record: unknown status %q", s.Status)
 	}
 	return s.Status, nil
@@ -192,7 +185,7 @@ func statusOf(data []byte) (string, error) {
 // json.Marshal(j) (TestAppendJobMatchesMarshal), without its reflection and
 // per-record allocations, which dominated a 100,000-job PutSweep. keys is
 // scratch space for sorting the parameter names; the grown one is returned.
-func appendJob(dst []byte, j *sweep.Job, keys []string) ([]byte, []string) {
+func appendJob(dst []byte, j *job.Job, keys []string) ([]byte, []string) {
 	dst = append(dst, `{"job_id":`...)
 	dst = appendString(dst, j.ID)
 	dst = append(dst, `,"sweep":`...)
@@ -321,9 +314,9 @@ func (a *arena) alloc(n int) []byte {
 // taking its strings from in, and reports false for anything else (escapes
 // included), which the caller then hands to DecodeJob. FuzzDecodeRecords
 // holds that whatever it accepts, DecodeJob decodes to the same job.
-func decodeJobFast(data []byte, in interner) (sweep.Job, bool) {
+func decodeJobFast(data []byte, in interner) (job.Job, bool) {
 	p := jobParser{data: data, in: in}
-	var j sweep.Job
+	var j job.Job
 	ok := p.lit(`{"job_id":`) && p.str(&j.ID) &&
 		p.lit(`,"sweep":`) && p.str(&j.Sweep) &&
 		p.lit(`,"study":`) && p.int(&j.Study) &&

@@ -3,6 +3,7 @@ package store
 import (
 	"bufio"
 	"fmt"
+	"fvsweep/sweep/job"
 	"math/rand/v2"
 	"os"
 	"os/exec"
@@ -12,8 +13,6 @@ import (
 	"time"
 
 	bolt "go.etcd.io/bbolt"
-
-	"fvsweep/sweep"
 )
 
 // crashEnv names the database the child process of TestKillWhileWriting
@@ -24,11 +23,11 @@ const crashBatch = 100
 
 // crashJobs is batch k of the child's writes: crashBatch jobs of sweep
 // "crash" with IDs numbered from k*crashBatch.
-func crashJobs(k int) []sweep.Job {
-	jobs := make([]sweep.Job, crashBatch)
+func crashJobs(k int) []job.Job {
+	jobs := make([]job.Job, crashBatch)
 	for i := range jobs {
 		n := k*crashBatch + i
-		jobs[i] = sweep.Job{
+		jobs[i] = job.Job{
 			ID: fmt.Sprintf("%032x", n), Sweep: "crash", Case: "vortex",
 			Params: map[string]string{"nx": strconv.Itoa(16 << (n % 4)), "limiter": "minmod"},
 			Cost:   float64(n % 97),
@@ -63,9 +62,9 @@ func TestCrashChild(t *testing.T) {
 		if _, _, err := db.PutSweep(SweepRecord{Name: "crash", Spec: fmt.Sprint("batch ", k)}, jobs); err != nil {
 			t.Fatal(err)
 		}
-		outs := make([]sweep.Outcome, len(jobs))
+		outs := make([]job.Outcome, len(jobs))
 		for i, j := range jobs {
-			outs[i] = testOutcome(j, StatusDone)
+			outs[i] = testOutcome(j, job.StatusDone)
 		}
 		if _, err := db.PutOutcomes(outs); err != nil {
 			t.Fatal(err)

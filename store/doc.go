@@ -7,11 +7,11 @@
 //
 //	meta                 "schema_version" -> decimal ASCII, "1"
 //	sweeps               sweep name -> JSON SweepRecord
-//	jobs/<sweep name>    job ID -> JSON sweep.Job (one nested bucket per sweep)
-//	results              job ID -> JSON sweep.Outcome
-//	staging/<sweep name> job ID -> JSON sweep.Job, only during a large PutSweep
+//	jobs/<sweep name>    job ID -> JSON job.Job (one nested bucket per sweep)
+//	results              job ID -> JSON job.Outcome
+//	staging/<sweep name> job ID -> JSON job.Job, only during a large PutSweep
 //
-// Job IDs are sweep.JobID values (32 hex digits). Results are keyed by job ID
+// Job IDs are job.NewID values (32 hex digits). Results are keyed by job ID
 // alone, so a job that belongs to two sweeps has one result.
 //
 // # Records
@@ -21,9 +21,9 @@
 //
 //   - SweepRecord: name, spec_file, spec (the spec text as last submitted),
 //     created, updated (RFC 3339 times, UTC), canceled, jobs (count).
-//   - sweep.Job: job_id, sweep, study, case, params (object of canonical
+//   - job.Job: job_id, sweep, study, case, params (object of canonical
 //     string values), refine, group, cost, snapshot.
-//   - sweep.Outcome: job_id, sweep, status ("done" or "failed"), worker,
+//   - job.Outcome: job_id, sweep, status ("done" or "failed"), worker,
 //     attempts, wall_s, steps, t_final, cell_updates_per_s, and when present
 //     errors (variable -> {l1, l2, linf}), functionals (name -> number),
 //     totals (variable -> {initial, final}), error (failure reason), snapshot

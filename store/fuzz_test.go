@@ -3,6 +3,7 @@ package store
 import (
 	"bytes"
 	"encoding/json"
+	"fvsweep/sweep/job"
 	"reflect"
 	"testing"
 )
@@ -15,7 +16,7 @@ import (
 func FuzzDecodeRecords(f *testing.F) {
 	j := testJob("fz", 32, "minmod")
 	for _, v := range []any{
-		j, testOutcome(j, StatusDone), testOutcome(j, StatusFailed),
+		j, testOutcome(j, job.StatusDone), testOutcome(j, job.StatusFailed),
 		SweepRecord{Name: "fz", Spec: "name = \"fz\"\n", Jobs: 3},
 	} {
 		data, err := json.Marshal(v)

@@ -5,10 +5,9 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"fvsweep/sweep/job"
 
 	bolt "go.etcd.io/bbolt"
-
-	"fvsweep/sweep"
 )
 
 // PutOutcomes writes a batch of outcomes in one transaction (one commit, one
@@ -23,7 +22,7 @@ import (
 // It returns how many records changed. A record that fails CheckOutcome makes
 // the whole batch fail with an error naming its index and job; nothing of the
 // batch is written.
-func (db *DB) PutOutcomes(outs []sweep.Outcome) (written int, err error) {
+func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 	if len(outs) == 0 {
 		return 0, nil
 	}
@@ -41,10 +40,10 @@ func (db *DB) PutOutcomes(outs []sweep.Outcome) (written int, err error) {
 				if err != nil {
 					return fmt.Errorf("outcome %d: stored job %s: %w", i, o.JobID, err)
 				}
-				if st == StatusDone {
+				if st == job.StatusDone {
 					continue
 				}
-				if o.Status == StatusFailed {
+				if o.Status == job.StatusFailed {
 					if data, err = json.Marshal(o); err != nil {
 						return fmt.Errorf("outcome %d: job %s: %w", i, o.JobID, err)
 					}
@@ -81,9 +80,9 @@ func (db *DB) PutOutcomes(outs []sweep.Outcome) (written int, err error) {
 var errUnchanged = errors.New("unchanged")
 
 // Outcome returns the stored outcome of a job and whether there is one.
-func (db *DB) Outcome(jobID string) (sweep.Outcome, bool, error) {
+func (db *DB) Outcome(jobID string) (job.Outcome, bool, error) {
 	var (
-		o     sweep.Outcome
+		o     job.Outcome
 		found bool
 	)
 	err := db.bolt.View(func(tx *bolt.Tx) error {
@@ -104,8 +103,8 @@ func (db *DB) Outcome(jobID string) (sweep.Outcome, bool, error) {
 // Outcomes returns the stored outcomes of the sweep's jobs, keyed by job ID;
 // jobs without an outcome have no entry. The error wraps ErrNotFound for an
 // unknown sweep.
-func (db *DB) Outcomes(sweepName string) (map[string]sweep.Outcome, error) {
-	out := make(map[string]sweep.Outcome)
+func (db *DB) Outcomes(sweepName string) (map[string]job.Outcome, error) {
+	out := make(map[string]job.Outcome)
 	err := db.bolt.View(func(tx *bolt.Tx) error {
 		return eachResult(tx, sweepName, func(k, v []byte) error {
 			if v == nil {
@@ -174,7 +173,7 @@ func (db *DB) Count(sweepName string) (Tally, error) {
 			if err != nil {
 				return fmt.Errorf("store: job %q: %w", k, err)
 			}
-			if st == StatusDone {
+			if st == job.StatusDone {
 				t.Done++
 			} else {
 				t.Failed++
@@ -205,8 +204,8 @@ func (db *DB) DeleteOutcomes(jobIDs []string) error {
 
 // Row is a job with its stored outcome, nil when there is none.
 type Row struct {
-	Job     sweep.Job
-	Outcome *sweep.Outcome
+	Job     job.Job
+	Outcome *job.Outcome
 }
 
 // Query returns the sweep's jobs, in dispatch order, whose parameters match
@@ -217,7 +216,7 @@ type Row struct {
 func (db *DB) Query(sweepName string, filter map[string]string) ([]Row, error) {
 	var rows []Row
 	err := db.bolt.View(func(tx *bolt.Tx) error {
-		jobs, err := readJobs(tx, sweepName, func(j *sweep.Job) bool { return matches(j, filter) })
+		jobs, err := readJobs(tx, sweepName, func(j *job.Job) bool { return matches(j, filter) })
 		if err != nil {
 			return err
 		}
@@ -241,7 +240,7 @@ func (db *DB) Query(sweepName string, filter map[string]string) ([]Row, error) {
 }
 
 // matches reports whether the job has every key=value of filter.
-func matches(j *sweep.Job, filter map[string]string) bool {
+func matches(j *job.Job, filter map[string]string) bool {
 	for k, want := range filter {
 		got, ok := j.Params[k]
 		if !ok {

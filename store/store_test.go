@@ -19,15 +19,14 @@ import (
 
 	bolt "go.etcd.io/bbolt"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 )
 
 // testJob is a job of sweep name with the given parameters; its ID is the
-// hash of their canonical string, like sweep.JobID.
-func testJob(name string, nx int, limiter string) sweep.Job {
+// hash of their canonical string, like job.NewID.
+func testJob(name string, nx int, limiter string) job.Job {
 	params := map[string]string{"nx": fmt.Sprint(nx), "ny": fmt.Sprint(nx), "limiter": limiter, "cfl": "0.8"}
-	return sweep.Job{
+	return job.Job{
 		ID:     testID("vortex", params),
 		Sweep:  name,
 		Case:   "vortex",
@@ -48,8 +47,8 @@ func testID(kase string, params map[string]string) string {
 	return hex.EncodeToString(sum[:16])
 }
 
-func testJobs(name string) []sweep.Job {
-	var jobs []sweep.Job
+func testJobs(name string) []job.Job {
+	var jobs []job.Job
 	for _, lim := range []string{"minmod", "vanleer", "mc"} {
 		for _, nx := range []int{16, 32, 64} {
 			jobs = append(jobs, testJob(name, nx, lim))
@@ -58,15 +57,15 @@ func testJobs(name string) []sweep.Job {
 	return jobs
 }
 
-func testOutcome(j sweep.Job, status string) sweep.Outcome {
-	o := sweep.Outcome{
+func testOutcome(j job.Job, status job.Status) job.Outcome {
+	o := job.Outcome{
 		JobID: j.ID, Sweep: j.Sweep, Status: status, Worker: "host-1/3",
 		Attempts: 1, WallS: 0.25, Steps: 120, TFinal: 2,
 		CellUpdatesPerS: 3.5e7,
 	}
-	if status == StatusDone {
-		o.Errors = map[string]fv2d.Norms{"rho": {L1: 1e-3, L2: 2e-3, Linf: 5e-3}}
-		o.Totals = map[string]fv2d.Total{"rho": {Initial: 4, Final: 4}}
+	if status == job.StatusDone {
+		o.Errors = map[string]job.Norms{"rho": {L1: 1e-3, L2: 2e-3, Linf: 5e-3}}
+		o.Totals = map[string]job.Total{"rho": {Initial: 4, Final: 4}}
 		o.Functionals = map[string]float64{"peak_p": 1.5}
 	} else {
 		o.Error = "diverged at t=0.1 (step 3): negative pressure"
@@ -142,10 +141,10 @@ func TestSweepRoundTrip(t *testing.T) {
 	}
 
 	// Two jobs done, one failed; one more job added.
-	if _, err := db.PutOutcomes([]sweep.Outcome{testOutcome(jobs[0], StatusDone), testOutcome(jobs[1], StatusDone), testOutcome(jobs[2], StatusFailed)}); err != nil {
+	if _, err := db.PutOutcomes([]job.Outcome{testOutcome(jobs[0], job.StatusDone), testOutcome(jobs[1], job.StatusDone), testOutcome(jobs[2], job.StatusFailed)}); err != nil {
 		t.Fatal(err)
 	}
-	more := append(append([]sweep.Job(nil), jobs...), testJob("lim", 128, "mc"), jobs[0])
+	more := append(append([]job.Job(nil), jobs...), testJob("lim", 128, "mc"), jobs[0])
 	added, stored, err = db.PutSweep(rec, more)
 	if err != nil {
 		t.Fatal(err)
@@ -224,7 +223,7 @@ func TestHasJobs(t *testing.T) {
 	if _, _, err := db.PutSweep(SweepRecord{Name: "lim"}, jobs); err != nil {
 		t.Fatal(err)
 	}
-	outs := []sweep.Outcome{
+	outs := []job.Outcome{
 		{Sweep: "lim", JobID: jobs[0].ID},
 		{Sweep: "lim", JobID: "0123"},       // unknown job
 		{Sweep: "other", JobID: jobs[1].ID}, // unknown sweep
@@ -239,7 +238,7 @@ func TestHasJobs(t *testing.T) {
 func TestOutcomePrecedence(t *testing.T) {
 	db := openTemp(t)
 	j := testJobs("p")[0]
-	done, failed := testOutcome(j, StatusDone), testOutcome(j, StatusFailed)
+	done, failed := testOutcome(j, job.StatusDone), testOutcome(j, job.StatusFailed)
 	done2 := done
 	done2.Worker = "other"
 	failed2 := failed
@@ -247,9 +246,9 @@ func TestOutcomePrecedence(t *testing.T) {
 
 	steps := []struct {
 		name    string
-		put     sweep.Outcome
+		put     job.Outcome
 		written int
-		want    sweep.Outcome
+		want    job.Outcome
 	}{
 		{"first failed", failed, 1, failed},
 		{"same failed again", failed, 0, failed},
@@ -259,7 +258,7 @@ func TestOutcomePrecedence(t *testing.T) {
 		{"failed never replaces done", failed, 0, done},
 	}
 	for _, s := range steps {
-		n, err := db.PutOutcomes([]sweep.Outcome{s.put})
+		n, err := db.PutOutcomes([]job.Outcome{s.put})
 		if err != nil {
 			t.Fatalf("%s: %v", s.name, err)
 		}
@@ -273,7 +272,7 @@ func TestOutcomePrecedence(t *testing.T) {
 	}
 	// A batch that changes nothing commits nothing.
 	before := txID(t, db)
-	if n, err := db.PutOutcomes([]sweep.Outcome{done, done2, failed}); n != 0 || err != nil {
+	if n, err := db.PutOutcomes([]job.Outcome{done, done2, failed}); n != 0 || err != nil {
 		t.Fatalf("all-duplicate batch: %d %v", n, err)
 	}
 	if after := txID(t, db); after != before {
@@ -281,11 +280,11 @@ func TestOutcomePrecedence(t *testing.T) {
 	}
 	// Within one batch the later record sees the earlier one.
 	k := testJobs("p")[1]
-	n, err := db.PutOutcomes([]sweep.Outcome{testOutcome(k, StatusFailed), testOutcome(k, StatusDone), testOutcome(k, StatusDone)})
+	n, err := db.PutOutcomes([]job.Outcome{testOutcome(k, job.StatusFailed), testOutcome(k, job.StatusDone), testOutcome(k, job.StatusDone)})
 	if err != nil || n != 2 {
 		t.Fatalf("in-batch precedence: written %d, %v; want 2", n, err)
 	}
-	if got, _, _ := db.Outcome(k.ID); got.Status != StatusDone {
+	if got, _, _ := db.Outcome(k.ID); got.Status != job.StatusDone {
 		t.Fatalf("in-batch: status %q", got.Status)
 	}
 }
@@ -297,12 +296,12 @@ func TestOutcomesOfSweepAndSharedResults(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Sweep b shares jobs[0..2] with a (same IDs), plus one of its own.
-	shared := append([]sweep.Job(nil), b[:3]...)
+	shared := append([]job.Job(nil), b[:3]...)
 	own := testJob("b", 256, "minmod")
 	if _, _, err := db.PutSweep(SweepRecord{Name: "b"}, append(shared, own)); err != nil {
 		t.Fatal(err)
 	}
-	outs := []sweep.Outcome{testOutcome(a[0], StatusDone), testOutcome(a[5], StatusFailed), testOutcome(own, StatusDone)}
+	outs := []job.Outcome{testOutcome(a[0], job.StatusDone), testOutcome(a[5], job.StatusFailed), testOutcome(own, job.StatusDone)}
 	if n, err := db.PutOutcomes(outs); err != nil || n != 3 {
 		t.Fatalf("PutOutcomes: %d %v", n, err)
 	}
@@ -310,14 +309,14 @@ func TestOutcomesOfSweepAndSharedResults(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(oa) != 2 || oa[a[0].ID].Status != StatusDone || oa[a[5].ID].Status != StatusFailed {
+	if len(oa) != 2 || oa[a[0].ID].Status != job.StatusDone || oa[a[5].ID].Status != job.StatusFailed {
 		t.Fatalf("Outcomes(a) = %v", oa)
 	}
 	ob, err := db.Outcomes("b")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(ob) != 2 || ob[a[0].ID].Status != StatusDone || ob[own.ID].Status != StatusDone {
+	if len(ob) != 2 || ob[a[0].ID].Status != job.StatusDone || ob[own.ID].Status != job.StatusDone {
 		t.Fatalf("Outcomes(b) = %v", ob)
 	}
 	st, err := db.Stored([]string{a[0].ID, a[1].ID, a[5].ID, "missing"})
@@ -349,13 +348,13 @@ func TestQuery(t *testing.T) {
 	if _, _, err := db.PutSweep(SweepRecord{Name: "q"}, jobs); err != nil {
 		t.Fatal(err)
 	}
-	var mc64 sweep.Job
+	var mc64 job.Job
 	for _, j := range jobs {
 		if j.Params["limiter"] == "mc" && j.Params["nx"] == "64" {
 			mc64 = j
 		}
 	}
-	if _, err := db.PutOutcomes([]sweep.Outcome{testOutcome(mc64, StatusDone)}); err != nil {
+	if _, err := db.PutOutcomes([]job.Outcome{testOutcome(mc64, job.StatusDone)}); err != nil {
 		t.Fatal(err)
 	}
 	cases := []struct {
@@ -402,28 +401,28 @@ func TestInvalidBatchWritesNothing(t *testing.T) {
 	if _, _, err := db.PutSweep(SweepRecord{Name: "bad"}, jobs[:3]); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := db.PutOutcomes([]sweep.Outcome{testOutcome(jobs[0], StatusFailed)}); err != nil {
+	if _, err := db.PutOutcomes([]job.Outcome{testOutcome(jobs[0], job.StatusFailed)}); err != nil {
 		t.Fatal(err)
 	}
-	nan := testOutcome(jobs[3], StatusDone)
-	nan.Errors["rho"] = fv2d.Norms{L1: math.NaN()}
+	nan := testOutcome(jobs[3], job.StatusDone)
+	nan.Errors["rho"] = job.Norms{L1: math.NaN()}
 	badOutcomes := []struct {
 		name string
-		o    sweep.Outcome
+		o    job.Outcome
 		msg  string
 	}{
-		{"empty job id", sweep.Outcome{Status: StatusDone}, "empty job_id"},
-		{"unknown status", sweep.Outcome{JobID: jobs[3].ID, Status: "running"}, `status "running"`},
+		{"empty job id", job.Outcome{Status: job.StatusDone}, "empty job_id"},
+		{"unknown status", job.Outcome{JobID: jobs[3].ID, Status: "running"}, `status "running"`},
 		{"NaN norm", nan, "errors.rho.l1"},
 	}
 	for _, c := range badOutcomes {
 		// Valid records first, so the failure happens mid-transaction.
-		batch := []sweep.Outcome{testOutcome(jobs[0], StatusDone), testOutcome(jobs[1], StatusDone), c.o, testOutcome(jobs[2], StatusDone)}
+		batch := []job.Outcome{testOutcome(jobs[0], job.StatusDone), testOutcome(jobs[1], job.StatusDone), c.o, testOutcome(jobs[2], job.StatusDone)}
 		n, err := db.PutOutcomes(batch)
 		if err == nil || n != 0 || !strings.Contains(err.Error(), c.msg) || !strings.Contains(err.Error(), "outcome 2") {
 			t.Fatalf("%s: PutOutcomes = %d, %v; want an error naming outcome 2 and %q", c.name, n, err, c.msg)
 		}
-		if o, _, _ := db.Outcome(jobs[0].ID); o.Status != StatusFailed {
+		if o, _, _ := db.Outcome(jobs[0].ID); o.Status != job.StatusFailed {
 			t.Fatalf("%s: stored failed outcome changed to %q", c.name, o.Status)
 		}
 		if st, _ := db.Stored([]string{jobs[1].ID, jobs[2].ID}); len(st) != 0 {
@@ -434,17 +433,17 @@ func TestInvalidBatchWritesNothing(t *testing.T) {
 	before, _ := db.Sweep("bad")
 	badJobs := []struct {
 		name string
-		j    sweep.Job
+		j    job.Job
 		msg  string
 	}{
-		{"empty id", sweep.Job{Case: "vortex"}, "empty job_id"},
+		{"empty id", job.Job{Case: "vortex"}, "empty job_id"},
 		{"other sweep", testJob("other", 8, "mc"), `belongs to sweep "other"`},
-		{"no case", sweep.Job{ID: "ab", Sweep: "bad"}, "empty case"},
-		{"negative cost", sweep.Job{ID: "ab", Sweep: "bad", Case: "vortex", Cost: -1}, "negative cost"},
+		{"no case", job.Job{ID: "ab", Sweep: "bad"}, "empty case"},
+		{"negative cost", job.Job{ID: "ab", Sweep: "bad", Case: "vortex", Cost: -1}, "negative cost"},
 	}
 	for _, c := range badJobs {
 		rec := SweepRecord{Name: "bad", Spec: "changed"}
-		_, _, err := db.PutSweep(rec, append(append([]sweep.Job(nil), jobs[3:]...), c.j))
+		_, _, err := db.PutSweep(rec, append(append([]job.Job(nil), jobs[3:]...), c.j))
 		if err == nil || !strings.Contains(err.Error(), c.msg) {
 			t.Fatalf("%s: PutSweep error %v, want %q", c.name, err, c.msg)
 		}
@@ -454,7 +453,7 @@ func TestInvalidBatchWritesNothing(t *testing.T) {
 			t.Fatalf("%s: failed PutSweep changed the store: %+v, %d jobs", c.name, after, len(list))
 		}
 	}
-	if _, _, err := db.PutSweep(SweepRecord{Name: "new"}, []sweep.Job{{Case: "vortex"}}); err == nil {
+	if _, _, err := db.PutSweep(SweepRecord{Name: "new"}, []job.Job{{Case: "vortex"}}); err == nil {
 		t.Fatal("PutSweep of a new sweep with a bad job succeeded")
 	}
 	if _, err := db.Sweep("new"); !errors.Is(err, ErrNotFound) {
@@ -504,7 +503,7 @@ func TestInUse(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer r2.Close()
-	if _, err := r2.PutOutcomes([]sweep.Outcome{{JobID: "x", Status: StatusDone}}); err == nil {
+	if _, err := r2.PutOutcomes([]job.Outcome{{JobID: "x", Status: job.StatusDone}}); err == nil {
 		t.Fatal("write through a read-only store succeeded")
 	}
 }
@@ -631,12 +630,13 @@ func TestVerifyFindsBadRecords(t *testing.T) {
 
 func TestStatusOf(t *testing.T) {
 	cases := []struct {
-		data, want string
-		ok         bool
+		data string
+		want job.Status
+		ok   bool
 	}{
-		{`{"job_id":"a","sweep":"s","status":"done","worker":"w"}`, StatusDone, true},
-		{`{"job_id":"a","sweep":"s","status":"failed","error":"\"status\":\"done\""}`, StatusFailed, true},
-		{`{"status": "failed"}`, StatusFailed, true}, // not this package's layout: full decode
+		{`{"job_id":"a","sweep":"s","status":"done","worker":"w"}`, job.StatusDone, true},
+		{`{"job_id":"a","sweep":"s","status":"failed","error":"\"status\":\"done\""}`, job.StatusFailed, true},
+		{`{"status": "failed"}`, job.StatusFailed, true}, // not this package's layout: full decode
 		{`{"job_id":"a","status":"queued"}`, "", false},
 		{`{"job_id":"a","status":"do`, "", false},
 		{`{}`, "", false},
@@ -675,14 +675,14 @@ func TestPutSweepStaged(t *testing.T) {
 	if err != nil || added != 50 || stored != 0 {
 		t.Fatalf("new sweep: added %d stored %d %v", added, stored, err)
 	}
-	if _, err := db.PutOutcomes([]sweep.Outcome{testOutcome(first[3], StatusDone)}); err != nil {
+	if _, err := db.PutOutcomes([]job.Outcome{testOutcome(first[3], job.StatusDone)}); err != nil {
 		t.Fatal(err)
 	}
 	// Grow it: 40 new jobs among 20 old ones (one with an edited cost, which
 	// must not replace the stored job), given in reverse order with repeats.
 	edited := first[10]
 	edited.Cost = 1
-	var more []sweep.Job
+	var more []job.Job
 	more = append(more, all[50:]...)
 	more = append(more, first[:20]...)
 	more = append(more, edited, all[60], first[3])
@@ -708,7 +708,7 @@ func TestPutSweepStaged(t *testing.T) {
 		}
 	}
 	// An invalid job anywhere: nothing changes.
-	bad := append(slices.Clone(benchJobs("big", 120)), sweep.Job{ID: "x"})
+	bad := append(slices.Clone(benchJobs("big", 120)), job.Job{ID: "x"})
 	if _, _, err := db.PutSweep(SweepRecord{Name: "big", Spec: "v3"}, bad); err == nil || !strings.Contains(err.Error(), "job 120") {
 		t.Fatalf("bad large PutSweep: %v", err)
 	}
@@ -780,7 +780,7 @@ func TestAppendJobMatchesMarshal(t *testing.T) {
 func TestDecodeJobFast(t *testing.T) {
 	in := newInterner()
 	var keys []string
-	jobs := append(benchJobs("sw", 20), sweep.Job{ID: "a", Case: "c", Params: nil, Cost: 1e-9}, sweep.Job{ID: "b", Case: "c", Params: map[string]string{}})
+	jobs := append(benchJobs("sw", 20), job.Job{ID: "a", Case: "c", Params: nil, Cost: 1e-9}, job.Job{ID: "b", Case: "c", Params: map[string]string{}})
 	for _, j := range jobs {
 		var data []byte
 		data, keys = appendJob(nil, &j, keys)

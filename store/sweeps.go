@@ -4,13 +4,12 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"fvsweep/sweep/job"
 	"slices"
 	"strings"
 	"time"
 
 	bolt "go.etcd.io/bbolt"
-
-	"fvsweep/sweep"
 )
 
 // SweepRecord is what the store keeps about a sweep besides its jobs.
@@ -44,7 +43,7 @@ var putChunk = 10_000
 // new jobs go in one transaction; more are first written, putChunk per
 // transaction, into a staging bucket that the last transaction moves into
 // place, so memory stays bounded for any size of sweep.
-func (db *DB) PutSweep(rec SweepRecord, jobs []sweep.Job) (added, stored int, err error) {
+func (db *DB) PutSweep(rec SweepRecord, jobs []job.Job) (added, stored int, err error) {
 	defer func() {
 		if err != nil {
 			added, stored, err = 0, 0, fmt.Errorf("store: sweep %q: %w", rec.Name, err)
@@ -110,15 +109,15 @@ func (db *DB) PutSweep(rec SweepRecord, jobs []sweep.Job) (added, stored int, er
 
 // uniqueJobs checks every job and returns them sorted by ID without repeats,
 // each with Sweep set to name: the order in which bbolt fills pages best.
-func uniqueJobs(name string, jobs []sweep.Job) ([]sweep.Job, error) {
+func uniqueJobs(name string, jobs []job.Job) ([]job.Job, error) {
 	for i, j := range jobs {
 		if err := checkJob(j, name); err != nil {
 			return nil, fmt.Errorf("job %d: %w", i, err)
 		}
 	}
 	uniq := slices.Clone(jobs)
-	slices.SortStableFunc(uniq, func(a, b sweep.Job) int { return strings.Compare(a.ID, b.ID) })
-	uniq = slices.CompactFunc(uniq, func(a, b sweep.Job) bool { return a.ID == b.ID })
+	slices.SortStableFunc(uniq, func(a, b job.Job) int { return strings.Compare(a.ID, b.ID) })
+	uniq = slices.CompactFunc(uniq, func(a, b job.Job) bool { return a.ID == b.ID })
 	for i := range uniq {
 		uniq[i].Sweep = name
 	}
@@ -177,7 +176,7 @@ type jobWriter struct {
 	keys []string
 }
 
-func (w *jobWriter) put(b *bolt.Bucket, j *sweep.Job) error {
+func (w *jobWriter) put(b *bolt.Bucket, j *job.Job) error {
 	w.buf, w.keys = appendJob(w.buf[:0], j, w.keys)
 	return w.putRaw(b, j.ID, w.buf)
 }
@@ -200,7 +199,7 @@ func (w *jobWriter) putRaw(b *bolt.Bucket, key string, value []byte) error {
 // transaction replaces jobs/<name> with the staged bucket and writes the
 // record. A crash before that leaves only the staging bucket, which the next
 // read-write Open deletes.
-func (db *DB) putStaged(rec SweepRecord, uniq []sweep.Job) (added int, err error) {
+func (db *DB) putStaged(rec SweepRecord, uniq []job.Job) (added int, err error) {
 	name := []byte(rec.Name)
 	err = db.bolt.Update(func(tx *bolt.Tx) error {
 		st := tx.Bucket(bucketStaging)
@@ -355,8 +354,8 @@ func sweepJobs(tx *bolt.Tx, name string) (*bolt.Bucket, error) {
 
 // Jobs returns the jobs of a sweep, largest cost first, ties by ID: the order
 // in which they are dispatched.
-func (db *DB) Jobs(sweepName string) ([]sweep.Job, error) {
-	var out []sweep.Job
+func (db *DB) Jobs(sweepName string) ([]job.Job, error) {
+	var out []job.Job
 	err := db.bolt.View(func(tx *bolt.Tx) error {
 		var err error
 		out, err = readJobs(tx, sweepName, nil)
@@ -368,13 +367,13 @@ func (db *DB) Jobs(sweepName string) ([]sweep.Job, error) {
 // readJobs decodes the jobs of a sweep that keep says to keep (all when keep
 // is nil), in dispatch order. Equal parameter strings are shared between jobs
 // so that a 100,000-job sweep costs little memory once read.
-func readJobs(tx *bolt.Tx, name string, keep func(*sweep.Job) bool) ([]sweep.Job, error) {
+func readJobs(tx *bolt.Tx, name string, keep func(*job.Job) bool) ([]job.Job, error) {
 	b, err := sweepJobs(tx, name)
 	if err != nil {
 		return nil, err
 	}
 	in := newInterner()
-	var out []sweep.Job
+	var out []job.Job
 	err = b.ForEach(func(k, v []byte) error {
 		j, ok := decodeJobFast(v, in)
 		if !ok {
@@ -382,7 +381,7 @@ func readJobs(tx *bolt.Tx, name string, keep func(*sweep.Job) bool) ([]sweep.Job
 			if j, err = DecodeJob(v); err != nil {
 				return fmt.Errorf("store: sweep %q: job %q: %w", name, k, err)
 			}
-			in.job(&j)
+			in.jb(&j)
 		}
 		if keep != nil && !keep(&j) {
 			return nil
@@ -398,7 +397,7 @@ func readJobs(tx *bolt.Tx, name string, keep func(*sweep.Job) bool) ([]sweep.Job
 }
 
 // dispatchOrder sorts jobs by cost, largest first, then by ID.
-func dispatchOrder(a, b sweep.Job) int {
+func dispatchOrder(a, b job.Job) int {
 	switch {
 	case a.Cost > b.Cost:
 		return -1
@@ -410,8 +409,8 @@ func dispatchOrder(a, b sweep.Job) int {
 
 // Job returns one job of a sweep; the error wraps ErrNotFound when the sweep
 // or the job is not stored.
-func (db *DB) Job(sweepName, jobID string) (sweep.Job, error) {
-	var j sweep.Job
+func (db *DB) Job(sweepName, jobID string) (job.Job, error) {
+	var j job.Job
 	err := db.bolt.View(func(tx *bolt.Tx) error {
 		b, err := sweepJobs(tx, sweepName)
 		if err != nil {
@@ -432,7 +431,7 @@ func (db *DB) Job(sweepName, jobID string) (sweep.Job, error) {
 
 // HasJobs reports, for each outcome, whether the store holds its job in its
 // sweep: one read transaction for the batch, no job decoded.
-func (db *DB) HasJobs(outs []sweep.Outcome) ([]bool, error) {
+func (db *DB) HasJobs(outs []job.Outcome) ([]bool, error) {
 	known := make([]bool, len(outs))
 	err := db.bolt.View(func(tx *bolt.Tx) error {
 		jobs := tx.Bucket(bucketJobs)
@@ -469,7 +468,7 @@ func (in interner) bytes(b []byte) string {
 	return s
 }
 
-func (in interner) job(j *sweep.Job) {
+func (in interner) jb(j *job.Job) {
 	j.Sweep = in.str(j.Sweep)
 	j.Case = in.str(j.Case)
 	j.Refine = in.str(j.Refine)

@@ -6,35 +6,36 @@ import (
 	"fmt"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
 )
 
 // Solve is the default Runner: it resolves the job's parameters, checks
 // that they give the job's ID, and runs the case with fv2d. A run that
 // breaks down (*fv2d.Failure) is a failed outcome with the failure as its
 // reason; parameters the case refuses are a Permanent error.
-func Solve(ctx context.Context, job sweep.Job) (sweep.Outcome, *fv2d.State, error) {
-	v, err := fv2d.Resolve(job.Case, job.Params)
+func Solve(ctx context.Context, jb job.Job) (job.Outcome, *fv2d.State, error) {
+	v, err := fv2d.Resolve(jb.Case, jb.Params)
 	if err != nil {
-		return sweep.Outcome{}, nil, Permanent(err)
+		return job.Outcome{}, nil, Permanent(err)
 	}
-	if id := sweep.JobID(v); id != job.ID {
-		return sweep.Outcome{}, nil, Permanent(fmt.Errorf("job %s: its parameters give ID %s", job.ID, id))
+	if id := job.NewID(v.String()); id != jb.ID {
+		return job.Outcome{}, nil, Permanent(fmt.Errorf("job %s: its parameters give ID %s", jb.ID, id))
 	}
 	res, err := fv2d.Run(ctx, v)
 	var f *fv2d.Failure
 	if errors.As(err, &f) {
-		return sweep.Outcome{Status: sweep.StatusFailed, Error: f.Error(), Steps: f.Step, TFinal: f.T}, nil, nil
+		return job.Outcome{Status: job.StatusFailed, Error: f.Error(), Steps: f.Step, TFinal: f.T}, nil, nil
 	}
 	if err != nil {
 		if ctx.Err() != nil {
-			return sweep.Outcome{}, nil, err
+			return job.Outcome{}, nil, err
 		}
-		return sweep.Outcome{}, nil, Permanent(err)
+		return job.Outcome{}, nil, Permanent(err)
 	}
-	return sweep.Outcome{
-		Status: sweep.StatusDone, WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal,
-		CellUpdatesPerS: res.CellUpdatesPerS, Errors: res.Errors, Functionals: res.Functionals, Totals: res.Totals,
+	return job.Outcome{
+		Status: job.StatusDone, WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal,
+		CellUpdatesPerS: res.CellUpdatesPerS, Errors: outcomeNorms(res.Errors), Functionals: res.Functionals, Totals: outcomeTotals(res.Totals),
 	}, res.Final, nil
 }
 
@@ -58,15 +59,39 @@ func Field(s *fv2d.State) [][]float32 {
 
 // putSnapshot writes the final field of job to the field store and returns
 // the object's reference, "bucket/jobID".
-func (w *Worker) putSnapshot(ctx context.Context, job sweep.Job, s *fv2d.State) (string, error) {
-	h := sweep.FieldHeader{JobID: job.ID, Vars: s.Eq.Vars(), NX: s.NX, NY: s.NY,
+func (w *Worker) putSnapshot(ctx context.Context, jb job.Job, s *fv2d.State) (string, error) {
+	h := field.Header{JobID: jb.ID, Vars: s.Eq.Vars(), NX: s.NX, NY: s.NY,
 		X0: s.X0, Y0: s.Y0, DX: s.DX, DY: s.DY, T: s.T}
-	data, err := sweep.EncodeField(h, Field(s))
+	data, err := field.Encode(h, Field(s))
 	if err != nil {
 		return "", err
 	}
-	if _, err := w.fields.PutBytes(ctx, job.ID, data); err != nil {
-		return "", fmt.Errorf("snapshot of %s: %w", job.ID, err)
+	if _, err := w.fields.PutBytes(ctx, jb.ID, data); err != nil {
+		return "", fmt.Errorf("snapshot of %s: %w", jb.ID, err)
 	}
-	return w.cfg.Names.FieldBucket() + "/" + job.ID, nil
+	return w.cfg.Names.FieldBucket() + "/" + jb.ID, nil
+}
+
+// outcomeNorms copies a run's error norms into the outcome's type.
+func outcomeNorms(m map[string]fv2d.Norms) map[string]job.Norms {
+	if m == nil {
+		return nil
+	}
+	out := make(map[string]job.Norms, len(m))
+	for k, n := range m {
+		out[k] = job.Norms(n)
+	}
+	return out
+}
+
+// outcomeTotals copies a run's conserved totals into the outcome's type.
+func outcomeTotals(m map[string]fv2d.Total) map[string]job.Total {
+	if m == nil {
+		return nil
+	}
+	out := make(map[string]job.Total, len(m))
+	for k, t := range m {
+		out[k] = job.Total(t)
+	}
+	return out
 }

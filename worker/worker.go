@@ -20,7 +20,8 @@ import (
 	"github.com/nats-io/nuid"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 // Runner runs one job. It returns the outcome (Status done, or failed for a
@@ -29,7 +30,7 @@ import (
 // be tried again, unless it is Permanent or the delivery limit is reached;
 // then the job is recorded as failed with the error as its reason. The
 // worker fills in the outcome's JobID, Sweep, Worker and Attempts.
-type Runner func(ctx context.Context, job sweep.Job) (sweep.Outcome, *fv2d.State, error)
+type Runner func(ctx context.Context, jb job.Job) (job.Outcome, *fv2d.State, error)
 
 // Permanent marks an error that no retry can cure (parameters the case
 // refuses, a job ID that does not match its parameters).
@@ -47,7 +48,7 @@ func isPermanent(err error) bool {
 // Config configures a Worker; the zero value of each field but Run has a
 // default.
 type Config struct {
-	Names sweep.Names
+	Names wire.Names
 	// ID names the worker in reports and outcomes (default host-pid-random).
 	ID string
 	// Concurrency is the number of jobs run at once (default NumCPU).
@@ -126,14 +127,14 @@ type Worker struct {
 type pending struct {
 	msg    jetstream.Msg
 	ack    jetstream.PubAckFuture
-	job    string
-	status string
+	jb     string
+	status job.Status
 	reason string
 }
 
 // task is a job being run.
 type task struct {
-	job    sweep.Job
+	jb     job.Job
 	msg    jetstream.Msg
 	since  time.Time
 	beat   time.Time // delivery or last in-progress heartbeat
@@ -411,22 +412,22 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		m.Term()
 		return
 	}
-	job, err := sweep.DecodeJob(m.Data())
-	if err == nil && m.Subject() != w.cfg.Names.JobSubject(job.Sweep, job.ID) {
-		err = fmt.Errorf("job %s on subject %s", job.ID, m.Subject())
+	jb, err := job.Decode(m.Data())
+	if err == nil && m.Subject() != w.cfg.Names.JobSubject(jb.Sweep, jb.ID) {
+		err = fmt.Errorf("job %s on subject %s", jb.ID, m.Subject())
 	}
 	if err != nil {
 		w.log.Warn("dropping malformed job", "subject", m.Subject(), "error", err)
 		m.TermWithReason("malformed job")
 		return
 	}
-	t := w.begin(job, m, beat)
+	t := w.begin(jb, m, beat)
 	if t == nil { // sweep canceled
-		w.log.Debug("dropping job of a canceled sweep", "job", job.ID, "sweep", job.Sweep)
+		w.log.Debug("dropping job of a canceled sweep", "job", jb.ID, "sweep", jb.Sweep)
 		m.Ack()
 		return
 	}
-	out, st, err := w.safeRun(t.ctx, job)
+	out, st, err := w.safeRun(t.ctx, jb)
 	stopped := t.ctx.Err() != nil
 	w.end(t)
 	if stopped {
@@ -439,31 +440,31 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 	}
 	attempt := int(meta.NumDelivered)
 	last := w.maxDeliver > 0 && attempt >= w.maxDeliver
-	if err == nil && job.Snapshot && st != nil && out.Status == sweep.StatusDone {
-		out.Snapshot, err = w.putSnapshot(context.Background(), job, st)
+	if err == nil && jb.Snapshot && st != nil && out.Status == job.StatusDone {
+		out.Snapshot, err = w.putSnapshot(context.Background(), jb, st)
 	}
 	if err != nil {
 		if !isPermanent(err) && !last {
-			w.log.Warn("job attempt failed; it will be retried", "job", job.ID, "attempt", attempt, "error", err)
+			w.log.Warn("job attempt failed; it will be retried", "job", jb.ID, "attempt", attempt, "error", err)
 			m.NakWithDelay(w.cfg.RetryDelay)
 			return
 		}
-		out = sweep.Outcome{Status: sweep.StatusFailed, Error: err.Error()}
+		out = job.Outcome{Status: job.StatusFailed, Error: err.Error()}
 		if last && !isPermanent(err) {
 			out.Error = fmt.Sprintf("%s (after %d attempts)", err, attempt)
 		}
 	}
-	out.JobID, out.Sweep, out.Worker, out.Attempts = job.ID, job.Sweep, w.cfg.ID, attempt
-	if out.Status == sweep.StatusFailed && out.Error == "" {
+	out.JobID, out.Sweep, out.Worker, out.Attempts = jb.ID, jb.Sweep, w.cfg.ID, attempt
+	if out.Status == job.StatusFailed && out.Error == "" {
 		out.Error = "failed without a reason"
 	}
 	f, err := w.publish(out, meta.Sequence.Stream)
 	if err != nil {
-		w.log.Warn("publishing result; the job will be delivered again", "job", job.ID, "error", err)
+		w.log.Warn("publishing result; the job will be delivered again", "job", jb.ID, "error", err)
 		m.Nak()
 		return
 	}
-	w.acks <- pending{msg: m, ack: f, job: job.ID, status: out.Status, reason: out.Error}
+	w.acks <- pending{msg: m, ack: f, jb: jb.ID, status: out.Status, reason: out.Error}
 }
 
 // settle acks each job once the server has acknowledged its outcome (naks
@@ -474,17 +475,17 @@ func (w *Worker) settle() {
 		case <-p.ack.Ok():
 		case err := <-p.ack.Err():
 			if err = w.republish(p); err != nil {
-				w.log.Warn("publishing result; the job will be delivered again", "job", p.job, "error", err)
+				w.log.Warn("publishing result; the job will be delivered again", "job", p.jb, "error", err)
 				p.msg.Nak()
 				continue
 			}
 		}
 		p.msg.Ack()
-		if p.status == sweep.StatusDone {
+		if p.status == job.StatusDone {
 			w.done.Add(1)
 		} else {
 			w.failed.Add(1)
-			w.log.Info("job failed", "job", p.job, "error", p.reason)
+			w.log.Info("job failed", "job", p.jb, "error", p.reason)
 		}
 	}
 }
@@ -505,21 +506,21 @@ func (w *Worker) republish(p pending) error {
 		if err == nil {
 			return nil
 		}
-		w.log.Debug("publishing result again", "job", p.job, "try", i, "error", err)
+		w.log.Debug("publishing result again", "job", p.jb, "try", i, "error", err)
 		time.Sleep(time.Duration(i) * 200 * time.Millisecond)
 	}
 	return err
 }
 
 // safeRun calls the runner, turning a panic into an error.
-func (w *Worker) safeRun(ctx context.Context, job sweep.Job) (out sweep.Outcome, st *fv2d.State, err error) {
+func (w *Worker) safeRun(ctx context.Context, jb job.Job) (out job.Outcome, st *fv2d.State, err error) {
 	defer func() {
 		if r := recover(); r != nil {
-			w.log.Error("job panicked", "job", job.ID, "panic", r, "stack", string(debug.Stack()))
-			out, st, err = sweep.Outcome{}, nil, fmt.Errorf("worker panic: %v", r)
+			w.log.Error("job panicked", "job", jb.ID, "panic", r, "stack", string(debug.Stack()))
+			out, st, err = job.Outcome{}, nil, fmt.Errorf("worker panic: %v", r)
 		}
 	}()
-	if out, st, err = w.cfg.Run(ctx, job); err == nil && out.Status != sweep.StatusDone && out.Status != sweep.StatusFailed {
+	if out, st, err = w.cfg.Run(ctx, jb); err == nil && out.Status != job.StatusDone && out.Status != job.StatusFailed {
 		err = fmt.Errorf("runner returned status %q", out.Status)
 	}
 	return out, st, err
@@ -529,8 +530,8 @@ func (w *Worker) safeRun(ctx context.Context, job sweep.Job) (out sweep.Outcome,
 // future resolves with the server's ack (or an error after 30 s). The
 // message ID (job and stream sequence of the job message) makes a repeat of
 // the same delivery a duplicate.
-func (w *Worker) publish(o sweep.Outcome, seq uint64) (jetstream.PubAckFuture, error) {
-	data, err := sweep.EncodeOutcome(o)
+func (w *Worker) publish(o job.Outcome, seq uint64) (jetstream.PubAckFuture, error) {
+	data, err := job.EncodeOutcome(o)
 	if err != nil {
 		return nil, err
 	}
@@ -540,8 +541,8 @@ func (w *Worker) publish(o sweep.Outcome, seq uint64) (jetstream.PubAckFuture, e
 }
 
 // begin registers a running job; nil if its sweep is canceled.
-func (w *Worker) begin(job sweep.Job, m jetstream.Msg, beat time.Time) *task {
-	key := sweep.SweepToken(job.Sweep)
+func (w *Worker) begin(jb job.Job, m jetstream.Msg, beat time.Time) *task {
+	key := wire.SweepToken(jb.Sweep)
 	w.mu.Lock()
 	stale := w.canceled[key]
 	w.mu.Unlock()
@@ -550,7 +551,7 @@ func (w *Worker) begin(job sweep.Job, m jetstream.Msg, beat time.Time) *task {
 	}
 	w.mu.Lock()
 	defer w.mu.Unlock()
-	t := &task{job: job, msg: m, since: time.Now(), beat: beat}
+	t := &task{jb: jb, msg: m, since: time.Now(), beat: beat}
 	t.ctx, t.cancel = context.WithCancel(w.base)
 	w.next++
 	t.key = w.next
@@ -609,7 +610,7 @@ func (w *Worker) watchCanceled(watch jetstream.KeyWatcher, ready chan struct{}) 
 		if e.Operation() == jetstream.KeyValuePut {
 			w.canceled[key] = true
 			for _, t := range w.tasks {
-				if sweep.SweepToken(t.job.Sweep) == key {
+				if wire.SweepToken(t.jb.Sweep) == key {
 					t.swept.Store(true)
 					t.cancel()
 				}
@@ -677,14 +678,14 @@ func (w *Worker) Stats() Stats {
 // report publishes the worker's report (core NATS, fire and forget).
 func (w *Worker) report(leaving bool) {
 	st := w.Stats()
-	r := sweep.WorkerReport{
+	r := wire.WorkerReport{
 		ID: w.cfg.ID, Host: w.host, Cores: runtime.NumCPU(), Concurrency: w.cfg.Concurrency,
 		Started: w.started, Sent: time.Now(), Every: w.cfg.ReportEvery,
 		Done: st.Done, Failed: st.Failed, Busy: st.Busy, Leaving: leaving,
 	}
 	w.mu.Lock()
 	for _, t := range w.tasks {
-		r.Current = append(r.Current, sweep.RunningJob{JobID: t.job.ID, Sweep: t.job.Sweep, Since: t.since})
+		r.Current = append(r.Current, wire.RunningJob{JobID: t.jb.ID, Sweep: t.jb.Sweep, Since: t.since})
 	}
 	w.mu.Unlock()
 	data, err := json.Marshal(r)

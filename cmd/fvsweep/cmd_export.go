@@ -10,17 +10,17 @@ import (
 	"slices"
 	"strconv"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 const exportUsage = `usage: fvsweep export SWEEP --format csv|json
 
-Writes every job of a sweep with its state and outcome to stdout.
-json: an array with one object per job: job_id, study, case, params, status
+Writes every jb of a sweep with its state and outcome to stdout.
+json: an array with one object per jb: job_id, study, case, params, status
 (done, failed, queued or running), attempts, worker, wall_s, steps, t_final,
 errors (per variable l1, l2, linf), functionals, snapshot and error (the
-failure reason). csv: one row per job, one column per parameter and per
+failure reason). csv: one row per jb, one column per parameter and per
 error norm (var_l1, ...). Reads from the running coordinator, or from the
 store in --data.
 
@@ -34,27 +34,27 @@ func init() {
 
 // exportRow is one job in the JSON export.
 type exportRow struct {
-	JobID       string                `json:"job_id"`
-	Study       int                   `json:"study"`
-	Case        string                `json:"case"`
-	Params      map[string]string     `json:"params"`
-	Status      string                `json:"status"`
-	Attempts    int                   `json:"attempts"`
-	Worker      string                `json:"worker"`
-	WallS       float64               `json:"wall_s"`
-	Steps       int                   `json:"steps"`
-	TFinal      float64               `json:"t_final"`
-	Errors      map[string]fv2d.Norms `json:"errors"`
-	Functionals map[string]float64    `json:"functionals,omitempty"`
-	Snapshot    string                `json:"snapshot,omitempty"`
-	Error       string                `json:"error"`
+	JobID       string               `json:"job_id"`
+	Study       int                  `json:"study"`
+	Case        string               `json:"case"`
+	Params      map[string]string    `json:"params"`
+	Status      job.Status           `json:"status"`
+	Attempts    int                  `json:"attempts"`
+	Worker      string               `json:"worker"`
+	WallS       float64              `json:"wall_s"`
+	Steps       int                  `json:"steps"`
+	TFinal      float64              `json:"t_final"`
+	Errors      map[string]job.Norms `json:"errors"`
+	Functionals map[string]float64   `json:"functionals,omitempty"`
+	Snapshot    string               `json:"snapshot,omitempty"`
+	Error       string               `json:"error"`
 }
 
-func exportRows(rows []sweep.Row) []exportRow {
+func exportRows(rows []wire.Row) []exportRow {
 	out := make([]exportRow, len(rows))
 	for i, r := range rows {
 		e := exportRow{JobID: r.Job.ID, Study: r.Job.Study, Case: r.Job.Case, Params: r.Job.Params,
-			Status: r.Status, Worker: r.Worker, Errors: map[string]fv2d.Norms{}}
+			Status: r.Status, Worker: r.Worker, Errors: map[string]job.Norms{}}
 		if o := r.Outcome; o != nil {
 			e.Attempts, e.WallS, e.Steps, e.TFinal, e.Error = o.Attempts, o.WallS, o.Steps, o.TFinal, o.Error
 			e.Functionals, e.Snapshot = o.Functionals, o.Snapshot
@@ -123,7 +123,7 @@ func writeExportCSV(w io.Writer, rows []exportRow) error {
 	cw.Write(head)
 	g := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 	for _, r := range rows {
-		rec := []string{r.JobID, strconv.Itoa(r.Study), r.Case, r.Status, strconv.Itoa(r.Attempts), r.Worker,
+		rec := []string{r.JobID, strconv.Itoa(r.Study), r.Case, string(r.Status), strconv.Itoa(r.Attempts), r.Worker,
 			g(r.WallS), strconv.Itoa(r.Steps), g(r.TFinal), r.Error}
 		for _, k := range pk {
 			rec = append(rec, r.Params[k])

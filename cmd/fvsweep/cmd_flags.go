@@ -23,7 +23,8 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 )
 
 // Data directory layout.
@@ -43,7 +44,7 @@ type common struct {
 
 	// lim are the spec limits of the commands that take --job-limit and
 	// --mem-limit (zero: the defaults).
-	lim sweep.Limits
+	lim spec.Limits
 
 	// Credentials and TLS (coordinator.DialOptions).
 	token, user, creds, nkey string
@@ -150,7 +151,7 @@ func (c *common) open(ctx context.Context) (*source, error) {
 		o.QuietDenied = true
 		nc, err := coordinator.Dial(o)
 		if err == nil {
-			cl := coordinator.NewClient(nc, sweep.Names{})
+			cl := coordinator.NewClient(nc, wire.Names{})
 			cl.Timeout = 3 * time.Second
 			if _, err = cl.Ping(ctx); err == nil {
 				cl.Timeout = 30 * time.Second
@@ -242,25 +243,25 @@ func signals(again func()) (context.Context, func()) {
 
 // specLimits are the limits of c's command: its --job-limit and --mem-limit,
 // or the defaults.
-func (c *common) specLimits() sweep.Limits {
+func (c *common) specLimits() spec.Limits {
 	if c.lim.MaxJobs == 0 {
-		return sweep.DefaultLimits()
+		return spec.DefaultLimits()
 	}
 	return c.lim
 }
 
 // loadSpec reads and checks a spec file against c's limits.
-func (c *common) loadSpec(path string) (*sweep.Spec, error) {
-	return sweep.LoadSpec(path, c.specLimits())
+func (c *common) loadSpec(path string) (*spec.Spec, error) {
+	return spec.Load(path, c.specLimits())
 }
 
 // parseSpec is the coordinator's parser of submitted specs, with c's limits.
-func (c *common) parseSpec(file, src string) (*sweep.Spec, error) {
-	return sweep.ParseSpec(file, []byte(src), c.specLimits())
+func (c *common) parseSpec(file, src string) (*spec.Spec, error) {
+	return spec.Parse(file, []byte(src), c.specLimits())
 }
 
 // parseStoredSpec parses a spec already stored, to read its study settings:
 // it was checked when it was submitted, so no limit applies again.
-func parseStoredSpec(file, src string) (*sweep.Spec, error) {
-	return sweep.ParseSpec(file, []byte(src), sweep.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
+func parseStoredSpec(file, src string) (*spec.Spec, error) {
+	return spec.Parse(file, []byte(src), spec.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
 }

@@ -5,14 +5,13 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/verify"
 	"io"
 	"math"
 	"os"
 	"strconv"
 	"strings"
 	"text/tabwriter"
-
-	"fvsweep/sweep"
 )
 
 const gciUsage = `usage: fvsweep gci --values PHI1,PHI2,... (--cells N1,N2,... --dim D | --h H1,H2,...) [--order P] [--fs F] [--json]
@@ -105,7 +104,7 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 	if set["fs"] && !(*safety > 0 && !math.IsInf(*safety, 1)) {
 		return bad("--fs %g: must be a positive number", *safety)
 	}
-	st, err := sweep.GCI(values, h, sweep.GCIOptions{SafetyFactor: *safety, AssumedOrder: *order})
+	st, err := verify.GCI(values, h, verify.GCIOptions{SafetyFactor: *safety, AssumedOrder: *order})
 	if err != nil {
 		return bad("%v", err)
 	}
@@ -161,7 +160,7 @@ func gciSpacings(values, cells, hs gciFloats, dim int, set map[string]bool, bad 
 			return nil, bad("--cells: count %d is %g, must be >= 1", i+1, n)
 		}
 	}
-	h, err := sweep.SpacingsFromCells(cells, dim)
+	h, err := verify.SpacingsFromCells(cells, dim)
 	if err != nil {
 		return nil, bad("--cells: %v", err)
 	}
@@ -179,7 +178,7 @@ func gciDistinct(name string, given, h []float64, bad func(string, ...any) int) 
 	return h, 0
 }
 
-func writeGCIText(w io.Writer, st *sweep.GCIStudy) {
+func writeGCIText(w io.Writer, st *verify.GCIStudy) {
 	fmt.Fprintln(w, "grids, sorted finest first:")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "  grid\th\tphi")

@@ -4,18 +4,17 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/spec"
 	"io"
 	"os"
 	"sort"
 	"strings"
 	"text/tabwriter"
-
-	"fvsweep/sweep"
 )
 
 const planUsage = `usage: fvsweep plan SPEC [--json] [--job-limit N] [--mem-limit SIZE]
 
-Expands the sweep spec SPEC without running anything: per study the case,
+Expands the sweep sp SPEC without running anything: per study the case,
 the fixed values, the axes, the grid sequence, the number of runs and their
 estimated cost (cells x steps, and the share of the whole), then the total.
 Runs shared by two studies are counted once in the total.
@@ -60,12 +59,12 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return bad("%v", err)
 	}
-	spec, err := sweep.LoadSpec(files[0], lim)
+	sp, err := spec.Load(files[0], lim)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 		return 1
 	}
-	pl, err := spec.Plan()
+	pl, err := sp.Plan()
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 		return 1
@@ -73,13 +72,13 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		if err := enc.Encode(planJSON(spec, pl)); err != nil {
+		if err := enc.Encode(planJSON(sp, pl)); err != nil {
 			fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 			return 1
 		}
 		return 0
 	}
-	writePlan(stdout, spec, pl)
+	writePlan(stdout, sp, pl)
 	return 0
 }
 
@@ -120,7 +119,7 @@ type planDoc struct {
 	Studies []planStudy `json:"studies"`
 }
 
-func planAxes(as []sweep.Axis) []planAxis {
+func planAxes(as []spec.Axis) []planAxis {
 	out := make([]planAxis, 0, len(as))
 	for _, a := range as {
 		out = append(out, planAxis{Name: a.Name, Values: a.Values})
@@ -128,8 +127,8 @@ func planAxes(as []sweep.Axis) []planAxis {
 	return out
 }
 
-func planJSON(spec *sweep.Spec, pl *sweep.Plan) planDoc {
-	doc := planDoc{Sweep: pl.Sweep, File: spec.File, Runs: pl.Runs, Jobs: pl.Jobs, Cost: pl.Cost}
+func planJSON(sp *spec.Spec, pl *spec.Plan) planDoc {
+	doc := planDoc{Sweep: pl.Sweep, File: sp.File, Runs: pl.Runs, Jobs: pl.Jobs, Cost: pl.Cost}
 	for _, sp := range pl.Studies {
 		st := sp.Study
 		ps := planStudy{Index: st.Index, Label: st.Label, Case: st.Case, Fixed: st.Fixed, Axes: planAxes(st.Axes),
@@ -148,11 +147,11 @@ func planJSON(spec *sweep.Spec, pl *sweep.Plan) planDoc {
 }
 
 // writePlan prints the plan: one block per study, then a summary table.
-func writePlan(w io.Writer, spec *sweep.Spec, pl *sweep.Plan) {
-	fmt.Fprintf(w, "sweep %s (%s): %d studies, %d jobs, %.3g cell updates estimated\n", pl.Sweep, spec.File,
+func writePlan(w io.Writer, sp *spec.Spec, pl *spec.Plan) {
+	fmt.Fprintf(w, "sweep %s (%s): %d studies, %d jobs, %.3g cell updates estimated\n", pl.Sweep, sp.File,
 		len(pl.Studies), pl.Jobs, pl.Cost)
-	if spec.Description != "" {
-		fmt.Fprintf(w, "  %s\n", spec.Description)
+	if sp.Description != "" {
+		fmt.Fprintf(w, "  %s\n", sp.Description)
 	}
 	for _, sp := range pl.Studies {
 		st := sp.Study
@@ -201,7 +200,7 @@ func fixedString(m map[string]string) string {
 }
 
 // togetherString shows a group as its tuples: "flux, cfl: (hll, 0.5) (hllc, 0.9)".
-func togetherString(g []sweep.Axis) string {
+func togetherString(g []spec.Axis) string {
 	names := make([]string, len(g))
 	for i, a := range g {
 		names[i] = a.Name
@@ -217,7 +216,7 @@ func togetherString(g []sweep.Axis) string {
 	return strings.Join(names, ", ") + ": " + strings.Join(tuples, " ")
 }
 
-func gridString(grid []sweep.Axis) string {
+func gridString(grid []spec.Axis) string {
 	s := grid[0].Name + ": " + strings.Join(grid[0].Values, " ")
 	for _, a := range grid[1:] {
 		if a.Follows != "" {
@@ -229,7 +228,7 @@ func gridString(grid []sweep.Axis) string {
 	return s
 }
 
-func judgedString(st *sweep.Study) string {
+func judgedString(st *spec.Study) string {
 	s := st.Var + " " + st.Norm
 	if st.Functional != "" {
 		s += ", functional " + st.Functional

@@ -14,9 +14,10 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/report"
+	"fvsweep/sweep/wire"
 )
 
 const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --out FILE
@@ -24,7 +25,7 @@ const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --ou
   convergence  error norm against h, log-log, one line per parameter group,
                reference slopes of order 1 and 2, fitted order in the legend
   cost         error norm against CPU seconds (work-precision), log-log
-  field        heat map of a job's final field with a colour bar, or with
+  field        heat map of a jb's final field with a colour bar, or with
                --cut a line cut through it against the exact solution
 
 The extension of --out (.png or .svg) picks the format. Results come from
@@ -36,7 +37,7 @@ else from the server files in --data/nats.
 flags:
   --out       output file (.png or .svg), required
   --study N   the study to plot (default: the only one with errors to show)
-  --job ID    field: the job (its ID, or a unique prefix of it)
+  --jb ID    field: the jb (its ID, or a unique prefix of it)
   --snapshot FILE  field: read the snapshot from this file instead
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V
@@ -185,7 +186,7 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if err != nil {
 		return nil, nil, err
 	}
-	job := row.Job
+	jb := row.Job
 	var raw []byte
 	if file != "" {
 		if raw, err = os.ReadFile(file); err != nil {
@@ -195,31 +196,31 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		out := row.Outcome
 		switch {
 		case out == nil:
-			return nil, nil, fmt.Errorf("job %s has no result yet", job.ID)
+			return nil, nil, fmt.Errorf("job %s has no result yet", jb.ID)
 		case out.Snapshot == "":
-			return nil, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", job.ID)
+			return nil, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", jb.ID)
 		}
 		if raw, err = fetch(out.Snapshot); err != nil {
-			return nil, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", job.ID, err)
+			return nil, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
 		}
 		file = out.Snapshot
 	}
-	hdr, data, err := sweep.DecodeField(raw)
+	hdr, data, err := field.Decode(raw)
 	if err != nil {
 		return nil, nil, fmt.Errorf("%s: %w", file, err)
 	}
-	if hdr.JobID != job.ID {
-		return nil, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, job.ID)
+	if hdr.JobID != jb.ID {
+		return nil, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, jb.ID)
 	}
 	var prob *fv2d.Problem
 	var notes []string
-	if vals, err := fv2d.Resolve(job.Case, job.Params); err == nil {
-		if c, err := fv2d.LookupCase(job.Case); err == nil {
+	if vals, err := fv2d.Resolve(jb.Case, jb.Params); err == nil {
+		if c, err := fv2d.LookupCase(jb.Case); err == nil {
 			prob, _ = c.Setup(vals)
 		}
 	}
 	if prob == nil {
-		notes = append(notes, fmt.Sprintf("case %s could not be set up here: no exact solution drawn", job.Case))
+		notes = append(notes, fmt.Sprintf("case %s could not be set up here: no exact solution drawn", jb.Case))
 	}
 	if v == "" {
 		v = hdr.Vars[0]
@@ -228,7 +229,7 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if err != nil {
 		return nil, nil, err
 	}
-	title := fmt.Sprintf("%s, nx=%s, t=%.4g", job.Case, job.Params["nx"], hdr.T)
+	title := fmt.Sprintf("%s, nx=%s, t=%.4g", jb.Case, jb.Params["nx"], hdr.T)
 	if cut == "" {
 		h, err := plots.HeatMap(f, plots.Axes{Title: v + ": " + title})
 		if err != nil {
@@ -237,13 +238,13 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		return h, append(notes, h.Notes...), nil
 	}
 	if exact == nil {
-		notes = append(notes, fmt.Sprintf("case %s has no exact solution: numerical values only", job.Case))
+		notes = append(notes, fmt.Sprintf("case %s has no exact solution: numerical values only", jb.Case))
 	}
-	label := job.Params["scheme"]
-	if l := job.Params["limiter"]; l != "" && label == "muscl" {
+	label := jb.Params["scheme"]
+	if l := jb.Params["limiter"]; l != "" && label == "muscl" {
 		label += " " + l
 	}
-	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label + ", nx=" + job.Params["nx"]})
+	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label + ", nx=" + jb.Params["nx"]})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -251,8 +252,8 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 }
 
 // findJob returns the row whose job ID is id or starts with it, uniquely.
-func findJob(rows []sweep.Row, id string) (sweep.Row, error) {
-	var found []sweep.Row
+func findJob(rows []wire.Row, id string) (wire.Row, error) {
+	var found []wire.Row
 	for _, r := range rows {
 		if r.Job.ID == id {
 			return r, nil
@@ -263,11 +264,11 @@ func findJob(rows []sweep.Row, id string) (sweep.Row, error) {
 	}
 	switch len(found) {
 	case 0:
-		return sweep.Row{}, fmt.Errorf("--job %s: no such job in the sweep", id)
+		return wire.Row{}, fmt.Errorf("--job %s: no such job in the sweep", id)
 	case 1:
 		return found[0], nil
 	}
-	return sweep.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
+	return wire.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
 }
 
 // fetchSnapshot reads a stored snapshot: through the NATS server of the

@@ -10,7 +10,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
 	"fvsweep/worker"
 )
 
@@ -37,18 +37,18 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 	if err != nil || len(sd.rows) != 1 || sd.rows[0].Outcome == nil || sd.rows[0].Outcome.Snapshot == "" {
 		t.Fatalf("stored rows %+v: %v", sd, err)
 	}
-	job, ref := sd.rows[0].Job, sd.rows[0].Outcome.Snapshot
+	jb, ref := sd.rows[0].Job, sd.rows[0].Outcome.Snapshot
 
 	// The bytes read back are the field the solver computes for the job.
 	raw, err := fetchSnapshot(c, ref)
 	if err != nil {
 		t.Fatal(err)
 	}
-	hdr, got, err := sweep.DecodeField(raw)
+	hdr, got, err := field.Decode(raw)
 	if err != nil {
 		t.Fatal(err)
 	}
-	v, err := fv2d.Resolve(job.Case, job.Params)
+	v, err := fv2d.Resolve(jb.Case, jb.Params)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -57,7 +57,7 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := worker.Field(res.Final)
-	if hdr.JobID != job.ID || hdr.NX != 48 || hdr.NY != 48 || hdr.T != res.Final.T || len(got) != len(want) {
+	if hdr.JobID != jb.ID || hdr.NX != 48 || hdr.NY != 48 || hdr.T != res.Final.T || len(got) != len(want) {
 		t.Fatalf("snapshot header %+v", hdr)
 	}
 	for k := range want {
@@ -74,7 +74,7 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 		t.Helper()
 		out := filepath.Join(outDir, name)
 		var stdout, stderr bytes.Buffer
-		args := append([]string{"field", "field", "--job", job.ID[:8], "--data", data, "--out", out}, extra...)
+		args := append([]string{"field", "field", "--job", jb.ID[:8], "--data", data, "--out", out}, extra...)
 		if code := runPlot(args, &stdout, &stderr); code != 0 {
 			t.Fatalf("plot %v: exit %d\n%s", extra, code, stderr.String())
 		}
@@ -97,7 +97,7 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 	if err := os.RemoveAll(filepath.Join(data, natsDir)); err != nil {
 		t.Fatal(err)
 	}
-	code := runPlot([]string{"field", "field", "--job", job.ID, "--data", data, "--out", filepath.Join(outDir, "x.png")}, &stdout, &stderr)
+	code := runPlot([]string{"field", "field", "--job", jb.ID, "--data", data, "--out", filepath.Join(outDir, "x.png")}, &stdout, &stderr)
 	if code != 1 || !strings.Contains(stderr.String(), "no NATS files") || !strings.Contains(stderr.String(), "--snapshot FILE") {
 		t.Errorf("without server files: exit %d, %q", code, stderr.String())
 	}

@@ -9,9 +9,10 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/fv2d"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
 	"fvsweep/worker"
 )
 
@@ -32,11 +33,11 @@ snapshot = true
 // file. It returns the data directory, that job's ID and the snapshot path.
 func plotRig(t *testing.T) (dir, jobID, snap string) {
 	t.Helper()
-	spec, err := sweep.ParseSpec("pics.toml", []byte(plotTestSpec), sweep.Limits{})
+	sp, err := spec.Parse("pics.toml", []byte(plotTestSpec), spec.Limits{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	jobs, err := spec.Expand()
+	jobs, err := sp.Expand()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -46,25 +47,20 @@ func plotRig(t *testing.T) (dir, jobID, snap string) {
 		t.Fatal(err)
 	}
 	defer db.Close()
-	if _, _, err := db.PutSweep(store.SweepRecord{Name: spec.Name, SpecFile: "pics.toml", Spec: plotTestSpec}, jobs); err != nil {
+	if _, _, err := db.PutSweep(store.SweepRecord{Name: sp.Name, SpecFile: "pics.toml", Spec: plotTestSpec}, jobs); err != nil {
 		t.Fatal(err)
 	}
-	var outs []sweep.Outcome
+	var outs []job.Outcome
 	for _, j := range jobs {
-		v, err := fv2d.Resolve(j.Case, j.Params)
-		if err != nil {
-			t.Fatal(err)
+		o, final, err := worker.Solve(context.Background(), j)
+		if err != nil || o.Status != job.StatusDone {
+			t.Fatal(o.Error, err)
 		}
-		res, err := fv2d.Run(context.Background(), v)
-		if err != nil {
-			t.Fatal(err)
-		}
-		o := sweep.Outcome{JobID: j.ID, Sweep: spec.Name, Status: sweep.StatusDone, Attempts: 1, Worker: "test",
-			WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal, Errors: res.Errors}
+		o.JobID, o.Sweep, o.Attempts, o.Worker = j.ID, sp.Name, 1, "test"
 		if j.Params["limiter"] == "mc" && j.Params["nx"] == "64" {
-			h := sweep.FieldHeader{JobID: j.ID, Vars: res.Final.Eq.Vars(), NX: res.Final.NX, NY: res.Final.NY,
-				X0: res.Final.X0, Y0: res.Final.Y0, DX: res.Final.DX, DY: res.Final.DY, T: res.Final.T}
-			data, err := sweep.EncodeField(h, worker.Field(res.Final))
+			h := field.Header{JobID: j.ID, Vars: final.Eq.Vars(), NX: final.NX, NY: final.NY,
+				X0: final.X0, Y0: final.Y0, DX: final.DX, DY: final.DY, T: final.T}
+			data, err := field.Encode(h, worker.Field(final))
 			if err != nil {
 				t.Fatal(err)
 			}

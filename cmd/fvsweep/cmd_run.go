@@ -15,15 +15,15 @@ import (
 	"golang.org/x/term"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
 	"fvsweep/sweep/report"
+	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
 const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--data DIR] [--http HOST:PORT]
 
 Runs a sweep on this machine in one go: an embedded NATS server, the
-coordinator and N local workers. It queues every job of SPEC that has no
+coordinator and N local workers. It queues every jb of SPEC that has no
 stored outcome (largest first), shows the progress (a bar with done, failed,
 running and an ETA on a terminal, a log line every few seconds otherwise),
 then prints the convergence tables. The sweep's name, printed first, is
@@ -174,7 +174,7 @@ func runRun(args []string) int {
 
 // watchProgress shows the sweep's progress until all its jobs have an
 // outcome (true) or ctx is done (false).
-func watchProgress(ctx context.Context, coord *coordinator.Coordinator, rep sweep.SubmitReply, out *os.File, log hclog.Logger) bool {
+func watchProgress(ctx context.Context, coord *coordinator.Coordinator, rep wire.SubmitReply, out *os.File, log hclog.Logger) bool {
 	tty := term.IsTerminal(int(out.Fd()))
 	every := 5 * time.Second // between log lines
 	if tty {
@@ -226,7 +226,7 @@ type progress struct {
 
 // eta extrapolates the rate of this run's outcomes so far. Jobs are run
 // largest first, so the estimate is pessimistic early on.
-func (p *progress) eta(s sweep.SweepStatus) string {
+func (p *progress) eta(s wire.SweepStatus) string {
 	got := s.Done + s.Failed - p.base
 	left := s.JobsTotal - s.Done - s.Failed
 	if left == 0 {
@@ -239,7 +239,7 @@ func (p *progress) eta(s sweep.SweepStatus) string {
 	return (time.Duration(float64(el) / float64(got) * float64(left))).Round(time.Second).String()
 }
 
-func (p *progress) bar(s sweep.SweepStatus, width int) string {
+func (p *progress) bar(s wire.SweepStatus, width int) string {
 	text := fmt.Sprintf(" %d/%d done  %d failed  %d running  ETA %s", s.Done, s.JobsTotal, s.Failed, s.Running, p.eta(s))
 	n := max(10, min(40, width-len(text)-3))
 	filled := 0

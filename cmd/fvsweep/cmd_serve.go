@@ -14,7 +14,7 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 )
 
 const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL] [--http HOST:PORT]
@@ -54,7 +54,7 @@ type service struct {
 
 // startService opens the store read-write, starts the embedded server on
 // listen (unless c.nats is set), connects, and runs a coordinator.
-func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]sweep.Outcome)) (*service, error) {
+func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome)) (*service, error) {
 	if err := sf.check(); err != nil {
 		return nil, err
 	}

@@ -16,7 +16,7 @@ import (
 	"strings"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/spec"
 )
 
 func init() {
@@ -82,7 +82,7 @@ func solveMain(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "fvsweep solve: unexpected argument %q\n", rest[0])
 		return 2
 	}
-	maxBytes, err := sweep.ParseBytes(*memLimit)
+	maxBytes, err := spec.ParseBytes(*memLimit)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep solve: --mem-limit: %v\n", err)
 		return 2

@@ -12,7 +12,7 @@ import (
 	"time"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
+	"fvsweep/sweep/wire"
 )
 
 const statusUsage = `usage: fvsweep status [SWEEP] [--json] [--http HOST:PORT]
@@ -52,7 +52,7 @@ func runStatus(args []string) int {
 		name = pos[0]
 	}
 	var (
-		rep  sweep.StatusReply
+		rep  wire.StatusReply
 		live = true
 		err  error
 	)
@@ -65,7 +65,7 @@ func runStatus(args []string) int {
 		return fail("status: %v", err)
 	}
 	if rep.Workers == nil {
-		rep.Workers = []sweep.WorkerReport{}
+		rep.Workers = []wire.WorkerReport{}
 	}
 	if *asJSON {
 		var v any = rep
@@ -85,7 +85,7 @@ func runStatus(args []string) int {
 
 // storeStatus asks the running coordinator over NATS, or reads the store
 // (live false).
-func storeStatus(c *common, name string) (rep sweep.StatusReply, live bool, err error) {
+func storeStatus(c *common, name string) (rep wire.StatusReply, live bool, err error) {
 	src, err := c.open(context.Background())
 	if err != nil {
 		return rep, false, err
@@ -100,7 +100,7 @@ func storeStatus(c *common, name string) (rep sweep.StatusReply, live bool, err 
 }
 
 // writeStatus prints the status as text tables.
-func writeStatus(w io.Writer, rep sweep.StatusReply, live bool) {
+func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "sweep\tjobs\tdone\tfailed\trunning\tqueued\tstate\tupdated\t")
 	for _, s := range rep.Sweeps {

@@ -4,14 +4,13 @@ import (
 	"context"
 	"flag"
 	"fmt"
-
-	"fvsweep/sweep"
+	"fvsweep/sweep/wire"
 )
 
 const submitUsage = `usage: fvsweep submit SPEC [--retry-failed]
 
 Sends the sweep spec SPEC to the running coordinator (found through
-DIR/coordinator.url or --nats), which queues every job that has no stored
+DIR/coordinator.url or --nats), which queues every jb that has no stored
 outcome, largest first. The spec is checked here first. Submitting the same
 (or an edited) spec again queues only the jobs not yet stored.
 
@@ -50,7 +49,7 @@ func runSubmit(args []string) int {
 	if src.client == nil {
 		return fail("submit: no coordinator is running for %s: start 'fvsweep serve' (or use 'fvsweep run %s')", c.data, pos[0])
 	}
-	rep, err := src.client.Submit(context.Background(), sweep.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
+	rep, err := src.client.Submit(context.Background(), wire.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
 	if err != nil {
 		return fail("submit: %v", err)
 	}
@@ -59,7 +58,7 @@ func runSubmit(args []string) int {
 }
 
 // printSubmitted says what a submission did.
-func printSubmitted(rep sweep.SubmitReply) {
+func printSubmitted(rep wire.SubmitReply) {
 	fmt.Printf("sweep %s: %d jobs, %d already stored, %d queued", rep.Sweep, rep.Jobs, rep.Stored, rep.Queued)
 	if rep.Retried > 0 {
 		fmt.Printf(" (%d failed ones again)", rep.Retried)

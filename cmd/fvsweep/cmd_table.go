@@ -15,8 +15,11 @@ import (
 	"unicode/utf8"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/report"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/verify"
+	"fvsweep/sweep/wire"
 )
 
 const tableUsage = `usage: fvsweep table SWEEP [--var V] [--norm l1|l2|linf] [--functional NAME] [--format text|markdown|csv|json]
@@ -55,7 +58,7 @@ func init() {
 // sweepData is a sweep's jobs with their states and its stored spec.
 type sweepData struct {
 	name     string
-	rows     []sweep.Row
+	rows     []wire.Row
 	specFile string
 	spec     string
 }
@@ -88,20 +91,20 @@ func openSweep(c *common, name string) (*sweepData, error) {
 }
 
 // tables builds the convergence tables of d.
-func (d *sweepData) tables(o report.Options) ([]report.Study, []report.Failure, map[string]sweep.Outcome, error) {
-	var spec *sweep.Spec
+func (d *sweepData) tables(o report.Options) ([]report.Study, []report.Failure, map[string]job.Outcome, error) {
+	var sp *spec.Spec
 	if d.spec != "" {
-		spec, _ = parseStoredSpec(d.specFile, d.spec) // nil: study settings take defaults
+		sp, _ = parseStoredSpec(d.specFile, d.spec) // nil: study settings take defaults
 	}
-	jobs := make([]sweep.Job, len(d.rows))
-	outs := map[string]sweep.Outcome{}
+	jobs := make([]job.Job, len(d.rows))
+	outs := map[string]job.Outcome{}
 	for i, r := range d.rows {
 		jobs[i] = r.Job
 		if r.Outcome != nil {
 			outs[r.Job.ID] = *r.Outcome
 		}
 	}
-	studies, fails, err := report.Build(spec, jobs, outs, o)
+	studies, fails, err := report.Build(sp, jobs, outs, o)
 	return studies, fails, outs, err
 }
 
@@ -161,12 +164,12 @@ type tableStudy struct {
 }
 
 type tableGroup struct {
-	Label    string             `json:"label"`
-	Params   map[string]string  `json:"params"`
-	Rows     []tableRow         `json:"rows"`
-	Fitted   *float64           `json:"fitted_order"`
-	FittedSE *float64           `json:"fitted_order_se"`
-	Verdict  sweep.OrderVerdict `json:"verdict"`
+	Label    string              `json:"label"`
+	Params   map[string]string   `json:"params"`
+	Rows     []tableRow          `json:"rows"`
+	Fitted   *float64            `json:"fitted_order"`
+	FittedSE *float64            `json:"fitted_order_se"`
+	Verdict  verify.OrderVerdict `json:"verdict"`
 	// GCI holds one entry per functional of the study, its records in the
 	// layout of fvsweep gci --json (fractions, not percent).
 	GCI []report.FunctionalGCI `json:"gci,omitempty"`
@@ -200,7 +203,7 @@ func finite(x float64) *float64 {
 	return &x
 }
 
-func tableStudies(studies []report.Study, outs map[string]sweep.Outcome) []tableStudy {
+func tableStudies(studies []report.Study, outs map[string]job.Outcome) []tableStudy {
 	var ts []tableStudy
 	for _, st := range studies {
 		t := tableStudy{Index: st.Index, Label: st.Label, Case: st.Case, Var: st.Var, Norm: st.Norm,
@@ -214,7 +217,7 @@ func tableStudies(studies []report.Study, outs map[string]sweep.Outcome) []table
 			for _, r := range g.Rows {
 				tr := tableRow{JobID: r.JobID, NX: r.NX, NY: r.NY, H: finite(r.H), Status: r.Status, Order: finite(r.Order),
 					WallS: r.WallS, phi: r.Phi}
-				if o, ok := outs[r.JobID]; ok && o.Status == sweep.StatusDone {
+				if o, ok := outs[r.JobID]; ok && o.Status == job.StatusDone {
 					if n, ok := o.Errors[st.Var]; ok {
 						tr.L1, tr.L2, tr.Linf = finite(n.L1), finite(n.L2), finite(n.Linf)
 					}
@@ -443,7 +446,7 @@ func writeTablesMarkdown(w io.Writer, t tableSet) error {
 
 // The columns of the csv table. Each line is one record: "grid" lines fill
 // the grid columns (and phi:NAME for each functional of any study), "gci"
-// lines the GCI columns of one record of sweep.GCI (fractions, not
+// lines the GCI columns of one record of verify.GCI (fractions, not
 // percent), "gci-fit" lines the least-squares fit over four or more grids.
 var (
 	csvLead = []string{"record", "study", "label", "case", "var", "group"}

@@ -10,9 +10,9 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/report"
+	"fvsweep/sweep/wire"
 )
 
 // tableSpec has a case without an exact solution judged by its entropy on
@@ -53,15 +53,15 @@ func tableData(t *testing.T) *sweepData {
 	for _, j := range jobs {
 		nx, _ := strconv.Atoi(j.Params["nx"])
 		ny, _ := strconv.Atoi(j.Params["ny"])
-		o := &sweep.Outcome{JobID: j.ID, Sweep: "tbl", Status: sweep.StatusDone, Attempts: 1, WallS: 0.5}
+		o := &job.Outcome{JobID: j.ID, Sweep: "tbl", Status: job.StatusDone, Attempts: 1, WallS: 0.5}
 		if j.Case == "quadrants" {
 			o.Functionals = map[string]float64{"entropy": phi[nx*ny], "rho_max": 2}
 		} else {
 			e := math.Pow(10/float64(nx), 1.5)
-			o.Errors = map[string]fv2d.Norms{"rho": {L1: e, L2: 2 * e, Linf: 3 * e}}
+			o.Errors = map[string]job.Norms{"rho": {L1: e, L2: 2 * e, Linf: 3 * e}}
 			o.Functionals = map[string]float64{"entropy": -1}
 		}
-		d.rows = append(d.rows, sweep.Row{Job: j, Status: sweep.StatusDone, Outcome: o})
+		d.rows = append(d.rows, wire.Row{Job: j, Status: job.StatusDone, Outcome: o})
 	}
 	return d
 }

@@ -16,7 +16,7 @@ import (
 	"github.com/hashicorp/go-hclog"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep"
+	"fvsweep/sweep/wire"
 )
 
 // webFlags are --http and --http-token of the commands that run a
@@ -81,8 +81,8 @@ func (f *webFlags) start(s *service, c *common, log hclog.Logger) error {
 
 // pageStatus asks the JSON API of the status page at addr (HOST:PORT or
 // http://HOST:PORT) for the status of sweep name ("" for every sweep).
-func pageStatus(addr, token, name string) (sweep.StatusReply, error) {
-	var rep sweep.StatusReply
+func pageStatus(addr, token, name string) (wire.StatusReply, error) {
+	var rep wire.StatusReply
 	base := strings.TrimSuffix(addr, "/")
 	if !strings.Contains(base, "://") {
 		base = "http://" + base
@@ -121,7 +121,7 @@ func pageStatus(addr, token, name string) (sweep.StatusReply, error) {
 	} else {
 		var v coordinator.SweepView
 		err = json.Unmarshal(body, &v)
-		rep = sweep.StatusReply{Sweeps: []sweep.SweepStatus{v.SweepStatus}, Workers: v.Workers}
+		rep = wire.StatusReply{Sweeps: []wire.SweepStatus{v.SweepStatus}, Workers: v.Workers}
 	}
 	if err != nil {
 		return rep, fmt.Errorf("status page %s: %w", base+path, err)

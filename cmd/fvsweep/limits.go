@@ -3,8 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
-
-	"fvsweep/sweep"
+	"fvsweep/sweep/spec"
 )
 
 // limitFlags are the limits a spec must keep to: --job-limit and --mem-limit
@@ -19,18 +18,18 @@ const limitUsage = `  --job-limit N      refuse a spec that expands to more runs
 `
 
 func (l *limitFlags) register(fs *flag.FlagSet) {
-	fs.IntVar(&l.jobs, "job-limit", sweep.DefaultMaxJobs, "")
+	fs.IntVar(&l.jobs, "job-limit", spec.DefaultMaxJobs, "")
 	fs.StringVar(&l.mem, "mem-limit", "8GiB", "")
 }
 
 // limits checks the flags and returns the limits they set.
-func (l *limitFlags) limits() (sweep.Limits, error) {
-	maxBytes, err := sweep.ParseBytes(l.mem)
+func (l *limitFlags) limits() (spec.Limits, error) {
+	maxBytes, err := spec.ParseBytes(l.mem)
 	if err != nil {
-		return sweep.Limits{}, fmt.Errorf("--mem-limit: %v", err)
+		return spec.Limits{}, fmt.Errorf("--mem-limit: %v", err)
 	}
 	if l.jobs <= 0 {
-		return sweep.Limits{}, fmt.Errorf("--job-limit: want a positive number of jobs, got %d", l.jobs)
+		return spec.Limits{}, fmt.Errorf("--job-limit: want a positive number of jobs, got %d", l.jobs)
 	}
-	return sweep.Limits{MaxJobs: l.jobs, MaxBytes: maxBytes}, nil
+	return spec.Limits{MaxJobs: l.jobs, MaxBytes: maxBytes}, nil
 }

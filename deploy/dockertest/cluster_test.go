@@ -3,13 +3,14 @@ package dockertest
 import (
 	"encoding/json"
 	"fmt"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
-
-	"fvsweep/sweep"
 )
 
 const clusterSpec = `name = "docker-cluster"
@@ -67,11 +68,11 @@ func TestDockerCluster(t *testing.T) {
 	if err != nil || code != 0 {
 		t.Fatalf("submit: exit %d, %v: %s", code, err, out)
 	}
-	spec, err := sweep.ParseSpec("spec.toml", []byte(clusterSpec), sweep.DefaultLimits())
+	sp, err := spec.Parse("spec.toml", []byte(clusterSpec), spec.DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}
-	jobs, err := spec.Expand()
+	jobs, err := sp.Expand()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -88,7 +89,7 @@ func TestDockerCluster(t *testing.T) {
 	t.Log("worker-a cut off for 4 s, then reconnected")
 	waitStored(t, coord, total, 180*time.Second)
 
-	out, code, err = coord.Exec(nil, "export", spec.Name, "--format", "json", "--data", "/data")
+	out, code, err = coord.Exec(nil, "export", sp.Name, "--format", "json", "--data", "/data")
 	if err != nil || code != 0 {
 		t.Fatalf("export: exit %d, %v: %s", code, err, out)
 	}
@@ -107,7 +108,7 @@ func TestDockerCluster(t *testing.T) {
 	}
 	stored, redelivered := 0, 0
 	for _, r := range rows {
-		if want[r.JobID] && r.Status == sweep.StatusDone {
+		if want[r.JobID] && r.Status == string(job.StatusDone) {
 			stored++
 			delete(want, r.JobID)
 		}
@@ -126,10 +127,10 @@ func TestDockerCluster(t *testing.T) {
 
 // waitStored polls the coordinator's status (through docker exec) until
 // the sweep has n outcomes.
-func waitStored(t *testing.T, coord *Container, n int, within time.Duration) sweep.SweepStatus {
+func waitStored(t *testing.T, coord *Container, n int, within time.Duration) wire.SweepStatus {
 	t.Helper()
 	deadline := time.Now().Add(within)
-	var st sweep.SweepStatus
+	var st wire.SweepStatus
 	for time.Now().Before(deadline) {
 		out, code, err := coord.Exec(nil, "status", "docker-cluster", "--json", "--data", "/data")
 		if err == nil && code == 0 && json.Unmarshal([]byte(out), &st) == nil && st.Done+st.Failed >= n {

@@ -3,14 +3,14 @@ package faults
 import (
 	"context"
 	"errors"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 	"strings"
 	"testing"
 	"time"
 
 	"github.com/nats-io/nats.go"
 	"github.com/nats-io/nats.go/jetstream"
-
-	"fvsweep/sweep"
 )
 
 // TestHostileMessages publishes malformed and hostile messages on the job
@@ -36,12 +36,12 @@ func TestHostileMessages(t *testing.T) {
 	}
 	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
 	defer cancel()
-	n := sweep.Names{}
+	n := wire.Names{}
 	const id1, id2 = "00000000000000000000000000000001", "00000000000000000000000000000002"
-	mismatched := sweep.Job{ID: id1, Sweep: "hostile", Case: "burgers-sine",
+	mismatched := job.Job{ID: id1, Sweep: "hostile", Case: "burgers-sine",
 		Params: map[string]string{"nx": "16", "ny": "4", "t_end": "0.01"}, Cost: 1}
-	unknownCase := sweep.Job{ID: id2, Sweep: "hostile", Case: "no-such-case", Params: map[string]string{"nx": "8"}, Cost: 1}
-	garbage := strings.Repeat("\xff", sweep.MaxMessage-4096)
+	unknownCase := job.Job{ID: id2, Sweep: "hostile", Case: "no-such-case", Params: map[string]string{"nx": "8"}, Cost: 1}
+	garbage := strings.Repeat("\xff", wire.MaxMessage-4096)
 	msgs := []struct {
 		subject, data string
 	}{
@@ -70,7 +70,7 @@ func TestHostileMessages(t *testing.T) {
 			time.Sleep(50 * time.Millisecond)
 		}
 	}
-	if _, err := js.Publish(ctx, n.JobSubject("hostile", id1), make([]byte, 2*sweep.MaxMessage)); !errors.Is(err, nats.ErrMaxPayload) {
+	if _, err := js.Publish(ctx, n.JobSubject("hostile", id1), make([]byte, 2*wire.MaxMessage)); !errors.Is(err, nats.ErrMaxPayload) {
 		t.Errorf("publishing 2 MiB: %v, want it refused as over the maximum payload", err)
 	}
 	r.submit(spec, url)
@@ -112,8 +112,8 @@ func TestHostileMessages(t *testing.T) {
 	wantClean(t, f)
 }
 
-func mustEncode(t *testing.T, j sweep.Job) string {
-	b, err := sweep.EncodeJob(j)
+func mustEncode(t *testing.T, j job.Job) string {
+	b, err := job.Encode(j)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -2,12 +2,11 @@ package faults
 
 import (
 	"fmt"
+	"fvsweep/sweep/job"
 	"strings"
 	"syscall"
 	"testing"
 	"time"
-
-	"fvsweep/sweep"
 )
 
 // serveArgs are the flags of a coordinator under test: a one-second ack
@@ -55,7 +54,7 @@ axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc
 `
 
 // bigJob returns the ID of the one job with nx = 256 of bigAndSmall.
-func bigJob(t *testing.T, jobs map[string]sweep.Job) string {
+func bigJob(t *testing.T, jobs map[string]job.Job) string {
 	t.Helper()
 	for id, j := range jobs {
 		if j.Params["nx"] == "256" {
@@ -71,7 +70,7 @@ func bigJob(t *testing.T, jobs map[string]sweep.Job) string {
 type bigOnA struct {
 	r         *rig
 	name, url string
-	ids       map[string]sweep.Job
+	ids       map[string]job.Job
 	big       string
 	coord, a  *proc
 	obs       *observer

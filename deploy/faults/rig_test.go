@@ -19,7 +19,9 @@ import (
 
 	"fvsweep/deploy/dockertest"
 	"fvsweep/store"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 )
 
 // bin is the fvsweep binary all tests run, built once by TestMain.
@@ -207,32 +209,32 @@ func freePort(t testing.TB) int {
 
 // writeSpec writes src to the rig's directory and returns its path, the
 // sweep's name and the jobs it expands to, by ID.
-func (r *rig) writeSpec(src string) (string, string, map[string]sweep.Job) {
+func (r *rig) writeSpec(src string) (string, string, map[string]job.Job) {
 	r.t.Helper()
 	path := filepath.Join(r.dir, "spec.toml")
 	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
 		r.t.Fatal(err)
 	}
-	spec, err := sweep.ParseSpec(path, []byte(src), sweep.DefaultLimits())
+	sp, err := spec.Parse(path, []byte(src), spec.DefaultLimits())
 	if err != nil {
 		r.t.Fatal(err)
 	}
-	jobs, err := spec.Expand()
+	jobs, err := sp.Expand()
 	if err != nil {
 		r.t.Fatal(err)
 	}
-	ids := map[string]sweep.Job{}
+	ids := map[string]job.Job{}
 	for _, j := range jobs {
 		ids[j.ID] = j
 	}
-	return path, spec.Name, ids
+	return path, sp.Name, ids
 }
 
 // status asks the running coordinator for the sweep's status.
-func (r *rig) status(name string, nats string) (sweep.SweepStatus, bool) {
+func (r *rig) status(name string, nats string) (wire.SweepStatus, bool) {
 	t0 := time.Now()
 	out, errs, code := r.cli("status", name, "--json", "--data", r.data, "--nats", nats)
-	var st sweep.SweepStatus
+	var st wire.SweepStatus
 	if code != 0 || json.Unmarshal([]byte(out), &st) != nil {
 		r.t.Logf("status after %v: exit %d: %s", time.Since(t0), code, strings.TrimSpace(errs))
 		return st, false
@@ -241,10 +243,10 @@ func (r *rig) status(name string, nats string) (sweep.SweepStatus, bool) {
 }
 
 // waitDone polls the coordinator until the sweep has n outcomes.
-func (r *rig) waitDone(name, url string, n int, within time.Duration) sweep.SweepStatus {
+func (r *rig) waitDone(name, url string, n int, within time.Duration) wire.SweepStatus {
 	r.t.Helper()
 	deadline := time.Now().Add(within)
-	var st sweep.SweepStatus
+	var st wire.SweepStatus
 	for time.Now().Before(deadline) {
 		if s, ok := r.status(name, url); ok {
 			st = s
@@ -262,21 +264,21 @@ func (r *rig) waitDone(name, url string, n int, within time.Duration) sweep.Swee
 // NATS sees each publish, including those the stream drops as duplicates).
 type observer struct {
 	mu   sync.Mutex
-	seen map[string][]sweep.Outcome
+	seen map[string][]job.Outcome
 	nc   *nats.Conn
 }
 
 func observe(t *testing.T, url string, opts ...nats.Option) *observer {
 	t.Helper()
-	o := &observer{seen: map[string][]sweep.Outcome{}}
+	o := &observer{seen: map[string][]job.Outcome{}}
 	var err error
 	o.nc, err = nats.Connect(url, append(opts, nats.MaxReconnects(-1), nats.ReconnectWait(200*time.Millisecond))...)
 	if err != nil {
 		t.Fatal(err)
 	}
 	t.Cleanup(o.nc.Close)
-	_, err = o.nc.Subscribe(sweep.Names{}.ResultFilter(), func(m *nats.Msg) {
-		out, err := sweep.DecodeOutcome(m.Data)
+	_, err = o.nc.Subscribe(wire.Names{}.ResultFilter(), func(m *nats.Msg) {
+		out, err := job.DecodeOutcome(m.Data)
 		if err != nil {
 			return
 		}
@@ -291,10 +293,10 @@ func observe(t *testing.T, url string, opts ...nats.Option) *observer {
 	return o
 }
 
-func (o *observer) results(id string) []sweep.Outcome {
+func (o *observer) results(id string) []job.Outcome {
 	o.mu.Lock()
 	defer o.mu.Unlock()
-	return append([]sweep.Outcome(nil), o.seen[id]...)
+	return append([]job.Outcome(nil), o.seen[id]...)
 }
 
 // jobs is the number of jobs with at least one outcome published.
@@ -334,7 +336,7 @@ func (f figures) String() string {
 
 // count opens the store (the coordinator must have stopped) and the
 // coordinator's logs and counts.
-func (r *rig) count(name string, ids map[string]sweep.Job, coord *proc, obs *observer) (figures, map[string]sweep.Outcome) {
+func (r *rig) count(name string, ids map[string]job.Job, coord *proc, obs *observer) (figures, map[string]job.Outcome) {
 	r.t.Helper()
 	db, err := store.Open(filepath.Join(r.data, "fvsweep.db"), store.Options{ReadOnly: true, Timeout: 5 * time.Second})
 	if err != nil {
@@ -354,7 +356,7 @@ func (r *rig) count(name string, ids map[string]sweep.Job, coord *proc, obs *obs
 		switch {
 		case !ok:
 			f.Lost++
-		case o.Status == sweep.StatusDone:
+		case o.Status == job.StatusDone:
 			f.Stored++
 		default:
 			f.Failed++

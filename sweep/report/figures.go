@@ -5,7 +5,7 @@ import (
 	"strconv"
 	"strings"
 
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/plots"
 )
 
@@ -35,7 +35,7 @@ func series(st Study, x func(GridRow) float64, fitted bool) []plots.Series {
 	for _, g := range st.Groups {
 		s := plots.Series{Label: g.Label, OrderSE: math.NaN()}
 		for _, r := range g.Rows {
-			if r.Status != sweep.StatusDone || math.IsNaN(r.Err) {
+			if r.Status != string(job.StatusDone) || math.IsNaN(r.Err) {
 				continue
 			}
 			s.X, s.Y = append(s.X, x(r)), append(s.Y, r.Err)

@@ -2,17 +2,17 @@ package report
 
 import (
 	"fmt"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/verify"
 	"maps"
 	"math"
 	"slices"
 	"strconv"
 	"strings"
-
-	"fvsweep/sweep"
 )
 
 // FunctionalGCI is the solution verification of one functional over the
-// finished grids of a group: sweep.GCI of the functional's values against
+// finished grids of a group: verify.GCI of the functional's values against
 // the grids' representative spacings (the refinement ratios come from the
 // actual spacings, so they need not be 2 nor integers). The embedded
 // GCIStudy lists the grids finest first, one record per successive triple
@@ -24,7 +24,7 @@ type FunctionalGCI struct {
 	Functional string `json:"functional"`
 	NX         []int  `json:"nx"` // of each grid in GCIStudy.H, finest first
 	NY         []int  `json:"ny"`
-	sweep.GCIStudy
+	verify.GCIStudy
 	Note string `json:"note,omitempty"`
 }
 
@@ -32,11 +32,11 @@ type FunctionalGCI struct {
 // from the study's jobs and their outcomes. opt is Options.Functional; the
 // names of the functionals the study's results report are added to
 // reported.
-func (st *Study) chooseFunctionals(jobs []sweep.Job, outcomes map[string]sweep.Outcome, opt string, reported map[string]bool) {
+func (st *Study) chooseFunctionals(jobs []job.Job, outcomes map[string]job.Outcome, opt string, reported map[string]bool) {
 	here := map[string]bool{}
 	withErrors := false
 	for _, j := range jobs {
-		if out, ok := outcomes[j.ID]; ok && out.Status == sweep.StatusDone {
+		if out, ok := outcomes[j.ID]; ok && out.Status == job.StatusDone {
 			for name := range out.Functionals {
 				here[name], reported[name] = true, true
 			}
@@ -84,7 +84,7 @@ func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 	var phi, h []float64
 	var nx, ny []int
 	for _, r := range g.Rows {
-		if v := r.Phi[k]; r.Status == sweep.StatusDone && !math.IsNaN(v) && !math.IsInf(v, 0) && r.hRep > 0 {
+		if v := r.Phi[k]; r.Status == string(job.StatusDone) && !math.IsNaN(v) && !math.IsInf(v, 0) && r.hRep > 0 {
 			phi, h = append(phi, v), append(h, r.hRep)
 			nx, ny = append(nx, r.NX), append(ny, r.NY)
 		}
@@ -93,7 +93,7 @@ func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 		f.Note = fmt.Sprintf("%d finished grid(s) with a value of %s; the GCI needs at least 2 (3 for an observed order)", len(phi), f.Functional)
 		return f
 	}
-	var opts sweep.GCIOptions
+	var opts verify.GCIOptions
 	if len(phi) == 2 {
 		p, ok := st.designOrder(g)
 		if !ok {
@@ -102,7 +102,7 @@ func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 		}
 		opts.AssumedOrder = p
 	}
-	gs, err := sweep.GCI(phi, h, opts)
+	gs, err := verify.GCI(phi, h, opts)
 	if err != nil {
 		f.Note = err.Error()
 		return f
@@ -154,7 +154,7 @@ func (f FunctionalGCI) Notes() []string {
 		for _, n := range r.Notes {
 			out = append(out, fmt.Sprintf("%s, grids %s: %s", f.Functional, f.GridNames(r.Grids), n))
 		}
-		if r.Convergence == sweep.Oscillatory {
+		if r.Convergence == verify.Oscillatory {
 			out = append(out, fmt.Sprintf("%s, grids %s: oscillatory convergence (R < 0): the order and the GCI are less certain than for monotone convergence",
 				f.Functional, f.GridNames(r.Grids)))
 		}

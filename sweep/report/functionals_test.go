@@ -6,21 +6,22 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/verify"
 )
 
 // functionalSweep parses src, expands it and gives every job a finished
 // outcome whose functionals are phi(job) (nil: none reported).
-func functionalSweep(t *testing.T, src string, phi func(j sweep.Job) map[string]float64) (*sweep.Spec, []sweep.Job, map[string]sweep.Outcome) {
+func functionalSweep(t *testing.T, src string, phi func(j job.Job) map[string]float64) (*spec.Spec, []job.Job, map[string]job.Outcome) {
 	t.Helper()
-	spec, jobs := parseExpand(t, "gci.toml", src)
-	outs := map[string]sweep.Outcome{}
+	sp, jobs := parseExpand(t, "gci.toml", src)
+	outs := map[string]job.Outcome{}
 	for _, j := range jobs {
-		outs[j.ID] = sweep.Outcome{JobID: j.ID, Sweep: "gci", Status: sweep.StatusDone, Attempts: 1, WallS: 0.01,
+		outs[j.ID] = job.Outcome{JobID: j.ID, Sweep: "gci", Status: job.StatusDone, Attempts: 1, WallS: 0.01,
 			Functionals: phi(j)}
 	}
-	return spec, jobs, outs
+	return sp, jobs, outs
 }
 
 // The worked example of I. B. Celik et al., "Procedure for Estimation and
@@ -42,8 +43,8 @@ functional = "entropy"
 
 var celikPhi = map[int]float64{18000: 6.063, 8000: 5.972, 4500: 5.863}
 
-func celikOutcomes(t *testing.T) (*sweep.Spec, []sweep.Job, map[string]sweep.Outcome) {
-	return functionalSweep(t, celikSpec, func(j sweep.Job) map[string]float64 {
+func celikOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) {
+	return functionalSweep(t, celikSpec, func(j job.Job) map[string]float64 {
 		n := atoi(j.Params["nx"]) * atoi(j.Params["ny"])
 		// The case's other functionals are reported too; only entropy is shown.
 		return map[string]float64{"entropy": celikPhi[n], "rho_max": 1}
@@ -51,8 +52,8 @@ func celikOutcomes(t *testing.T) (*sweep.Spec, []sweep.Job, map[string]sweep.Out
 }
 
 func TestBuildFunctionalGCICelik(t *testing.T) {
-	spec, jobs, outs := celikOutcomes(t)
-	studies, _, err := Build(spec, jobs, outs, Options{})
+	sp, jobs, outs := celikOutcomes(t)
+	studies, _, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -73,18 +74,18 @@ func TestBuildFunctionalGCICelik(t *testing.T) {
 	if f.Functional != "entropy" || !reflect.DeepEqual(f.NX, []int{180, 100, 90}) || !reflect.DeepEqual(f.NY, []int{100, 80, 50}) || len(f.Records) != 1 || f.LeastSquares != nil {
 		t.Fatalf("GCI entry %+v", f)
 	}
-	// Against sweep.GCI on the same values and h = (1/N)^(1/2): the same
+	// Against verify.GCI on the same values and h = (1/N)^(1/2): the same
 	// record, up to the rounding of h computed as (dx dy)^(1/2).
-	h, err := sweep.SpacingsFromCells([]float64{18000, 8000, 4500}, 2)
+	h, err := verify.SpacingsFromCells([]float64{18000, 8000, 4500}, 2)
 	if err != nil {
 		t.Fatal(err)
 	}
-	ref, err := sweep.GCI([]float64{6.063, 5.972, 5.863}, h, sweep.GCIOptions{})
+	ref, err := verify.GCI([]float64{6.063, 5.972, 5.863}, h, verify.GCIOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	got, want := f.Records[0], ref.Records[0]
-	if got.Convergence != sweep.Monotone || want.Convergence != sweep.Monotone || got.SafetyFactor != 1.25 || len(got.Notes) != 0 {
+	if got.Convergence != verify.Monotone || want.Convergence != verify.Monotone || got.SafetyFactor != 1.25 || len(got.Notes) != 0 {
 		t.Errorf("record: convergence %q, Fs %g, notes %v", got.Convergence, got.SafetyFactor, got.Notes)
 	}
 	for _, q := range []struct {
@@ -97,7 +98,7 @@ func TestBuildFunctionalGCICelik(t *testing.T) {
 		{"r32", got.R32, want.R32}, {"r21", &got.R21, &want.R21},
 	} {
 		if q.got == nil || q.want == nil || math.Abs(*q.got-*q.want) > 1e-12*math.Abs(*q.want) {
-			t.Errorf("%s: tables %v, sweep.GCI %v", q.name, deref(q.got), deref(q.want))
+			t.Errorf("%s: tables %v, verify.GCI %v", q.name, deref(q.got), deref(q.want))
 		}
 	}
 	// And the digits printed by Celik et al. 2008: p = 1.53, phi_ext = 6.1685,
@@ -128,7 +129,7 @@ func TestBuildFunctionalGCICelik(t *testing.T) {
 		}
 	}
 	// No exact solution: no error verdict, and the summary says why.
-	if g.Verdict.Status != sweep.StatusInsufficient || !strings.Contains(g.Verdict.Summary, "no exact solution") {
+	if g.Verdict.Status != verify.StatusInsufficient || !strings.Contains(g.Verdict.Summary, "no exact solution") {
 		t.Errorf("verdict %+v", g.Verdict)
 	}
 }
@@ -141,7 +142,7 @@ func deref(p *float64) any {
 }
 
 // Four grids with non-integer, unequal refinement ratios: one record per
-// successive triple and the least-squares fit, each the same as sweep.GCI
+// successive triple and the least-squares fit, each the same as verify.GCI
 // over the grids' actual spacings. phi = 1 + 0.3 h^1.5 exactly, so every
 // triple shows order 1.5 (law: Richardson's model phi = phi_0 + C h^p) and
 // extrapolates to 1.
@@ -152,11 +153,11 @@ case = "quadrants"
 refine = { nx = [40, 60, 90, 150] }
 functional = "rho_max"
 `
-	spec, jobs, outs := functionalSweep(t, src, func(j sweep.Job) map[string]float64 {
+	sp, jobs, outs := functionalSweep(t, src, func(j job.Job) map[string]float64 {
 		h := 1 / float64(atoi(j.Params["nx"]))
 		return map[string]float64{"rho_max": 1 + 0.3*math.Pow(h, 1.5)}
 	})
-	studies, _, err := Build(spec, jobs, outs, Options{})
+	studies, _, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -169,7 +170,7 @@ functional = "rho_max"
 	for i, h := range hs {
 		phi[i] = 1 + 0.3*math.Pow(h, 1.5)
 	}
-	ref, err := sweep.GCI(phi, hs, sweep.GCIOptions{})
+	ref, err := verify.GCI(phi, hs, verify.GCIOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -177,7 +178,7 @@ functional = "rho_max"
 		w := ref.Records[i]
 		if !reflect.DeepEqual(r.Grids, w.Grids) || math.Abs(*r.Order-*w.Order) > 1e-9 || math.Abs(*r.Order-1.5) > 1e-6 ||
 			math.Abs(*r.Extrapolated-1) > 1e-9 || math.Abs(r.R21-w.R21) > 1e-12 {
-			t.Errorf("record %d: grids %v order %v ext %v r21 %g; sweep.GCI grids %v order %v r21 %g",
+			t.Errorf("record %d: grids %v order %v ext %v r21 %g; verify.GCI grids %v order %v r21 %g",
 				i, r.Grids, *r.Order, *r.Extrapolated, r.R21, w.Grids, *w.Order, w.R21)
 		}
 	}
@@ -209,7 +210,7 @@ fixed = { t_end = 0.5 }
 design_order = 2
 refine = { nx = [16, 32] }
 `
-	spec, jobs, outs := functionalSweep(t, src, func(j sweep.Job) map[string]float64 {
+	sp, jobs, outs := functionalSweep(t, src, func(j job.Job) map[string]float64 {
 		n := float64(atoi(j.Params["nx"]))
 		if j.Case == "vortex" {
 			return map[string]float64{"entropy": -1 / n, "rho_min": 0.5}
@@ -218,11 +219,11 @@ refine = { nx = [16, 32] }
 	})
 	for id, o := range outs { // the vortex has an exact solution: give it errors
 		if j := jobOf(jobs, id); j.Case == "vortex" {
-			o.Errors = map[string]fv2d.Norms{"rho": {L1: 1 / float64(atoi(j.Params["nx"])), L2: 1, Linf: 1}}
+			o.Errors = map[string]job.Norms{"rho": {L1: 1 / float64(atoi(j.Params["nx"])), L2: 1, Linf: 1}}
 			outs[id] = o
 		}
 	}
-	studies, _, err := Build(spec, jobs, outs, Options{})
+	studies, _, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -239,41 +240,41 @@ refine = { nx = [16, 32] }
 		t.Errorf("vortex: exact %v functionals %v", v.Exact, v.Functionals)
 	}
 	// The verdict's summary does not repeat its status.
-	if vd := v.Groups[0].Verdict; vd.Status != sweep.StatusLow || strings.HasPrefix(vd.Summary, vd.Status) || !strings.HasPrefix(vd.Summary, "finest-pair order 1") {
+	if vd := v.Groups[0].Verdict; vd.Status != verify.StatusLow || strings.HasPrefix(vd.Summary, vd.Status) || !strings.HasPrefix(vd.Summary, "finest-pair order 1") {
 		t.Errorf("vortex verdict %+v", vd)
 	}
-	studies, _, err = Build(spec, jobs, outs, Options{Functional: "rho_min"})
+	studies, _, err = Build(sp, jobs, outs, Options{Functional: "rho_min"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if q, v := studies[0], studies[1]; len(q.Functionals) != 2 || !reflect.DeepEqual(v.Functionals, []string{"rho_min"}) || len(v.Groups[0].GCI) != 1 {
 		t.Errorf("--functional rho_min: quadrants %v, vortex %v", q.Functionals, v.Functionals)
 	}
-	if _, _, err := Build(spec, jobs, outs, Options{Functional: "lift"}); err == nil || !strings.Contains(err.Error(), `"lift"`) || !strings.Contains(err.Error(), "rho_max") {
+	if _, _, err := Build(sp, jobs, outs, Options{Functional: "lift"}); err == nil || !strings.Contains(err.Error(), `"lift"`) || !strings.Contains(err.Error(), "rho_max") {
 		t.Errorf("unknown functional: %v", err)
 	}
 }
 
-func jobOf(jobs []sweep.Job, id string) sweep.Job {
+func jobOf(jobs []job.Job, id string) job.Job {
 	for _, j := range jobs {
 		if j.ID == id {
 			return j
 		}
 	}
-	return sweep.Job{}
+	return job.Job{}
 }
 
 // A functional that is missing on a grid, or too few grids, is a note,
 // not a failure of the tables.
 func TestBuildFunctionalGCINotes(t *testing.T) {
-	spec, jobs, outs := celikOutcomes(t)
+	sp, jobs, outs := celikOutcomes(t)
 	for id, o := range outs {
 		if j := jobOf(jobs, id); j.Params["nx"] != "180" {
-			o.Status, o.Functionals, o.Error = sweep.StatusFailed, nil, "diverged"
+			o.Status, o.Functionals, o.Error = job.StatusFailed, nil, "diverged"
 			outs[id] = o
 		}
 	}
-	studies, _, err := Build(spec, jobs, outs, Options{})
+	studies, _, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -287,8 +288,8 @@ func TestBuildFunctionalGCINotes(t *testing.T) {
 // same cells as the text tables, and no error columns without an exact
 // solution.
 func TestWriteTablesGCI(t *testing.T) {
-	spec, jobs, outs := celikOutcomes(t)
-	studies, _, err := Build(spec, jobs, outs, Options{})
+	sp, jobs, outs := celikOutcomes(t)
+	studies, _, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

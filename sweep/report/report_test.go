@@ -10,8 +10,9 @@ import (
 	"testing"
 	"time"
 
-	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/verify"
 )
 
 const testSpec = `name = "rep"
@@ -33,34 +34,34 @@ refine = { nx = [16, 32] }
 // fakeOutcomes gives every job of the spec an outcome whose L1(rho) error
 // follows e = C h^p exactly (p = 2 for mc, 1.5 for minmod, 1 for godunov),
 // except one failed job and one left pending.
-func fakeOutcomes(t *testing.T) (*sweep.Spec, []sweep.Job, map[string]sweep.Outcome) {
+func fakeOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) {
 	t.Helper()
-	spec, jobs := parseExpand(t, "rep.toml", testSpec)
-	outs := map[string]sweep.Outcome{}
+	sp, jobs := parseExpand(t, "rep.toml", testSpec)
+	outs := map[string]job.Outcome{}
 	for _, j := range jobs {
 		h := 10 / float64(atoi(j.Params["nx"]))
 		p := map[string]float64{"minmod": 1.5, "mc": 2}[j.Params["limiter"]]
 		if j.Params["scheme"] == "godunov" {
 			p = 1
 		}
-		o := sweep.Outcome{JobID: j.ID, Sweep: "rep", Status: sweep.StatusDone, Attempts: 1, Worker: "w1",
+		o := job.Outcome{JobID: j.ID, Sweep: "rep", Status: job.StatusDone, Attempts: 1, Worker: "w1",
 			WallS:  0.001 * math.Pow(10/h, 3),
-			Errors: map[string]fv2d.Norms{"rho": {L1: 0.01 * math.Pow(h, p), L2: 0.02 * math.Pow(h, p), Linf: 0.1 * math.Pow(h, p)}}}
+			Errors: map[string]job.Norms{"rho": {L1: 0.01 * math.Pow(h, p), L2: 0.02 * math.Pow(h, p), Linf: 0.1 * math.Pow(h, p)}}}
 		switch {
 		case j.Study == 2 && j.Params["nx"] == "32":
-			o = sweep.Outcome{JobID: j.ID, Sweep: "rep", Status: sweep.StatusFailed, Attempts: 3, Worker: "w2",
+			o = job.Outcome{JobID: j.ID, Sweep: "rep", Status: job.StatusFailed, Attempts: 3, Worker: "w2",
 				Error: `diverged at t=0.1 (step 7): negative pressure <p>&"x"`}
 		case j.Study == 1 && j.Params["limiter"] == "minmod" && j.Params["nx"] == "64":
 			continue // pending
 		}
 		outs[j.ID] = o
 	}
-	return spec, jobs, outs
+	return sp, jobs, outs
 }
 
 func TestBuildTables(t *testing.T) {
-	spec, jobs, outs := fakeOutcomes(t)
-	studies, fails, err := Build(spec, jobs, outs, Options{})
+	sp, jobs, outs := fakeOutcomes(t)
+	studies, fails, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -95,7 +96,7 @@ func TestBuildTables(t *testing.T) {
 			t.Errorf("mc row %d: observed order %.15g, want 2", i+1, r.Order)
 		}
 	}
-	if !math.IsNaN(mc.Rows[0].Order) || !mc.Fitted || math.Abs(mc.Fit.Order-2) > 1e-12 || mc.Verdict.Status != sweep.StatusPass {
+	if !math.IsNaN(mc.Rows[0].Order) || !mc.Fitted || math.Abs(mc.Fit.Order-2) > 1e-12 || mc.Verdict.Status != verify.StatusPass {
 		t.Errorf("mc: first order %v fit %+v verdict %+v", mc.Rows[0].Order, mc.Fit, mc.Verdict)
 	}
 	// minmod: order 1.5 on two finished grids, design 2 ± 0.2: low.
@@ -103,12 +104,12 @@ func TestBuildTables(t *testing.T) {
 	if mm.Label != "limiter=minmod" {
 		mm = s1.Groups[0]
 	}
-	if mm.Rows[2].Status != "pending" || !math.IsNaN(mm.Rows[2].Err) || mm.Fit.N != 2 || mm.Verdict.Status != sweep.StatusLow {
+	if mm.Rows[2].Status != "pending" || !math.IsNaN(mm.Rows[2].Err) || mm.Fit.N != 2 || mm.Verdict.Status != verify.StatusLow {
 		t.Errorf("minmod: last row %+v, fit %+v, verdict %+v", mm.Rows[2], mm.Fit, mm.Verdict)
 	}
 	// Study 2: godunov with its failed fine grid: one usable grid, no fit.
 	s2 := studies[1]
-	if s2.Groups[0].Label != "vortex" || s2.Failed != 1 || s2.Groups[0].Fitted || s2.Groups[0].Verdict.Status != sweep.StatusInsufficient {
+	if s2.Groups[0].Label != "vortex" || s2.Failed != 1 || s2.Groups[0].Fitted || s2.Groups[0].Verdict.Status != verify.StatusInsufficient {
 		t.Errorf("study 2: %+v", s2.Groups[0])
 	}
 	if f := fails[0]; f.Study != 2 || f.Attempts != 3 || !strings.Contains(f.Reason, "negative pressure") || !strings.Contains(f.Params, "nx=32") {
@@ -117,18 +118,18 @@ func TestBuildTables(t *testing.T) {
 }
 
 func TestBuildOptions(t *testing.T) {
-	spec, jobs, outs := fakeOutcomes(t)
-	studies, _, err := Build(spec, jobs, outs, Options{Norm: "linf"})
+	sp, jobs, outs := fakeOutcomes(t)
+	studies, _, err := Build(sp, jobs, outs, Options{Norm: "linf"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if r := studies[0].Groups[0].Rows[0]; r.Err != outs[r.JobID].Errors["rho"].Linf {
 		t.Errorf("linf: err %g", r.Err)
 	}
-	if _, _, err := Build(spec, jobs, outs, Options{Norm: "l3"}); err == nil || !strings.Contains(err.Error(), `norm "l3"`) {
+	if _, _, err := Build(sp, jobs, outs, Options{Norm: "l3"}); err == nil || !strings.Contains(err.Error(), `norm "l3"`) {
 		t.Errorf("norm l3: %v", err)
 	}
-	if _, _, err := Build(spec, jobs, outs, Options{Var: "E2"}); err == nil || !strings.Contains(err.Error(), `"E2"`) {
+	if _, _, err := Build(sp, jobs, outs, Options{Var: "E2"}); err == nil || !strings.Contains(err.Error(), `"E2"`) {
 		t.Errorf("var E2: %v", err)
 	}
 	// Without a spec: design order from the scheme, default tolerance.
@@ -136,14 +137,14 @@ func TestBuildOptions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if s := studies[0]; s.Tol != sweep.DefaultOrderTol || s.Label != "" || s.Groups[0].Verdict.Design != 2 {
+	if s := studies[0]; s.Tol != spec.DefaultOrderTol || s.Label != "" || s.Groups[0].Verdict.Design != 2 {
 		t.Errorf("no spec: %+v", s)
 	}
 }
 
 func TestSeries(t *testing.T) {
-	spec, jobs, outs := fakeOutcomes(t)
-	studies, _, _ := Build(spec, jobs, outs, Options{})
+	sp, jobs, outs := fakeOutcomes(t)
+	studies, _, _ := Build(sp, jobs, outs, Options{})
 	conv := ConvergenceSeries(studies[0])
 	cost := CostSeries(studies[0])
 	if len(conv) != 2 || len(cost) != 2 {
@@ -164,22 +165,22 @@ func TestSeries(t *testing.T) {
 }
 
 // parseExpand parses the spec src and expands it into its jobs.
-func parseExpand(t *testing.T, file, src string) (*sweep.Spec, []sweep.Job) {
+func parseExpand(t *testing.T, file, src string) (*spec.Spec, []job.Job) {
 	t.Helper()
-	spec, err := sweep.ParseSpec(file, []byte(src), sweep.Limits{})
+	sp, err := spec.Parse(file, []byte(src), spec.Limits{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	jobs, err := spec.Expand()
+	jobs, err := sp.Expand()
 	if err != nil {
 		t.Fatal(err)
 	}
-	return spec, jobs
+	return sp, jobs
 }
 
 func sampleReport(t *testing.T) *Report {
-	spec, jobs, outs := fakeOutcomes(t)
-	studies, fails, err := Build(spec, jobs, outs, Options{})
+	sp, jobs, outs := fakeOutcomes(t)
+	studies, fails, err := Build(sp, jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -7,7 +7,7 @@ import (
 	"strings"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
 	"fvsweep/sweep/plots"
 )
 
@@ -29,7 +29,7 @@ func SnapshotVars(conserved []string) []string {
 // solution); the Euler pressure then assumes gamma = 1.4 (air, common
 // practice), since a snapshot does not record gamma. An unknown name is an
 // error listing the available ones.
-func SnapshotField(h sweep.FieldHeader, data [][]float32, name string, prob *fv2d.Problem) (plots.Field, func(x, y float64) float64, error) {
+func SnapshotField(h field.Header, data [][]float32, name string, prob *fv2d.Problem) (plots.Field, func(x, y float64) float64, error) {
 	avail := SnapshotVars(h.Vars)
 	if !slices.Contains(avail, name) {
 		return plots.Field{}, nil, fmt.Errorf("variable %q not in the snapshot (have %s)", name, strings.Join(avail, ", "))

@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/field"
 )
 
 // Primitive variables from the conserved ones of an ideal gas (law):
@@ -14,7 +14,7 @@ import (
 // State rho = 2, u = 0.5, v = -1, p = 3, gamma = 1.4: mx = 1, my = -2,
 // E = 3/0.4 + 0.5*2*(0.25+1) = 8.75.
 func TestSnapshotFieldEuler(t *testing.T) {
-	h := sweep.FieldHeader{Vars: fv2d.Euler.Vars(), NX: 2, NY: 1, X0: 0, Y0: 0, DX: 0.5, DY: 1, T: 0.25}
+	h := field.Header{Vars: fv2d.Euler.Vars(), NX: 2, NY: 1, X0: 0, Y0: 0, DX: 0.5, DY: 1, T: 0.25}
 	data := [][]float32{{2, 2}, {1, 1}, {-2, -2}, {8.75, 8.75}}
 	prob := &fv2d.Problem{Eq: fv2d.Euler, Gamma: 1.4,
 		Exact: func(x, y, t float64, w []float64) { w[0], w[1], w[2], w[3] = 2, 0.5, -1, 3+t }}

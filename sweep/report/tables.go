@@ -8,7 +8,7 @@
 // WriteTables. Cases with an exact solution are judged by their error norms
 // and observed orders; functionals of the solution (the only measure when
 // there is no exact solution) by the grid convergence index of Celik et al.
-// 2008 (sweep.GCI).
+// 2008 (verify.GCI).
 package report
 
 import (
@@ -21,7 +21,9 @@ import (
 	"strings"
 
 	"fvsweep/fv2d"
-	"fvsweep/sweep"
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
+	"fvsweep/sweep/verify"
 )
 
 // GridRow is one grid of a convergence table.
@@ -49,13 +51,13 @@ type GridRow struct {
 // Group is one convergence table: the runs of a study that differ only in
 // their grid.
 type Group struct {
-	Label   string             `json:"label"`  // the parameters that vary between groups of the study, "k=v ..."
-	Ident   string             `json:"ident"`  // sweep.Job.Group: every parameter but the grid
-	Params  map[string]string  `json:"params"` // parameters of the coarsest grid's job
-	Rows    []GridRow          `json:"rows"`   // coarsest grid first
-	Fitted  bool               `json:"fitted"`
-	Fit     sweep.Fit          `json:"fit"`
-	Verdict sweep.OrderVerdict `json:"verdict"`
+	Label   string              `json:"label"`  // the parameters that vary between groups of the study, "k=v ..."
+	Ident   string              `json:"ident"`  // job.Job.Group: every parameter but the grid
+	Params  map[string]string   `json:"params"` // parameters of the coarsest grid's job
+	Rows    []GridRow           `json:"rows"`   // coarsest grid first
+	Fitted  bool                `json:"fitted"`
+	Fit     verify.Fit          `json:"fit"`
+	Verdict verify.OrderVerdict `json:"verdict"`
 	// GCI is the solution verification of each of Study.Functionals over
 	// the group's finished grids, in the order of Study.Functionals.
 	GCI []FunctionalGCI `json:"gci,omitempty"`
@@ -98,7 +100,7 @@ type Failure struct {
 // Options choose what the tables judge. Empty fields take the study's
 // setting from the spec, and without a spec the first conserved variable of
 // the case, the L1 norm, the design order of the scheme and
-// sweep.DefaultOrderTol. Functional applies to the studies whose results
+// spec.DefaultOrderTol. Functional applies to the studies whose results
 // report it; it is an error when no study's results do.
 type Options struct {
 	Var, Norm  string
@@ -108,7 +110,7 @@ type Options struct {
 // Norms are the names Options.Norm accepts.
 var Norms = []string{"l1", "l2", "linf"}
 
-func normOf(n fv2d.Norms, name string) float64 {
+func normOf(n job.Norms, name string) float64 {
 	switch name {
 	case "l1":
 		return n.L1
@@ -126,11 +128,11 @@ func normOf(n fv2d.Norms, name string) float64 {
 // Outcomes are keyed by job ID; a job without one is pending. It is an
 // error when o names an unknown norm, or a variable that no outcome of a
 // study reports while some report others.
-func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome, o Options) ([]Study, []Failure, error) {
+func Build(sp *spec.Spec, jobs []job.Job, outcomes map[string]job.Outcome, o Options) ([]Study, []Failure, error) {
 	if o.Norm != "" && !slices.Contains(Norms, o.Norm) {
 		return nil, nil, fmt.Errorf("norm %q: want one of %s", o.Norm, strings.Join(Norms, ", "))
 	}
-	byStudy := map[int][]sweep.Job{}
+	byStudy := map[int][]job.Job{}
 	for _, j := range jobs {
 		byStudy[j.Study] = append(byStudy[j.Study], j)
 	}
@@ -144,9 +146,9 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 	reported := map[string]bool{} // functionals any result reports, for the Options.Functional error
 	for _, k := range idx {
 		sj := byStudy[k]
-		st := Study{Index: k, Case: sj[0].Case, Tol: sweep.DefaultOrderTol, TolHi: sweep.DefaultOrderTol, Norm: "l1"}
-		if spec != nil && k >= 1 && k <= len(spec.Studies) {
-			ss := spec.Studies[k-1]
+		st := Study{Index: k, Case: sj[0].Case, Tol: spec.DefaultOrderTol, TolHi: spec.DefaultOrderTol, Norm: "l1"}
+		if sp != nil && k >= 1 && k <= len(sp.Studies) {
+			ss := sp.Studies[k-1]
 			st.Var, st.Design, st.Tol, st.TolHi, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.OrderTolHi, ss.Functional
 			if ss.Label != ss.Case {
 				st.Label = ss.Label
@@ -171,7 +173,7 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 			return nil, nil, fmt.Errorf("study %d: %w", k, err)
 		}
 		for _, j := range sj {
-			if out, ok := outcomes[j.ID]; ok && out.Status == sweep.StatusFailed {
+			if out, ok := outcomes[j.ID]; ok && out.Status == job.StatusFailed {
 				fails = append(fails, Failure{JobID: j.ID, Study: k, Params: canonical(j.Params),
 					Attempts: out.Attempts, Worker: out.Worker, Reason: out.Error})
 			}
@@ -186,8 +188,8 @@ func Build(spec *sweep.Spec, jobs []sweep.Job, outcomes map[string]sweep.Outcome
 }
 
 // fill builds the groups of st from its jobs.
-func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error {
-	byGroup := map[string][]sweep.Job{}
+func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
+	byGroup := map[string][]job.Job{}
 	var order []string
 	for _, j := range jobs {
 		if _, seen := byGroup[j.Group]; !seen {
@@ -209,9 +211,9 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 				r.Phi[i] = math.NaN()
 			}
 			if out, ok := outcomes[j.ID]; ok {
-				r.Status, r.WallS = out.Status, out.WallS
+				r.Status, r.WallS = string(out.Status), out.WallS
 				r.CPUS = out.WallS * math.Max(1, float64(atoi(j.Params["threads"])))
-				if out.Status == sweep.StatusDone {
+				if out.Status == job.StatusDone {
 					if n, ok := out.Errors[st.Var]; ok {
 						r.Err = normOf(n, st.Norm)
 						seenVar = true
@@ -238,9 +240,9 @@ func (st *Study) fill(jobs []sweep.Job, outcomes map[string]sweep.Outcome) error
 		st.Groups = append(st.Groups, g)
 		for _, r := range g.Rows {
 			switch r.Status {
-			case sweep.StatusDone:
+			case string(job.StatusDone):
 				st.Done++
-			case sweep.StatusFailed:
+			case string(job.StatusFailed):
 				st.Failed++
 			default:
 				st.Pending++
@@ -267,23 +269,23 @@ func (st *Study) judge(g *Group) {
 		}
 	}
 	// Order of each grid against the next coarser one (NaN where undefined).
-	for i, p := range sweep.ObservedOrders(allH, allE) {
+	for i, p := range verify.ObservedOrders(allH, allE) {
 		g.Rows[i+1].Order = p
 	}
-	if fit, err := sweep.FitOrder(hs, es); err == nil {
+	if fit, err := verify.FitOrder(hs, es); err == nil {
 		g.Fit, g.Fitted = fit, true
 	}
 	design, ok := st.designOrder(g)
 	switch {
 	case !st.Exact:
-		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Design: design, Tol: st.Tol,
+		g.Verdict = verify.OrderVerdict{Status: verify.StatusInsufficient, Design: design, Tol: st.Tol,
 			Summary: "no exact solution, so no errors to judge; the GCI of the functionals estimates the discretisation error"}
 		return
 	case !ok:
-		g.Verdict = sweep.OrderVerdict{Status: sweep.StatusInsufficient, Summary: "no design order: set design_order in the study"}
+		g.Verdict = verify.OrderVerdict{Status: verify.StatusInsufficient, Summary: "no design order: set design_order in the study"}
 		return
 	}
-	g.Verdict = sweep.VerdictBand(hs, es, design, st.Tol, st.TolHi)
+	g.Verdict = verify.VerdictBand(hs, es, design, st.Tol, st.TolHi)
 	g.Verdict.Summary = strings.TrimPrefix(g.Verdict.Summary, g.Verdict.Status+": ")
 }
 
@@ -292,12 +294,12 @@ func (st *Study) designOrder(g *Group) (float64, bool) {
 	if st.Design > 0 {
 		return st.Design, true
 	}
-	return sweep.DesignOrder(g.Params["scheme"])
+	return verify.DesignOrder(g.Params["scheme"])
 }
 
 // problem sets up the case of j; nil when the case or its parameters are
 // unknown to this build.
-func problem(j sweep.Job) (*fv2d.Problem, fv2d.Values) {
+func problem(j job.Job) (*fv2d.Problem, fv2d.Values) {
 	v, err := fv2d.Resolve(j.Case, j.Params)
 	if err != nil {
 		return nil, v
@@ -320,7 +322,7 @@ func problem(j sweep.Job) (*fv2d.Problem, fv2d.Values) {
 // 2008, eq. 1, h = (A/N)^(1/2) in 2-D), dx alone when only nx varies (a
 // strip refined along its length), dy alone when only ny varies. Both are
 // NaN when the case or its parameters are unknown here.
-func spacings(j sweep.Job, gj []sweep.Job) (h, hRep float64) {
+func spacings(j job.Job, gj []job.Job) (h, hRep float64) {
 	p, v := problem(j)
 	if p == nil || v.Int("nx") <= 0 || v.Int("ny") <= 0 {
 		return math.NaN(), math.NaN()
@@ -346,7 +348,7 @@ func spacings(j sweep.Job, gj []sweep.Job) (h, hRep float64) {
 
 // varyingKeys returns the parameters, other than the grid, whose values
 // differ between the groups, sorted.
-func varyingKeys(groups map[string][]sweep.Job) []string {
+func varyingKeys(groups map[string][]job.Job) []string {
 	vals := map[string]map[string]bool{}
 	for _, gj := range groups {
 		for k, v := range gj[0].Params {

@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"fmt"
@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 )
 
 func TestExpandCounts(t *testing.T) {
@@ -18,7 +19,7 @@ func TestExpandCounts(t *testing.T) {
 	if len(jobs) != 38 || s.Count() != 38 || s.Studies[0].Count() != 36 || s.Studies[1].Count() != 2 {
 		t.Fatalf("jobs = %d, Count = %d, %d, %d; want 38, 38, 36, 2", len(jobs), s.Count(), s.Studies[0].Count(), s.Studies[1].Count())
 	}
-	groups := map[string][]Job{}
+	groups := map[string][]job.Job{}
 	pairs := map[string]bool{}
 	for _, j := range jobs {
 		if j.Study != 1 {
@@ -77,8 +78,8 @@ func TestExpandIDsAndOrder(t *testing.T) {
 		ids[j.ID] = true
 		// The ID is JobID of the job's own parameters: a worker can check it.
 		v, err := fv2d.Resolve(j.Case, j.Params)
-		if err != nil || JobID(v) != j.ID {
-			t.Errorf("job %s: JobID(Resolve(params)) = %s, %v", j.ID, JobID(v), err)
+		if err != nil || job.NewID(v.String()) != j.ID {
+			t.Errorf("job %s: JobID(Resolve(params)) = %s, %v", j.ID, job.NewID(v.String()), err)
 		}
 		if w := fv2d.Estimate(v).Work(); w != j.Cost {
 			t.Errorf("job %s: cost %v, want Estimate %v", j.ID, j.Cost, w)
@@ -110,7 +111,7 @@ func TestCanonicalIDs(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		ids[JobID(v)] = true
+		ids[job.NewID(v.String())] = true
 	}
 	for _, cfl := range []string{"0.50", "0.5", "5e-1", "0.500_0"} {
 		s := mustParse(t, study("case = \"spec-test-case\"\nfixed = { cfl = "+cfl+" }\n"), DefaultLimits())
@@ -229,7 +230,7 @@ func TestEachOrder(t *testing.T) {
 // bench100k is a study of 10 x 10 x 10 x 10 x 10 = 100,000 runs.
 func bench100k(b *testing.B) *Spec {
 	list := "[0, 1, 2, 3, 4, 5, 6, 7, 8, 9]"
-	s, err := ParseSpec("bench.toml", []byte(study("case = \"spec-test-case\"\naxes = { k0 = "+list+", k1 = "+list+
+	s, err := Parse("bench.toml", []byte(study("case = \"spec-test-case\"\naxes = { k0 = "+list+", k1 = "+list+
 		", k2 = "+list+", k3 = "+list+" }\nrefine = { nx = [4, 5, 6, 7, 8, 9, 10, 11, 12, 13] }\n")), DefaultLimits())
 	if err != nil {
 		b.Fatal(err)
@@ -253,7 +254,7 @@ func BenchmarkEach(b *testing.B) {
 	s := bench100k(b)
 	for b.Loop() {
 		n := 0
-		err := s.Each(func(Job) error { n++; return nil })
+		err := s.Each(func(job.Job) error { n++; return nil })
 		if err != nil || n != 100_000 {
 			b.Fatal(n, err)
 		}

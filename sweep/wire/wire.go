@@ -1,7 +1,5 @@
-package sweep
-
-// The wire protocol between coordinator, workers and client commands: the
-// names of the NATS subjects, streams, consumers and buckets, and the
+// Package wire is the protocol between coordinator, workers and client
+// commands: the names of the NATS subjects, streams, consumers and buckets, and the
 // messages sent on them, each with a strict decoder. This file is pure: it
 // imports nothing of NATS, so every side shares one definition.
 //
@@ -14,17 +12,13 @@ package sweep
 //
 // The cancel marks live in the key-value bucket P_canceled (key S), field
 // snapshots in the object store P_fields (object ID).
+package wire
 
 import (
-	"bytes"
 	"crypto/sha256"
-	"encoding/binary"
 	"encoding/hex"
-	"encoding/json"
-	"errors"
 	"fmt"
-	"io"
-	"math"
+	"fvsweep/sweep/job"
 	"strings"
 	"time"
 )
@@ -35,7 +29,7 @@ const DefaultPrefix = "fvsweep"
 
 // MaxMessage is the largest message the decoders accept (NATS's default
 // max_payload is 1 MiB).
-const MaxMessage = 1 << 20
+const MaxMessage = job.MaxMessage
 
 // Names derives every subject, stream, consumer and bucket name from one
 // prefix, so two deployments can share a NATS server.
@@ -145,105 +139,6 @@ func isToken(s string) bool {
 	return true
 }
 
-// ValidJobID reports whether id looks like a JobID: 32 lower-case hex digits.
-func ValidJobID(id string) bool {
-	if len(id) != 32 {
-		return false
-	}
-	for i := 0; i < len(id); i++ {
-		c := id[i]
-		if !(c >= '0' && c <= '9' || c >= 'a' && c <= 'f') {
-			return false
-		}
-	}
-	return true
-}
-
-// decodeStrict unmarshals one JSON value into v, refusing unknown fields,
-// trailing data and messages over MaxMessage.
-func decodeStrict(what string, data []byte, v any) error {
-	if len(data) > MaxMessage {
-		return fmt.Errorf("%s: message of %d bytes exceeds %d", what, len(data), MaxMessage)
-	}
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(v); err != nil {
-		return fmt.Errorf("%s: %w", what, err)
-	}
-	if _, err := dec.Token(); err != io.EOF {
-		return fmt.Errorf("%s: trailing data after the JSON value", what)
-	}
-	return nil
-}
-
-// EncodeJob is the job message.
-func EncodeJob(j Job) ([]byte, error) { return json.Marshal(j) }
-
-// DecodeJob parses a job message and checks its shape: a valid ID, a sweep,
-// a case, parameters, a finite cost. It does not check the ID against the
-// parameters (that needs the case registry; the worker does it).
-func DecodeJob(data []byte) (Job, error) {
-	var j Job
-	if err := decodeStrict("job", data, &j); err != nil {
-		return Job{}, err
-	}
-	switch {
-	case !ValidJobID(j.ID):
-		return Job{}, fmt.Errorf("job: job_id %q is not 32 hex digits", j.ID)
-	case j.Sweep == "":
-		return Job{}, fmt.Errorf("job %s: no sweep", j.ID)
-	case j.Case == "":
-		return Job{}, fmt.Errorf("job %s: no case", j.ID)
-	case len(j.Params) == 0:
-		return Job{}, fmt.Errorf("job %s: no params", j.ID)
-	case math.IsNaN(j.Cost) || math.IsInf(j.Cost, 0) || j.Cost < 0:
-		return Job{}, fmt.Errorf("job %s: cost %v is not a finite non-negative number", j.ID, j.Cost)
-	}
-	return j, nil
-}
-
-// Outcome statuses.
-const (
-	StatusDone   = "done"
-	StatusFailed = "failed"
-)
-
-// EncodeOutcome is the result message.
-func EncodeOutcome(o Outcome) ([]byte, error) { return json.Marshal(o) }
-
-// DecodeOutcome parses a result message and checks its shape.
-func DecodeOutcome(data []byte) (Outcome, error) {
-	var o Outcome
-	if err := decodeStrict("result", data, &o); err != nil {
-		return Outcome{}, err
-	}
-	switch {
-	case !ValidJobID(o.JobID):
-		return Outcome{}, fmt.Errorf("result: job_id %q is not 32 hex digits", o.JobID)
-	case o.Sweep == "":
-		return Outcome{}, fmt.Errorf("result %s: no sweep", o.JobID)
-	case o.Status != StatusDone && o.Status != StatusFailed:
-		return Outcome{}, fmt.Errorf("result %s: status %q is neither done nor failed", o.JobID, o.Status)
-	case o.Status == StatusFailed && o.Error == "":
-		return Outcome{}, fmt.Errorf("result %s: failed without a reason", o.JobID)
-	case o.Attempts < 0:
-		return Outcome{}, fmt.Errorf("result %s: negative attempts", o.JobID)
-	}
-	// An empty map and an absent one mean the same; keep one spelling so that
-	// a decoded outcome re-encodes to what it decodes from.
-	if len(o.Errors) == 0 {
-		o.Errors = nil
-	}
-	if len(o.Functionals) == 0 {
-		o.Functionals = nil
-	}
-	if len(o.Totals) == 0 {
-		o.Totals = nil
-	}
-	return o, nil
-}
-
-// RunningJob is a job a worker is running now.
 type RunningJob struct {
 	JobID string    `json:"job_id"`
 	Sweep string    `json:"sweep"`
@@ -269,7 +164,7 @@ type WorkerReport struct {
 // DecodeWorkerReport parses a worker report.
 func DecodeWorkerReport(data []byte) (WorkerReport, error) {
 	var r WorkerReport
-	if err := decodeStrict("worker report", data, &r); err != nil {
+	if err := job.DecodeStrict("worker report", data, &r); err != nil {
 		return WorkerReport{}, err
 	}
 	if !isToken(r.ID) {
@@ -335,10 +230,10 @@ type RowsRequest struct {
 // Row is one job with its state: Status is done, failed, running or queued;
 // Outcome is nil unless done or failed.
 type Row struct {
-	Job     Job      `json:"job"`
-	Status  string   `json:"status"`
-	Worker  string   `json:"worker,omitempty"`
-	Outcome *Outcome `json:"outcome,omitempty"`
+	Job     job.Job      `json:"job"`
+	Status  job.Status   `json:"status"`
+	Worker  string       `json:"worker,omitempty"`
+	Outcome *job.Outcome `json:"outcome,omitempty"`
 }
 
 // RowsReply is one chunk of rows; Total is the sweep's job count. The
@@ -360,79 +255,4 @@ type CancelReply struct {
 }
 
 // Decode parses a request or reply of the API into v, strictly.
-func Decode(what string, data []byte, v any) error { return decodeStrict(what, data, v) }
-
-// Field snapshots: a little-endian binary object,
-//
-//	"FVF1" | u32 header length | JSON FieldHeader | float32 x NV x NX x NY
-//
-// interior cells only, variable by variable, x fastest.
-
-// FieldHeader describes a snapshot.
-type FieldHeader struct {
-	JobID string   `json:"job_id"`
-	Vars  []string `json:"vars"`
-	NX    int      `json:"nx"`
-	NY    int      `json:"ny"`
-	X0    float64  `json:"x0"`
-	Y0    float64  `json:"y0"`
-	DX    float64  `json:"dx"`
-	DY    float64  `json:"dy"`
-	T     float64  `json:"t"`
-}
-
-const fieldMagic = "FVF1"
-
-// EncodeField writes a snapshot of the interior values data[k][j*NX+i].
-func EncodeField(h FieldHeader, data [][]float32) ([]byte, error) {
-	if len(data) != len(h.Vars) {
-		return nil, fmt.Errorf("field: %d variables for %d names", len(data), len(h.Vars))
-	}
-	hdr, err := json.Marshal(h)
-	if err != nil {
-		return nil, err
-	}
-	n := h.NX * h.NY
-	out := make([]byte, 0, 8+len(hdr)+4*n*len(data))
-	out = append(out, fieldMagic...)
-	out = binary.LittleEndian.AppendUint32(out, uint32(len(hdr)))
-	out = append(out, hdr...)
-	for k, d := range data {
-		if len(d) != n {
-			return nil, fmt.Errorf("field: variable %s has %d values, want %d", h.Vars[k], len(d), n)
-		}
-		for _, x := range d {
-			out = binary.LittleEndian.AppendUint32(out, math.Float32bits(x))
-		}
-	}
-	return out, nil
-}
-
-// DecodeField parses a snapshot written by EncodeField.
-func DecodeField(b []byte) (FieldHeader, [][]float32, error) {
-	var h FieldHeader
-	if len(b) < 8 || string(b[:4]) != fieldMagic {
-		return h, nil, errors.New("field: not an fvsweep field snapshot")
-	}
-	hl := int(binary.LittleEndian.Uint32(b[4:8]))
-	if hl > len(b)-8 {
-		return h, nil, errors.New("field: truncated header")
-	}
-	if err := decodeStrict("field header", b[8:8+hl], &h); err != nil {
-		return h, nil, err
-	}
-	body := b[8+hl:]
-	n := h.NX * h.NY
-	if h.NX <= 0 || h.NY <= 0 || len(body) != 4*n*len(h.Vars) {
-		return h, nil, fmt.Errorf("field: %d data bytes for %d variables of %dx%d", len(body), len(h.Vars), h.NX, h.NY)
-	}
-	data := make([][]float32, len(h.Vars))
-	for k := range data {
-		d := make([]float32, n)
-		for i := range d {
-			d[i] = math.Float32frombits(binary.LittleEndian.Uint32(body[4*(k*n+i):]))
-		}
-		data[k] = d
-	}
-	return h, data, nil
-}
+func Decode(what string, data []byte, v any) error { return job.DecodeStrict(what, data, v) }

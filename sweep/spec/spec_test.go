@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"errors"
@@ -79,9 +79,9 @@ nx = [
 
 func mustParse(t *testing.T, src string, lim Limits) *Spec {
 	t.Helper()
-	s, err := ParseSpec("test.toml", []byte(src), lim)
+	s, err := Parse("test.toml", []byte(src), lim)
 	if err != nil {
-		t.Fatalf("ParseSpec: %v", err)
+		t.Fatalf("Parse: %v", err)
 	}
 	return s
 }
@@ -204,11 +204,11 @@ func TestParseSpecErrors(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := ParseSpec("test.toml", []byte(tc.src), DefaultLimits())
+			_, err := Parse("test.toml", []byte(tc.src), DefaultLimits())
 			t.Log(err)
-			var se *SpecError
+			var se *Error
 			if !errors.As(err, &se) {
-				t.Fatalf("err = %v, want a *SpecError", err)
+				t.Fatalf("err = %v, want a *Error", err)
 			}
 			if se.Line != tc.line || se.Key != tc.key || !strings.Contains(se.Msg, tc.msg) {
 				t.Errorf("got line %d key %q msg %q\nwant line %d key %q msg containing %q", se.Line, se.Key, se.Msg, tc.line, tc.key, tc.msg)
@@ -224,7 +224,7 @@ func TestParseSpecErrors(t *testing.T) {
 
 func TestErrorNamesStudy(t *testing.T) {
 	src := study("case = \"spec-test-case\"\n[[study]]\ncase = \"spec-test-case\"\naxes = { limiter = [\"x\"] }\n")
-	_, err := ParseSpec("configs/x.toml", []byte(src), DefaultLimits())
+	_, err := Parse("configs/x.toml", []byte(src), DefaultLimits())
 	want := `spec configs/x.toml:7: study 2: axes.limiter: "x" is not one of minmod, vanleer, mc, superbee`
 	if err == nil || err.Error() != want {
 		t.Errorf("err = %v\nwant  %s", err, want)
@@ -239,8 +239,8 @@ func TestJobLimit(t *testing.T) {
 	}
 	list := "[" + strings.Join(vals, ", ") + "]"
 	src := study("case = \"spec-test-case\"\naxes = { k0 = " + list + ", k1 = " + list + ", k2 = " + list + " }\n")
-	_, err := ParseSpec("big.toml", []byte(src), DefaultLimits())
-	var se *SpecError
+	_, err := Parse("big.toml", []byte(src), DefaultLimits())
+	var se *Error
 	if !errors.As(err, &se) || se.Line != 3 || se.Study != 1 || !strings.Contains(se.Msg, "1000000 jobs") ||
 		!strings.Contains(se.Msg, "limit of 200000") {
 		t.Fatalf("err = %v, want a refusal at line 3 naming 1000000 jobs and the limit", err)
@@ -251,11 +251,11 @@ func TestJobLimit(t *testing.T) {
 		axes = append(axes, fmt.Sprintf("k%d = %s", i, list))
 	}
 	src = study("case = \"spec-test-case\"\naxes = { " + strings.Join(axes, ", ") + " }\n")
-	if _, err := ParseSpec("huge.toml", []byte(src), DefaultLimits()); err == nil || !strings.Contains(err.Error(), "more than 9.2e18") {
+	if _, err := Parse("huge.toml", []byte(src), DefaultLimits()); err == nil || !strings.Contains(err.Error(), "more than 9.2e18") {
 		t.Errorf("err = %v, want a refusal of an overflowing count", err)
 	}
 	// A configured limit: the good spec has 3*2*2*3 + 2 = 38 runs.
-	if _, err := ParseSpec("good.toml", []byte(goodSpec), Limits{MaxJobs: 37}); err == nil ||
+	if _, err := Parse("good.toml", []byte(goodSpec), Limits{MaxJobs: 37}); err == nil ||
 		!strings.Contains(err.Error(), "expands to 38 jobs (this study 36), over the job limit of 37") {
 		t.Errorf("err = %v, want a refusal with the count 38", err)
 	}
@@ -268,8 +268,8 @@ func TestMemoryLimit(t *testing.T) {
 	// 100000^2 cells hold 4 conserved variables of 8 bytes: at least 320 GB
 	// for the state alone, over 8 GiB by any estimate.
 	src := study("case = \"spec-test-case\"\naxes = { limiter = [\"mc\"] }\nrefine = { nx = [64, 100000] }\n")
-	_, err := ParseSpec("mem.toml", []byte(src), DefaultLimits())
-	var se *SpecError
+	_, err := Parse("mem.toml", []byte(src), DefaultLimits())
+	var se *Error
 	if !errors.As(err, &se) || se.Line != 6 || se.Key != "refine.nx" ||
 		!strings.Contains(se.Msg, "grid 100000x100000 (at limiter=mc nx=100000 ny=100000)") || !strings.Contains(se.Msg, "per-job limit of 8 GiB") {
 		t.Fatalf("err = %v, want a memory refusal at refine.nx naming the grid", err)
@@ -281,7 +281,7 @@ func TestMemoryLimit(t *testing.T) {
 	}
 	b := fv2d.Estimate(v).Bytes
 	src = study("case = \"spec-test-case\"\nfixed = { nx = 64 }\n")
-	if _, err := ParseSpec("mem.toml", []byte(src), Limits{MaxBytes: b - 1}); err == nil || !strings.Contains(err.Error(), "mem.toml:5: study 1: fixed.nx:") {
+	if _, err := Parse("mem.toml", []byte(src), Limits{MaxBytes: b - 1}); err == nil || !strings.Contains(err.Error(), "mem.toml:5: study 1: fixed.nx:") {
 		t.Errorf("err = %v, want a refusal at fixed.nx with MaxBytes = estimate - 1", err)
 	}
 	mustParse(t, src, Limits{MaxBytes: b})
@@ -309,18 +309,18 @@ func TestLoadSpec(t *testing.T) {
 	if err := os.WriteFile(path, []byte(goodSpec), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	s, err := LoadSpec(path, Limits{})
+	s, err := Load(path, Limits{})
 	if err != nil || s.File != path || s.Name != "good-one" {
-		t.Fatalf("LoadSpec = %+v, %v", s, err)
+		t.Fatalf("Load = %+v, %v", s, err)
 	}
-	if _, err := LoadSpec(filepath.Join(dir, "none.toml"), Limits{}); err == nil || !strings.Contains(err.Error(), "none.toml") {
+	if _, err := Load(filepath.Join(dir, "none.toml"), Limits{}); err == nil || !strings.Contains(err.Error(), "none.toml") {
 		t.Errorf("missing file: err = %v", err)
 	}
 	big := filepath.Join(dir, "big.toml")
 	if err := os.WriteFile(big, []byte(strings.Repeat("#\n", MaxSpecBytes)), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := LoadSpec(big, Limits{}); err == nil || !strings.Contains(err.Error(), "larger than") {
+	if _, err := Load(big, Limits{}); err == nil || !strings.Contains(err.Error(), "larger than") {
 		t.Errorf("oversized file: err = %v", err)
 	}
 }
@@ -328,12 +328,12 @@ func TestLoadSpec(t *testing.T) {
 // TestConfigs parses every example spec in configs/ against the real cases:
 // an invalid config, or one naming a case that is not registered, fails here.
 func TestConfigs(t *testing.T) {
-	files, err := filepath.Glob("../configs/*.toml")
+	files, err := filepath.Glob("../../configs/*.toml")
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no configs found: %v", err)
 	}
 	for _, f := range files {
-		s, err := LoadSpec(f, DefaultLimits())
+		s, err := Load(f, DefaultLimits())
 		if err != nil {
 			t.Errorf("%v", err)
 			continue
@@ -353,7 +353,7 @@ func TestConfigs(t *testing.T) {
 // TestReadmeExample parses the example spec of the README's "Sweep specs"
 // section, so that the documentation stays true.
 func TestReadmeExample(t *testing.T) {
-	readme, err := os.ReadFile("../README.md")
+	readme, err := os.ReadFile("../../README.md")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -363,7 +363,7 @@ func TestReadmeExample(t *testing.T) {
 	if !ok || !ok2 || !ok3 {
 		t.Fatal("README has no toml example under \"## Sweep specs\"")
 	}
-	s, err := ParseSpec("README.md", []byte(block), DefaultLimits())
+	s, err := Parse("README.md", []byte(block), DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -381,11 +381,11 @@ func TestFirstErrorInOrder(t *testing.T) {
 	}
 	k0 := "k0 = [" + strings.Join(vals, ", ") + "]"
 	for i := 0; i < 5; i++ {
-		_, err := ParseSpec("o.toml", []byte(study("case = \"spec-test-case\"\nfixed = { test = 3 }\naxes = { amp = [0.1, 0.9], "+k0+" }\n")), DefaultLimits())
+		_, err := Parse("o.toml", []byte(study("case = \"spec-test-case\"\nfixed = { test = 3 }\naxes = { amp = [0.1, 0.9], "+k0+" }\n")), DefaultLimits())
 		if err == nil || !strings.HasSuffix(err.Error(), "(at amp=0.9 k0=0)") {
 			t.Fatalf("err = %v, want the run amp=0.9 k0=0", err)
 		}
-		_, err = ParseSpec("o.toml", []byte(study("case = \"spec-test-case\"\naxes = { "+k0+" }\nrefine = { nx = [64, 70000, 80000] }\n")), DefaultLimits())
+		_, err = Parse("o.toml", []byte(study("case = \"spec-test-case\"\naxes = { "+k0+" }\nrefine = { nx = [64, 70000, 80000] }\n")), DefaultLimits())
 		if err == nil || !strings.Contains(err.Error(), "grid 70000x70000 (at k0=0 nx=70000 ny=70000)") {
 			t.Fatalf("err = %v, want the run k0=0 nx=70000", err)
 		}

@@ -1,13 +1,42 @@
-package sweep
+package wire
 
 import (
 	"bytes"
 	"encoding/json"
+	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
 	"math"
 	"reflect"
 	"strings"
 	"testing"
 )
+
+func TestSweepToken(t *testing.T) {
+	for name, want := range map[string]string{
+		"blast-limiters": "blast-limiters",
+		"a_b-9":          "a_b-9",
+	} {
+		if got := SweepToken(name); got != want {
+			t.Errorf("SweepToken(%q) = %q, want %q", name, got, want)
+		}
+	}
+	for _, name := range []string{"with space", "dot.ted", "star*", strings.Repeat("x", 65), ""} {
+		got := SweepToken(name)
+		if !isToken(got) || got == name || len(got) != 17 {
+			t.Errorf("SweepToken(%q) = %q: want a hashed token", name, got)
+		}
+	}
+	n := Names{}
+	if got := n.JobSubject("s", "id"); got != "fvsweep.job.s.id" {
+		t.Errorf("JobSubject = %q", got)
+	}
+	if n.JobStream() != "FVSWEEP_JOBS" || n.JobFilter("s") != "fvsweep.job.s.*" {
+		t.Errorf("names %q %q", n.JobStream(), n.JobFilter("s"))
+	}
+	if _, err := NewNames("bad.prefix"); err == nil {
+		t.Error("NewNames accepted a dotted prefix")
+	}
+}
 
 // Fuzz targets for the decoders of the messages on the NATS subjects. Each
 // must never panic, must refuse what is over MaxMessage, and whatever it
@@ -15,15 +44,15 @@ import (
 // still satisfy the checks the decoder promises. Run in CI for a bounded
 // time each, e.g.
 //
-//	go test ./sweep -run '^$' -fuzz '^FuzzDecodeJob$' -fuzztime 20s
+//	go test ./sweep/wire -run '^$' -fuzz '^FuzzDecodeJob$' -fuzztime 20s
 
-var wireJob = Job{
+var wireJob = job.Job{
 	ID: "0123456789abcdef0123456789abcdef", Sweep: "s", Study: 1, Case: "burgers-sine",
 	Params: map[string]string{"nx": "32", "t_end": "0.1"}, Refine: "nx", Group: "g", Cost: 1234.5,
 }
 
-var wireOutcome = Outcome{
-	JobID: wireJob.ID, Sweep: "s", Status: StatusDone, Worker: "w1", Attempts: 2, WallS: 0.25,
+var wireOutcome = job.Outcome{
+	JobID: wireJob.ID, Sweep: "s", Status: job.StatusDone, Worker: "w1", Attempts: 2, WallS: 0.25,
 	Steps: 10, TFinal: 0.1, Functionals: map[string]float64{"mass": 1},
 }
 
@@ -65,18 +94,18 @@ func FuzzDecodeJob(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		j, err := DecodeJob(data)
+		j, err := job.Decode(data)
 		if err != nil {
 			if j.ID != "" || j.Params != nil {
 				t.Fatalf("refused job %q returned a partial value %+v", data, j)
 			}
 			return
 		}
-		if len(data) > MaxMessage || !ValidJobID(j.ID) || j.Sweep == "" || j.Case == "" || len(j.Params) == 0 ||
+		if len(data) > MaxMessage || !job.ValidID(j.ID) || j.Sweep == "" || j.Case == "" || len(j.Params) == 0 ||
 			math.IsNaN(j.Cost) || math.IsInf(j.Cost, 0) || j.Cost < 0 {
 			t.Fatalf("accepted a job that breaks the contract: %+v", j)
 		}
-		again, err := DecodeJob(mustJSON(j))
+		again, err := job.Decode(mustJSON(j))
 		if err != nil || !reflect.DeepEqual(again, j) {
 			t.Fatalf("round trip of %+v: %+v, %v", j, again, err)
 		}
@@ -86,21 +115,21 @@ func FuzzDecodeJob(f *testing.F) {
 func FuzzDecodeOutcome(f *testing.F) {
 	f.Add(mustJSON(wireOutcome))
 	failed := wireOutcome
-	failed.Status, failed.Error = StatusFailed, "diverged: negative density at step 4"
+	failed.Status, failed.Error = job.StatusFailed, "diverged: negative density at step 4"
 	f.Add(mustJSON(failed))
 	for _, b := range hostile() {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		o, err := DecodeOutcome(data)
+		o, err := job.DecodeOutcome(data)
 		if err != nil {
 			return
 		}
-		if len(data) > MaxMessage || !ValidJobID(o.JobID) || o.Sweep == "" || o.Attempts < 0 ||
-			(o.Status != StatusDone && o.Status != StatusFailed) || (o.Status == StatusFailed && o.Error == "") {
+		if len(data) > MaxMessage || !job.ValidID(o.JobID) || o.Sweep == "" || o.Attempts < 0 ||
+			(o.Status != job.StatusDone && o.Status != job.StatusFailed) || (o.Status == job.StatusFailed && o.Error == "") {
 			t.Fatalf("accepted an outcome that breaks the contract: %+v", o)
 		}
-		again, err := DecodeOutcome(mustJSON(o))
+		again, err := job.DecodeOutcome(mustJSON(o))
 		if err != nil || !reflect.DeepEqual(again, o) {
 			t.Fatalf("round trip of %+v: %+v, %v", o, again, err)
 		}
@@ -153,7 +182,7 @@ func FuzzDecodeAPI(f *testing.F) {
 }
 
 func FuzzDecodeField(f *testing.F) {
-	good, err := EncodeField(FieldHeader{JobID: wireJob.ID, Vars: []string{"rho", "E"}, NX: 2, NY: 1, DX: 0.5, DY: 1},
+	good, err := field.Encode(field.Header{JobID: wireJob.ID, Vars: []string{"rho", "E"}, NX: 2, NY: 1, DX: 0.5, DY: 1},
 		[][]float32{{1, 2}, {3, float32(math.Inf(1))}})
 	if err != nil {
 		f.Fatal(err)
@@ -166,18 +195,18 @@ func FuzzDecodeField(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		h, vals, err := DecodeField(data)
+		h, vals, err := field.Decode(data)
 		if err != nil {
 			return
 		}
 		if h.NX <= 0 || h.NY <= 0 || len(vals) != len(h.Vars) {
 			t.Fatalf("accepted a field that breaks the contract: %+v, %d variables", h, len(vals))
 		}
-		enc, err := EncodeField(h, vals)
+		enc, err := field.Encode(h, vals)
 		if err != nil {
 			t.Fatalf("re-encoding an accepted field: %v", err)
 		}
-		h2, vals2, err := DecodeField(enc)
+		h2, vals2, err := field.Decode(enc)
 		if err != nil || !reflect.DeepEqual(h2, h) || len(vals2) != len(vals) {
 			t.Fatalf("round trip: %+v, %v", h2, err)
 		}
@@ -194,14 +223,14 @@ func FuzzDecodeField(f *testing.F) {
 // TestDecodersRefuseOversize: a message over MaxMessage is refused before
 // it is parsed, whatever it holds.
 func TestDecodersRefuseOversize(t *testing.T) {
-	big := mustJSON(Job{ID: wireJob.ID, Sweep: "s", Case: "c", Params: map[string]string{"pad": strings.Repeat("x", MaxMessage)}})
-	if _, err := DecodeJob(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+	big := mustJSON(job.Job{ID: wireJob.ID, Sweep: "s", Case: "c", Params: map[string]string{"pad": strings.Repeat("x", MaxMessage)}})
+	if _, err := job.Decode(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
 		t.Errorf("job of %d bytes: %v", len(big), err)
 	}
-	if _, err := DecodeOutcome(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+	if _, err := job.DecodeOutcome(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
 		t.Errorf("result of %d bytes: %v", len(big), err)
 	}
-	if _, err := DecodeJob(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
+	if _, err := job.Decode(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
 		t.Errorf("the good job is refused: %v", err)
 	}
 }

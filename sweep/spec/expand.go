@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"bytes"
@@ -8,6 +8,7 @@ import (
 	"slices"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 )
 
 // dims returns the study's dimensions: each crossed axis alone, each
@@ -89,9 +90,9 @@ func (st *Study) isGrid(name string) bool {
 // is set if any of them asks for one). Jobs are sorted by Cost, largest
 // first, then by ID, so that big runs are dispatched first. It holds every
 // job at once; Each streams them in the same order.
-func (s *Spec) Expand() ([]Job, error) {
-	var jobs []Job
-	err := s.Each(func(j Job) error {
+func (s *Spec) Expand() ([]job.Job, error) {
+	var jobs []job.Job
+	err := s.Each(func(j job.Job) error {
 		jobs = append(jobs, j)
 		return nil
 	})
@@ -107,7 +108,7 @@ func (s *Spec) Expand() ([]Job, error) {
 // bytes per distinct run, not the jobs: a first pass computes each run's ID
 // and cost and sorts those, a second builds each job from its run index
 // just before fn gets it. fn owns the job (its Params map is its own).
-func (s *Spec) Each(fn func(Job) error) error {
+func (s *Spec) Each(fn func(job.Job) error) error {
 	tabs := make([]*runTable, len(s.Studies))
 	for i := range s.Studies {
 		t, err := newRunTable(&s.Studies[i])
@@ -128,7 +129,7 @@ func (s *Spec) Each(fn func(Job) error) error {
 			return fmt.Errorf("spec %s: %w", s.File, err)
 		}
 		st := t.st
-		j := Job{ID: hex.EncodeToString(e.id[:]), Sweep: s.Name, Study: st.Index, Case: st.Case,
+		j := job.Job{ID: hex.EncodeToString(e.id[:]), Sweep: s.Name, Study: st.Index, Case: st.Case,
 			Params: t.params(idx), Refine: st.Refine, Group: t.group(idx), Cost: e.cost, Snapshot: e.snap}
 		if err := fn(j); err != nil {
 			return err
@@ -186,7 +187,7 @@ func (s *Spec) order(tabs []*runTable) ([]run, error) {
 // runTable gives the canonical parameters of any run of a study from its
 // index, without calling fv2d.Resolve per run: a run's values are those of
 // run 0 (fixed values and defaults included) with each dimension's axes at
-// that run's position, each axis value canonicalised once. ParseSpec has
+// that run's position, each axis value canonicalised once. Parse has
 // resolved and checked every run; a study it did not check (no cost
 // estimates) is resolved run by run as the runs are walked. A case that
 // completes its values (fv2d.Completer: test=N sets the states) breaks the
@@ -227,7 +228,7 @@ func newRunTable(st *Study) (*runTable, error) {
 		t.grid = append(t.grid, st.isGrid(name))
 		t.axis = append(t.axis, -1)
 	}
-	// ParseSpec keeps canonical values. In a study it did not check, the
+	// Parse keeps canonical values. In a study it did not check, the
 	// run with dimension d at position p and the others at 0 canonicalises
 	// the values of d's axes at p.
 	idx := make([]int, len(t.dims))
@@ -381,7 +382,7 @@ func (t *runTable) params(idx []int) map[string]string {
 	return m
 }
 
-// cost is the estimate of run k at idx: ParseSpec's, or for a study it
+// cost is the estimate of run k at idx: Parse's, or for a study it
 // did not check, from resolving the run now.
 func (t *runTable) cost(k int, idx []int) (fv2d.Cost, error) {
 	if t.checked {

@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"errors"
@@ -9,16 +9,17 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 )
 
 // resolveAll is the expansion by definition: every run resolved by
 // fv2d.Resolve, its ID from JobID, its group from Study.Group, its cost
 // from fv2d.Estimate; duplicates kept once (first study, snapshot if any
 // asks); sorted by cost, largest first, then ID.
-func resolveAll(t *testing.T, s *Spec) []Job {
+func resolveAll(t *testing.T, s *Spec) []job.Job {
 	t.Helper()
 	seen := map[string]int{}
-	var jobs []Job
+	var jobs []job.Job
 	for i := range s.Studies {
 		st := &s.Studies[i]
 		err := st.each(func(kv map[string]string) error {
@@ -26,13 +27,13 @@ func resolveAll(t *testing.T, s *Spec) []Job {
 			if err != nil {
 				return err
 			}
-			id := JobID(v)
+			id := job.NewID(v.String())
 			if at, dup := seen[id]; dup {
 				jobs[at].Snapshot = jobs[at].Snapshot || st.Snapshot
 				return nil
 			}
 			seen[id] = len(jobs)
-			jobs = append(jobs, Job{ID: id, Sweep: s.Name, Study: st.Index, Case: st.Case, Params: v.Map(),
+			jobs = append(jobs, job.Job{ID: id, Sweep: s.Name, Study: st.Index, Case: st.Case, Params: v.Map(),
 				Refine: st.Refine, Group: groupOf(st, v), Cost: fv2d.Estimate(v).Work(), Snapshot: st.Snapshot})
 			return nil
 		})
@@ -51,16 +52,16 @@ func resolveAll(t *testing.T, s *Spec) []Job {
 
 // Each (and Expand on it) gives exactly the jobs of the definition, in the
 // same order, for the test specs and every example config; so does a
-// study that ParseSpec did not check (resolved run by run).
+// study that Parse did not check (resolved run by run).
 func TestEachMatchesResolve(t *testing.T) {
 	specs := map[string]*Spec{
 		"good": mustParse(t, goodSpec, DefaultLimits()),
 		"dup":  mustParse(t, dupSpec, DefaultLimits()),
 		"tube": mustParse(t, tubeSpec, DefaultLimits()),
 	}
-	files, _ := filepath.Glob("../configs/*.toml")
+	files, _ := filepath.Glob("../../configs/*.toml")
 	for _, f := range files {
-		s, err := LoadSpec(f, DefaultLimits())
+		s, err := Load(f, DefaultLimits())
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -96,7 +97,7 @@ func TestEachStops(t *testing.T) {
 	s := mustParse(t, goodSpec, DefaultLimits())
 	stop := errors.New("stop")
 	n := 0
-	err := s.Each(func(j Job) error {
+	err := s.Each(func(j job.Job) error {
 		j.Params["limiter"] = "changed"
 		if n++; n == 5 {
 			return stop
@@ -114,14 +115,14 @@ func TestEachStops(t *testing.T) {
 	}
 }
 
-// A study that ParseSpec did not check, with a run that the case refuses,
+// A study that Parse did not check, with a run that the case refuses,
 // fails with the study and the run named.
 func TestEachUncheckedBadRun(t *testing.T) {
 	s := mustParse(t, study("case = \"spec-test-case\"\naxes = { test = [2, 1], amp = [0.2, 0.9] }\n"), DefaultLimits())
 	st := &s.Studies[0]
 	st.costs = nil
 	st.Axes[0].Values[1] = "3" // test = 3 needs amp <= 0.5
-	err := s.Each(func(Job) error { return nil })
+	err := s.Each(func(job.Job) error { return nil })
 	if err == nil || !strings.Contains(err.Error(), "test 3 needs amp") || !strings.Contains(err.Error(), "study 1") ||
 		!strings.Contains(err.Error(), "amp=0.9 test=3") {
 		t.Fatalf("Each = %v, want the refused run named", err)
@@ -148,7 +149,7 @@ refine = { nx = [8, 16] }
 // (configuration's) states and final time, not those of run 0: Toro (2009)
 // ch. 4 tests 1 and 3, shared/reference CHECKS.md section 1 (recalled from
 // memory); Lax & Liu (1998) configurations 3 and 6 (recalled from memory).
-// The same holds for a study that ParseSpec did not check.
+// The same holds for a study that Parse did not check.
 func TestExpandPresetAxis(t *testing.T) {
 	want := map[string]map[string]string{
 		"test=1":   {"rho_l": "1", "p_l": "1", "rho_r": "0.125", "p_r": "0.1", "t_end": "0.25"},

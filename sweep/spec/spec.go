@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"errors"
@@ -34,7 +34,7 @@ const (
 	DefaultMaxJobs  = 200_000
 	DefaultMaxBytes = 8 << 30 // 8 GiB
 	DefaultOrderTol = 0.15    // |observed - design order| accepted by a verdict (common practice; CHECKS.md section 6)
-	MaxSpecBytes    = 4 << 20 // largest spec file LoadSpec reads
+	MaxSpecBytes    = 4 << 20 // largest spec file Load reads
 )
 
 // DefaultLimits returns 200,000 jobs and 8 GiB per job.
@@ -50,7 +50,7 @@ func (l Limits) orDefault() Limits {
 	return l
 }
 
-// Spec is a parsed, validated sweep spec. Treat it as read-only: ParseSpec
+// Spec is a parsed, validated sweep spec. Treat it as read-only: Parse
 // keeps each run's cost estimate for Expand and Plan.
 type Spec struct {
 	Name        string // sweep name: letters, digits, '-' and '_'
@@ -93,7 +93,7 @@ type Study struct {
 	Functional  string            // functional for the GCI, "" if none
 
 	origin map[string]origin // parameter -> where the spec sets it
-	costs  []fv2d.Cost       // Estimate of each run in expansion order, from ParseSpec
+	costs  []fv2d.Cost       // Estimate of each run in expansion order, from Parse
 }
 
 type origin struct {
@@ -101,8 +101,8 @@ type origin struct {
 	line int
 }
 
-// SpecError is a spec error located by file, line and key.
-type SpecError struct {
+// Error is a spec error located by file, line and key.
+type Error struct {
 	File  string
 	Line  int    // 1-based; 0 if unknown
 	Study int    // 1-based index of the study; 0 at top level
@@ -110,7 +110,7 @@ type SpecError struct {
 	Msg   string
 }
 
-func (e *SpecError) Error() string {
+func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString("spec ")
 	b.WriteString(e.File)
@@ -129,8 +129,8 @@ func (e *SpecError) Error() string {
 	return b.String()
 }
 
-// LoadSpec reads and parses the spec file at path; see ParseSpec.
-func LoadSpec(path string, lim Limits) (*Spec, error) {
+// Load reads and parses the spec file at path; see Parse.
+func Load(path string, lim Limits) (*Spec, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
@@ -141,21 +141,21 @@ func LoadSpec(path string, lim Limits) (*Spec, error) {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
 	}
 	if len(src) > MaxSpecBytes {
-		return nil, &SpecError{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxSpecBytes)}
+		return nil, &Error{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxSpecBytes)}
 	}
-	return ParseSpec(path, src, lim)
+	return Parse(path, src, lim)
 }
 
-// ParseSpec parses the TOML spec src (file names it in errors), checks every
+// Parse parses the TOML spec src (file names it in errors), checks every
 // key and value against the cases' parameters, refuses specs that expand to
 // more than lim.MaxJobs runs or hold a run whose memory estimate exceeds
-// lim.MaxBytes, and returns the spec. Every error is a *SpecError naming the
+// lim.MaxBytes, and returns the spec. Every error is a *Error naming the
 // file, line and key.
-func ParseSpec(file string, src []byte, lim Limits) (*Spec, error) {
+func Parse(file string, src []byte, lim Limits) (*Spec, error) {
 	p := &parser{file: file, lim: lim.orDefault()}
 	var doc map[string]any
 	if err := toml.Unmarshal(src, &doc); err != nil {
-		e := &SpecError{File: file, Msg: "malformed TOML: " + strings.TrimPrefix(err.Error(), "toml: ")}
+		e := &Error{File: file, Msg: "malformed TOML: " + strings.TrimPrefix(err.Error(), "toml: ")}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {
 			e.Line, _ = de.Position()
@@ -185,8 +185,8 @@ type parser struct {
 	lines keyLines
 }
 
-func (p *parser) fail(study int, path []string, key, format string, args ...any) *SpecError {
-	return &SpecError{File: p.file, Line: p.lines.at(path), Study: study, Key: key, Msg: fmt.Sprintf(format, args...)}
+func (p *parser) fail(study int, path []string, key, format string, args ...any) *Error {
+	return &Error{File: p.file, Line: p.lines.at(path), Study: study, Key: key, Msg: fmt.Sprintf(format, args...)}
 }
 
 var (
@@ -203,7 +203,7 @@ func (p *parser) spec(doc map[string]any) (*Spec, error) {
 	s := &Spec{File: p.file}
 	name, ok := doc["name"]
 	if !ok {
-		return nil, &SpecError{File: p.file, Line: 1, Key: "name", Msg: "missing: every spec needs a sweep name"}
+		return nil, &Error{File: p.file, Line: 1, Key: "name", Msg: "missing: every spec needs a sweep name"}
 	}
 	if s.Name, ok = name.(string); !ok {
 		return nil, p.fail(0, []string{"name"}, "name", "want a string, got %s", typeName(name))
@@ -219,7 +219,7 @@ func (p *parser) spec(doc map[string]any) (*Spec, error) {
 	}
 	raw, ok := doc["study"]
 	if !ok {
-		return nil, &SpecError{File: p.file, Line: 1, Key: "study", Msg: "missing: add at least one [[study]] table"}
+		return nil, &Error{File: p.file, Line: 1, Key: "study", Msg: "missing: add at least one [[study]] table"}
 	}
 	list, ok := raw.([]any)
 	if !ok || len(list) == 0 {
@@ -292,7 +292,7 @@ type studyParser struct {
 	params map[string]fv2d.Param
 }
 
-func (sp *studyParser) fail(path []string, key, format string, args ...any) *SpecError {
+func (sp *studyParser) fail(path []string, key, format string, args ...any) *Error {
 	return sp.parser.fail(sp.st.Index, path, key, format, args...)
 }
 
@@ -312,7 +312,7 @@ func (sp *studyParser) table(m map[string]any, key string) (map[string]any, erro
 // claim records that parameter name is set at key; a second place is an error.
 func (sp *studyParser) claim(name, key string, line int) error {
 	if o, dup := sp.st.origin[name]; dup {
-		return &SpecError{File: sp.file, Line: line, Study: sp.st.Index, Key: key,
+		return &Error{File: sp.file, Line: line, Study: sp.st.Index, Key: key,
 			Msg: fmt.Sprintf("%s is also set by %s (line %d); give each parameter in one place", name, o.key, o.line)}
 	}
 	sp.st.origin[name] = origin{key: key, line: line}
@@ -688,7 +688,7 @@ func (p *parser) checkCount(s *Spec) error {
 		return nil
 	}
 	st := &s.Studies[big]
-	return &SpecError{File: p.file, Line: st.Line, Study: st.Index,
+	return &Error{File: p.file, Line: st.Line, Study: st.Index,
 		Msg: fmt.Sprintf("the spec expands to %s jobs (this study %s), over the job limit of %d",
 			countString(total), countString(st.Count()), p.lim.MaxJobs)}
 }
@@ -771,7 +771,7 @@ func (p *parser) checkRuns(st *Study) error {
 func (p *parser) checkRun(st *Study, kv map[string]string) (fv2d.Cost, error) {
 	v, err := fv2d.Resolve(st.Case, kv)
 	if err != nil {
-		return fv2d.Cost{}, &SpecError{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("%v (at %s)", err, st.point(kv))}
+		return fv2d.Cost{}, &Error{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("%v (at %s)", err, st.point(kv))}
 	}
 	c := fv2d.Estimate(v)
 	if c.Bytes > p.lim.MaxBytes {
@@ -779,7 +779,7 @@ func (p *parser) checkRun(st *Study, kv map[string]string) (fv2d.Cost, error) {
 		if o.line == 0 {
 			o = origin{line: st.Line}
 		}
-		return c, &SpecError{File: p.file, Line: o.line, Study: st.Index, Key: o.key,
+		return c, &Error{File: p.file, Line: o.line, Study: st.Index, Key: o.key,
 			Msg: fmt.Sprintf("grid %sx%s (at %s) needs an estimated %s, over the per-job limit of %s",
 				v.Get("nx"), v.Get("ny"), st.point(kv), byteString(c.Bytes), byteString(p.lim.MaxBytes))}
 	}
@@ -793,7 +793,7 @@ func (p *parser) checkFunctional(st *Study, v fv2d.Values) error {
 	}
 	prob, err := c.Setup(v)
 	if err != nil {
-		return &SpecError{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("case %s: %v", st.Case, err)}
+		return &Error{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("case %s: %v", st.Case, err)}
 	}
 	var names []string
 	for _, f := range prob.Functionals {

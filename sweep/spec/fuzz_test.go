@@ -1,4 +1,4 @@
-package sweep
+package spec
 
 import (
 	"errors"
@@ -9,14 +9,15 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 )
 
 // FuzzParseSpec feeds arbitrary bytes to the spec parser. It must never
-// panic; a refused spec gets a one-line *SpecError; an accepted one expands
+// panic; a refused spec gets a one-line *Error; an accepted one expands
 // within the job limit into distinct, sorted jobs whose IDs match their
 // parameters. Run in CI for a bounded time:
 //
-//	go test ./sweep -run '^$' -fuzz FuzzParseSpec -fuzztime 30s
+//	go test ./sweep/spec -run '^$' -fuzz FuzzParseSpec -fuzztime 30s
 func FuzzParseSpec(f *testing.F) {
 	f.Add([]byte(goodSpec))
 	f.Add([]byte(study("case = \"spec-test-case\"\naxes = { limiter = [\"mc\", \"minmod\"] }\n" +
@@ -25,7 +26,7 @@ func FuzzParseSpec(f *testing.F) {
 	f.Add([]byte("name = \"t\"\n[[study]]\ncase = \"vortex\"\nfixed = { cfl = nan, nx = -4 }\n"))
 	f.Add([]byte("name = \"t\"\n[[study]\n"))
 	f.Add([]byte("name = 'x'\nstudy = [{ case = \"spec-test-case\", fixed.cfl = 0.5 }]\n"))
-	files, _ := filepath.Glob("../configs/*.toml")
+	files, _ := filepath.Glob("../../configs/*.toml")
 	for _, file := range files {
 		if src, err := os.ReadFile(file); err == nil {
 			f.Add(src)
@@ -33,12 +34,12 @@ func FuzzParseSpec(f *testing.F) {
 	}
 	lim := Limits{MaxJobs: 200, MaxBytes: 1 << 30}
 	f.Fuzz(func(t *testing.T, src []byte) {
-		s, err := ParseSpec("fuzz.toml", src, lim)
+		s, err := Parse("fuzz.toml", src, lim)
 		if err != nil {
-			var se *SpecError
+			var se *Error
 			msg := err.Error()
 			if !errors.As(err, &se) || strings.ContainsAny(msg, "\n\r") || !strings.HasPrefix(msg, "spec fuzz.toml") {
-				t.Fatalf("error %q: want a one-line *SpecError", msg)
+				t.Fatalf("error %q: want a one-line *Error", msg)
 			}
 			return
 		}
@@ -53,8 +54,8 @@ func FuzzParseSpec(f *testing.F) {
 		seen := map[string]bool{}
 		for _, j := range jobs {
 			v, err := fv2d.Resolve(j.Case, j.Params)
-			if err != nil || JobID(v) != j.ID || seen[j.ID] {
-				t.Fatalf("job %s: resolve %v, id %s, seen %v", j.ID, err, JobID(v), seen[j.ID])
+			if err != nil || job.NewID(v.String()) != j.ID || seen[j.ID] {
+				t.Fatalf("job %s: resolve %v, id %s, seen %v", j.ID, err, job.NewID(v.String()), seen[j.ID])
 			}
 			seen[j.ID] = true
 		}

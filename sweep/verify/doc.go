@@ -1,0 +1,5 @@
+// Package verify is the grid-convergence maths: observed orders of accuracy,
+// least-squares order fits, the grid convergence index and order verdicts.
+// It is pure computation on numbers and imports only the standard library
+// and gonum.
+package verify
