@@ -7,7 +7,7 @@ import (
 
 // The Burgers cases. For u_t + (u^2/2)_x + (u^2/2)_y = 0 the characteristics
 // are straight lines (dx/dt, dy/dt) = (u, u) along which u is constant
-// (method of characteristics, a law; shared/reference CHECKS.md sections 2, 3).
+// (method of characteristics, a law; docs/references.md §2, §3).
 
 func init() {
 	Register(burgersSineCase{})
@@ -26,7 +26,7 @@ func sineWaveParams(tEnd, a, b, doc string) []Param {
 }
 
 // sineWave is u0(s) = a + b sin(kappa s) transported with speed c u along
-// s, before it breaks at t_b = 1 / (c |b| kappa) (CHECKS.md section 3).
+// s, before it breaks at t_b = 1 / (c |b| kappa) (docs/references.md §3).
 type sineWave struct{ a, b, kappa, c float64 }
 
 func newSineWave(v Values, c float64) (sineWave, error) {
@@ -112,7 +112,7 @@ func (burgersSineCase) Setup(v Values) (*Problem, error) {
 // burgersDiagonalCase: u0 = g(x + y) = a + b sin(2 pi k (x + y)) on the
 // periodic unit square. u stays a function of s = x + y, and along the
 // characteristics ds/dt = 2u, so u = g(s - 2 u t) before the breaking time
-// 1/(4 pi k |b|) (CHECKS.md section 3, derived: u_t + u u_x + u u_y = 0).
+// 1/(4 pi k |b|) (docs/references.md §3, derived: u_t + u u_x + u u_y = 0).
 type burgersDiagonalCase struct{}
 
 func (burgersDiagonalCase) Name() string       { return "burgers-diagonal" }
@@ -140,7 +140,7 @@ func (burgersDiagonalCase) Setup(v Values) (*Problem, error) {
 // burgersRiemannCase: u_l for x < x0, u_r for x > x0 on the unit square with
 // transmissive sides. u_l > u_r is a shock moving at the Rankine-Hugoniot
 // speed (u_l + u_r)/2; u_l < u_r opens into the rarefaction fan
-// u = (x - x0)/t (Lax entropy condition; CHECKS.md section 2).
+// u = (x - x0)/t (Lax entropy condition; docs/references.md §2).
 type burgersRiemannCase struct{}
 
 func (burgersRiemannCase) Name() string       { return "burgers-riemann" }

@@ -18,7 +18,7 @@ func init() { Register(shocktubeCase{}) }
 
 // toroTube is one of the five Riemann problems of Toro (2009) ch. 4, with its
 // diaphragm position and output time (recalled from memory; see
-// shared/reference CHECKS.md section 1).
+// docs/references.md §1).
 type toroTube struct {
 	rl, ul, pl, rr, ur, pr, x0, t float64
 }

@@ -28,7 +28,7 @@ func wantValues(t *testing.T, v Values, want map[string]string) {
 
 // Resolving shocktube test=N gives test N's states, diaphragm and output
 // time, not the defaults (those of test 1): Toro (2009) ch. 4, states and
-// times from shared/reference CHECKS.md section 1 (recalled from memory).
+// times from docs/references.md §1 (recalled from memory).
 func TestCompleteShocktube(t *testing.T) {
 	for n, want := range map[string]map[string]string{
 		"1": {"rho_l": "1", "u_l": "0", "p_l": "1", "rho_r": "0.125", "u_r": "0", "p_r": "0.1", "x0": "0.5", "t_end": "0.25"},
@@ -55,7 +55,7 @@ func TestCompleteShocktube(t *testing.T) {
 }
 
 // Resolving quadrants config=N gives configuration N's states and output
-// time (Lax & Liu 1998, recalled from memory).
+// time (Lax & Liu 1998, recalled from memory; docs/references.md §8).
 func TestCompleteQuadrants(t *testing.T) {
 	wantValues(t, resolveOK(t, "quadrants", map[string]string{"config": "6"}), map[string]string{
 		"rho_ne": "1", "u_ne": "0.75", "v_ne": "-0.5", "rho_nw": "2", "rho_se": "3", "u_sw": "-0.75", "p_sw": "1", "t_end": "0.3"})

@@ -7,7 +7,7 @@ import (
 )
 
 // Godunov flux of f(u) = u^2/2 against the law: Lax entropy condition and
-// Rankine-Hugoniot shock speed s = (ul+ur)/2 (CHECKS.md §2; LeVeque 2002 §12.2).
+// Rankine-Hugoniot shock speed s = (ul+ur)/2 (docs/references.md §2; LeVeque 2002 §12.2).
 func TestBurgersGodunovCases(t *testing.T) {
 	tests := []struct {
 		name   string

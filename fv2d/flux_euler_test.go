@@ -195,7 +195,7 @@ func TestEulerFluxIsolatedShock(t *testing.T) {
 
 // The exact flux is the physical flux of the exact solution at x/t = 0
 // (Godunov 1959), with the tangential velocity upwinded by u* (Toro 2009
-// §4.8); for Toro's tests 1-5 it is built from the star states of CHECKS.md
+// §4.8); for Toro's tests 1-5 it is built from the star states of docs/references.md
 // §1 (test 1: the face lies in the left star region, Toro 2009 Fig. 4.7).
 func TestEulerExactFluxToro(t *testing.T) {
 	const g = 1.4
@@ -212,7 +212,7 @@ func TestEulerExactFluxToro(t *testing.T) {
 			t.Errorf("test %d: exact flux (%g %g %g %g), physical flux at xi=0 (%g %g %g %g)", tc.n, f0, f1, f2, f3, w0, w1, w2, w3)
 		}
 	}
-	// Test 1 at x/t = 0: left star state (recalled values, CHECKS.md §1).
+	// Test 1 at x/t = 0: left star state (recalled values, docs/references.md §1).
 	tc := toroTests[0]
 	f0, f1, _, _ := EulerExact(g, tc.rl, tc.ul, 0, tc.pl, tc.rr, tc.ur, 0, tc.pr)
 	if !tableClose(f0, tc.rsl*tc.ustar, 0) || !tableClose(f1, tc.rsl*tc.ustar*tc.ustar+tc.pstar, 0) {
@@ -375,7 +375,7 @@ func godunov1D(f EulerFlux, g float64, l, r prim, tEnd float64, n int) float64 {
 
 // Every flux in a first-order scheme converges to the exact solution of
 // Toro's test 1 (Lax-Wendroff theorem, LeVeque 2002 §12.10) at an L1 order
-// no lower than the contact-dominated 1/2 - 0.15 (CHECKS.md §6). On the sonic
+// no lower than the contact-dominated 1/2 - 0.15 (docs/references.md §6). On the sonic
 // rarefaction problem rho, u, p = (1, 0.75, 1 | 0.125, 0, 0.1) (Toro 2009
 // §6.4, recalled from memory) the Roe flux without the entropy fix keeps an
 // expansion shock and its error stays larger than with the fix; from a

@@ -9,7 +9,7 @@ import (
 	"testing"
 )
 
-// Design-order tests (../shared/reference/CHECKS.md section 6): grid
+// Design-order tests (docs/references.md §6): grid
 // sequences run at a fixed CFL number, so dt shrinks with h and the observed
 // order p = ln(E_coarse/E_fine)/ln(h_coarse/h_fine) of the L1 error against
 // exact cell averages measures space and time together. Each test checks the
@@ -44,10 +44,10 @@ var (
 // with (solver_test.go) copies a parameter map with extra settings.
 
 const (
-	srcSmooth      = "common practice: second-order MUSCL on smooth solutions, 1.85..2.6 on the finest pair of 32..256 (CHECKS.md section 6)"
-	srcFirst       = "common practice: first-order Godunov on smooth solutions, 1 +- 0.1 (CHECKS.md section 6)"
-	srcFirstCoarse = "common practice: first-order Godunov on smooth solutions -> 1 (CHECKS.md section 6); +- 0.15 on the coarser grids of these studies"
-	srcShock       = "common practice: conservative TVD schemes converge at L1 order about 1 with a shock (CHECKS.md section 6)"
+	srcSmooth      = "common practice: second-order MUSCL on smooth solutions, 1.85..2.6 on the finest pair of 32..256 (docs/references.md §6)"
+	srcFirst       = "common practice: first-order Godunov on smooth solutions, 1 +- 0.1 (docs/references.md §6)"
+	srcFirstCoarse = "common practice: first-order Godunov on smooth solutions -> 1 (docs/references.md §6); +- 0.15 on the coarser grids of these studies"
+	srcShock       = "common practice: conservative TVD schemes converge at L1 order about 1 with a shock (docs/references.md §6)"
 	srcContact     = "LeVeque 2002, recalled from memory: contacts converge in L1 at 1/2 (first order), 2/3 (second order), +- 0.15"
 	srcSplit       = "common practice: Lie splitting X(dt) Y(dt) is first order in time; with dt ~ h the error falls like h"
 )

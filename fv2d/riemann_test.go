@@ -9,7 +9,7 @@ import (
 )
 
 // toroTest is one of the five Riemann problems of Toro 2009 ch. 4 with its
-// exact star state (CHECKS.md §1: recalled from Toro 2009 ch. 4 and
+// exact star state (docs/references.md §1: recalled from Toro 2009 ch. 4 and
 // re-computed independently). abs is half a unit of the last decimal shown
 // where the table shows fewer than 5 significant digits (test 2 is given to
 // 5 decimals: p* = 0.00189), else 0.
@@ -43,7 +43,7 @@ func tableClose(got, want, abs float64) bool {
 	return math.Abs(got-want) <= math.Max(1e-4*math.Abs(want), abs)
 }
 
-// Star states and wave structure of Toro's tests 1-5 (CHECKS.md §1, recalled
+// Star states and wave structure of Toro's tests 1-5 (docs/references.md §1, recalled
 // from Toro 2009 ch. 4; relative tolerance 1e-4 as the table has 5-6 digits).
 func TestRiemannToroStarStates(t *testing.T) {
 	for _, tc := range toroTests {
@@ -129,7 +129,7 @@ func rhResidual(g float64, a, b [3]float64, s float64) float64 {
 }
 
 // Every shock of the exact solution satisfies the Rankine-Hugoniot jump
-// conditions at its computed speed (law, CHECKS.md §2); every fan is a
+// conditions at its computed speed (law, docs/references.md §2); every fan is a
 // simple wave: the Riemann invariant u + 2a/(gamma-1) (left fan) or
 // u - 2a/(gamma-1) (right fan) is constant across it (Toro 2009 §4.4.3,
 // law), and the sampled solution is continuous at the fan edges.

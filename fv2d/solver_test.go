@@ -64,7 +64,7 @@ func with(kv map[string]string, extra ...string) map[string]string {
 	return out
 }
 
-// Law (CHECKS.md section 7, common practice): on a periodic domain a
+// Law (docs/references.md §7, common practice): on a periodic domain a
 // finite-volume update in flux-difference form conserves every total to
 // round-off; relative drift <= 1e-13 over 1000 steps, totals summed with a
 // compensated sum.
@@ -93,7 +93,7 @@ func TestPeriodicConservation(t *testing.T) {
 	}
 }
 
-// Law (Rankine-Hugoniot, CHECKS.md section 2): the Burgers shock from
+// Law (Rankine-Hugoniot, docs/references.md §2): the Burgers shock from
 // u_l = 2, u_r = 0 moves at s = (u_l + u_r)/2 = 1 and sits at x0 + t.
 func TestBurgersShockSpeed(t *testing.T) {
 	for _, scheme := range []string{"godunov", "muscl"} {
@@ -106,7 +106,7 @@ func TestBurgersShockSpeed(t *testing.T) {
 			}
 		}
 	}
-	// Entropy condition (Lax; CHECKS.md section 2): u_l < u_r opens into a fan
+	// Entropy condition (Lax; docs/references.md §2): u_l < u_r opens into a fan
 	// u = (x - x0)/t; the centre value (u_l + u_r)/2 = 0.5 sits at x0 + 0.5 t.
 	r := run(t, "burgers-riemann", map[string]string{"nx": "200", "ny": "1", "u_l": "0", "u_r": "1", "x0": "0.25", "t_end": "0.5"})
 	if got := r.Functionals["front_x"]; math.Abs(got-0.5) > 1.0/200 {
@@ -117,7 +117,7 @@ func TestBurgersShockSpeed(t *testing.T) {
 	}
 }
 
-// Toro (2009) ch. 4 test 1 (CHECKS.md section 1): the captured right shock
+// Toro (2009) ch. 4 test 1 (docs/references.md §1): the captured right shock
 // sits where the exact solver puts it, x0 + S_R t, and the star densities
 // of the plateaus match the table (rho*_L = 0.42632, rho*_R = 0.26557).
 func TestEulerShockPosition(t *testing.T) {
@@ -149,7 +149,7 @@ func TestEulerShockPosition(t *testing.T) {
 	}
 }
 
-// Shocks and contacts (CHECKS.md section 6, common practice; LeVeque 2002):
+// Shocks and contacts (docs/references.md §6, common practice; LeVeque 2002):
 // the L1 error of a shock tube converges at an order of about 1 (between
 // the contact's 2/3 and the shock's 1).
 func TestShocktubeL1Order(t *testing.T) {

@@ -27,8 +27,8 @@ func gciJSON(t *testing.T, v any, args ...string) {
 }
 
 // TestGCICommandCelikExample: the worked example of Celik et al. 2008
-// (J. Fluids Eng. 130(7) 078001, Table 1, recalled from memory; CHECKS.md
-// section 5) through the command line, as JSON.
+// (J. Fluids Eng. 130(7) 078001, Table 1, recalled from memory;
+// docs/references.md §5) through the command line, as JSON.
 func TestGCICommandCelikExample(t *testing.T) {
 	var m map[string]any
 	gciJSON(t, &m, "--values", "6.063,5.972,5.863", "--cells", "18000,8000,4500", "--dim", "2", "--json")

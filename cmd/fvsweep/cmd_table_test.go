@@ -17,7 +17,7 @@ import (
 
 // tableSpec has a case without an exact solution judged by its entropy on
 // the grids of the worked example of Celik et al., J. Fluids Eng. 130(7)
-// 078001, 2008 (CHECKS.md section 5: 18000, 8000 and 4500 cells in 2-D as
+// 078001, 2008 (docs/references.md §5: 18000, 8000 and 4500 cells in 2-D as
 // 180 x 100, 100 x 80 and 90 x 50 on the unit square), and a vortex study
 // judged by its errors.
 const tableSpec = `name = "tbl"

@@ -27,7 +27,7 @@ func functionalSweep(t *testing.T, src string, phi func(j job.Job) map[string]fl
 // The worked example of I. B. Celik et al., "Procedure for Estimation and
 // Reporting of Uncertainty Due to Discretization in CFD Applications",
 // J. Fluids Eng. 130(7) 078001, 2008, Table 1, first column (values
-// recalled from memory, CHECKS.md section 5): 2-D grids of 18000, 8000 and
+// recalled from memory, docs/references.md §5): 2-D grids of 18000, 8000 and
 // 4500 cells. On the unit square of the quadrants case, nx x ny = 180 x 100,
 // 100 x 80 and 90 x 50 give exactly those cell counts, and the tables'
 // representative spacing (dx dy)^(1/2) is Celik's h = (1/N)^(1/2). The

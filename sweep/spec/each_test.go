@@ -147,8 +147,8 @@ refine = { nx = [8, 16] }
 
 // A job of a study with an axis over test (config) carries that test's
 // (configuration's) states and final time, not those of run 0: Toro (2009)
-// ch. 4 tests 1 and 3, shared/reference CHECKS.md section 1 (recalled from
-// memory); Lax & Liu (1998) configurations 3 and 6 (recalled from memory).
+// ch. 4 tests 1 and 3 (recalled from memory; docs/references.md §1); Lax &
+// Liu (1998) configurations 3 and 6 (recalled from memory; §8 there).
 // The same holds for a study that Parse did not check.
 func TestExpandPresetAxis(t *testing.T) {
 	want := map[string]map[string]string{

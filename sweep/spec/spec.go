@@ -33,7 +33,7 @@ type Limits struct {
 const (
 	DefaultMaxJobs  = 200_000
 	DefaultMaxBytes = 8 << 30 // 8 GiB
-	DefaultOrderTol = 0.15    // |observed - design order| accepted by a verdict (common practice; CHECKS.md section 6)
+	DefaultOrderTol = 0.15    // |observed - design order| accepted by a verdict (common practice; docs/references.md §6)
 	MaxSpecBytes    = 4 << 20 // largest spec file Load reads
 )
 

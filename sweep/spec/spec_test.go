@@ -350,25 +350,25 @@ func TestConfigs(t *testing.T) {
 	}
 }
 
-// TestReadmeExample parses the example spec of the README's "Sweep specs"
-// section, so that the documentation stays true.
+// TestReadmeExample parses the example spec of the manual's "Sweep specs"
+// page (docs/spec.md), so that the documentation stays true.
 func TestReadmeExample(t *testing.T) {
-	readme, err := os.ReadFile("../../README.md")
+	readme, err := os.ReadFile("../../docs/spec.md")
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, section, ok := strings.Cut(string(readme), "## Sweep specs")
+	_, section, ok := strings.Cut(string(readme), "# Sweep specs")
 	_, block, ok2 := strings.Cut(section, "```toml\n")
 	block, _, ok3 := strings.Cut(block, "```")
 	if !ok || !ok2 || !ok3 {
-		t.Fatal("README has no toml example under \"## Sweep specs\"")
+		t.Fatal("docs/spec.md has no toml example under \"# Sweep specs\"")
 	}
-	s, err := Parse("README.md", []byte(block), DefaultLimits())
+	s, err := Parse("docs/spec.md", []byte(block), DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}
 	if n := s.Count(); n != 3*2*2*3 {
-		t.Errorf("README example expands to %d runs, want 36", n)
+		t.Errorf("docs/spec.md example expands to %d runs, want 36", n)
 	}
 }
 

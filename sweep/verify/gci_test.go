@@ -16,7 +16,7 @@ func round(x float64, digits int) float64 {
 
 // TestGCICelikWorkedExample reproduces the worked example of I. B. Celik et
 // al., J. Fluids Eng. 130(7) 078001, 2008, Table 1 first column (recalled
-// from memory, ../shared/reference/CHECKS.md section 5) to the digits
+// from memory, docs/references.md §5) to the digits
 // printed there.
 func TestGCICelikWorkedExample(t *testing.T) {
 	h, err := SpacingsFromCells([]float64{18000, 8000, 4500}, 2)

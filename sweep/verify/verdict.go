@@ -65,7 +65,7 @@ func Verdict(h, e []float64, design, tol float64) OrderVerdict {
 // VerdictBand is Verdict with an asymmetric band: the finest-pair order
 // passes within [design - tol, design + tolHi]. Limited second-order schemes
 // overshoot 2 on coarse grids and come down towards it, so a band such as
-// [1.85, 2.6] for design order 2 is common practice (CHECKS.md section 4).
+// [1.85, 2.6] for design order 2 is common practice (docs/references.md §4).
 func VerdictBand(h, e []float64, design, tol, tolHi float64) OrderVerdict {
 	v := OrderVerdict{Status: StatusInsufficient, Design: design, Tol: tol, TolHi: tolHi}
 	if len(h) != len(e) {

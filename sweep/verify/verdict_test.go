@@ -76,7 +76,7 @@ func ExampleVerdict() {
 }
 
 // The pass band of a limited second-order scheme on a smooth case is
-// [1.85, 2.6] (CHECKS.md section 4, common practice): an order of 2.4 on the
+// [1.85, 2.6] (docs/references.md §4, common practice): an order of 2.4 on the
 // finest pair passes it and fails the symmetric band 2 ± 0.15.
 func TestVerdictBand(t *testing.T) {
 	h := []float64{0.4, 0.2, 0.1}
