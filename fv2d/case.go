@@ -2,6 +2,7 @@ package fv2d
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -173,15 +174,18 @@ func bounded(name string, k Kind, def string, min, max float64, doc string) Para
 }
 
 // CommonParams returns the scheme parameters every case of equation e has.
+// The choices of scheme, split and recon are the names of their types
+// (config.go); those of limiter and flux are the tables of limiter.go,
+// flux_euler.go and flux_burgers.go. ConfigFrom turns them into a Config.
 func CommonParams(e Equation) []Param {
 	ps := []Param{
 		bounded("nx", Int, "64", 4, 1<<20, "cells in x"),
 		bounded("ny", Int, "64", 1, 1<<20, "cells in y"),
-		{Name: "scheme", Kind: Choice, Default: "muscl", Choices: []string{"godunov", "muscl"}, Min: Unbounded, Max: Unbounded,
+		{Name: "scheme", Kind: Choice, Default: SchemeMUSCL.String(), Choices: slices.Clone(schemeNames), Min: Unbounded, Max: Unbounded,
 			Doc: "godunov: first order; muscl: MUSCL-Hancock, second order"},
-		{Name: "limiter", Kind: Choice, Default: "vanleer", Choices: []string{"minmod", "vanleer", "mc", "superbee"}, Min: Unbounded, Max: Unbounded,
+		{Name: "limiter", Kind: Choice, Default: "vanleer", Choices: limiters.names(), Min: Unbounded, Max: Unbounded,
 			Doc: "slope limiter of the MUSCL reconstruction"},
-		{Name: "split", Kind: Choice, Default: "strang", Choices: []string{"strang", "lie"}, Min: Unbounded, Max: Unbounded,
+		{Name: "split", Kind: Choice, Default: SplitStrang.String(), Choices: slices.Clone(splitNames), Min: Unbounded, Max: Unbounded,
 			Doc: "strang: X(dt/2) Y(dt) X(dt/2); lie: X(dt) Y(dt)"},
 		{Name: "alternate", Kind: Bool, Default: "false", Min: Unbounded, Max: Unbounded,
 			Doc: "swap the order of the x and y sweeps every step"},
@@ -193,14 +197,14 @@ func CommonParams(e Equation) []Param {
 	}
 	if e == Euler {
 		ps = append(ps,
-			Param{Name: "flux", Kind: Choice, Default: "hllc", Choices: []string{"exact", "hll", "hllc", "rusanov", "roe"}, Min: Unbounded, Max: Unbounded,
+			Param{Name: "flux", Kind: Choice, Default: "hllc", Choices: eulerFluxes.names(), Min: Unbounded, Max: Unbounded,
 				Doc: "numerical flux"},
-			Param{Name: "recon", Kind: Choice, Default: "primitive", Choices: []string{"primitive", "conserved"}, Min: Unbounded, Max: Unbounded,
+			Param{Name: "recon", Kind: Choice, Default: ReconPrimitive.String(), Choices: slices.Clone(reconNames), Min: Unbounded, Max: Unbounded,
 				Doc: "variables the MUSCL reconstruction limits"},
 			Param{Name: "gamma", Kind: Float, Default: "1.4", Min: 1, Max: Unbounded, MinOpen: true, Doc: "ratio of specific heats, > 1"},
 		)
 	} else {
-		ps = append(ps, Param{Name: "flux", Kind: Choice, Default: "exact", Choices: []string{"exact", "rusanov"}, Min: Unbounded, Max: Unbounded,
+		ps = append(ps, Param{Name: "flux", Kind: Choice, Default: "exact", Choices: burgersFluxes.names(), Min: Unbounded, Max: Unbounded,
 			Doc: "numerical flux: exact Godunov or Rusanov"})
 	}
 	return ps

@@ -21,6 +21,25 @@ func (c Cost) Work() float64 { return float64(c.Cells) * c.Steps }
 // estimateSamples is the most sample points per direction Estimate uses.
 const estimateSamples = 64
 
+// Estimate returns the cost of the run v without running it, using
+// DefaultEstimator: see Estimator.Estimate.
+func Estimate(v Values) Cost { return DefaultEstimator.Estimate(v) }
+
+// Estimator estimates the cost of runs, setting up and sampling each
+// distinct problem once: runs that differ only in grid or scheme settings
+// (the usual sweep) share one sampling. Its zero value is ready to use; it is
+// safe for concurrent use. It keeps at most 4096 sampled problems.
+type Estimator struct {
+	mu    sync.Mutex
+	cache map[string]speeds // by speedKey
+}
+
+// DefaultEstimator is the Estimator of Estimate, shared by every caller of
+// Estimate in the process (as http.DefaultClient is): sweep expansion calls
+// Estimate once per run, and this cache makes that one sampling per problem.
+// A caller that wants its own cache holds an Estimator of its own.
+var DefaultEstimator = &Estimator{}
+
 // Estimate returns the cost of the run v without running it. It sets up the
 // case's problem, samples the initial state (and, where the case has one,
 // the exact solution at t_end) at up to 64 x 64 points to find the largest
@@ -32,29 +51,33 @@ const estimateSamples = 64
 // layers), the y-sweep scratch of every thread and, when the case has an
 // exact solution, the exact cell averages. A run that cannot be set up
 // costs its cell count and zero steps.
-func Estimate(v Values) Cost {
-	nx, ny := v.Int("nx"), v.Int("ny")
+func (e *Estimator) Estimate(v Values) Cost {
+	cfg, err := ConfigFrom(v)
+	if err != nil { // not a run of a registered case: nothing to sample
+		return Cost{Cells: v.Int("nx") * v.Int("ny")}
+	}
+	nx, ny := cfg.NX, cfg.NY
 	cost := Cost{Cells: nx * ny}
 	mx, my := min(nx, estimateSamples), min(ny, estimateSamples)
-	w, ok := waveSpeeds(v, mx, my)
+	w, ok := e.waveSpeeds(v, mx, my)
 	if !ok {
 		return cost
 	}
 	g := 1
-	if v.Get("scheme") == "muscl" {
+	if cfg.Scheme == SchemeMUSCL {
 		g = 2
 	}
 	state := int64(w.nv) * int64(nx+2*g) * int64(ny+2*g) * 8
-	cost.Bytes = state + int64(v.Int("threads"))*int64(w.nv)*blockCols*int64(ny+2*g)*8
+	cost.Bytes = state + int64(cfg.Threads)*int64(w.nv)*blockCols*int64(ny+2*g)*8
 	if w.exact {
 		cost.Bytes += state
 	}
-	tEnd := v.Float("t_end")
+	tEnd := cfg.TEnd
 	if w.tEnd > 0 {
 		tEnd = w.tEnd
 	}
 	dx, dy := w.lx/float64(nx), w.ly/float64(ny)
-	rate := math.Max(w.sx/dx, w.sy/dy) / v.Float("cfl") // 1/dt
+	rate := math.Max(w.sx/dx, w.sy/dy) / cfg.CFL // 1/dt
 	if tEnd > 0 {
 		cost.Steps = math.Max(1, math.Ceil(tEnd*rate))
 	}
@@ -73,15 +96,14 @@ type speeds struct {
 var solverOnly = map[string]bool{"nx": true, "ny": true, "threads": true, "max_steps": true, "cfl": true,
 	"scheme": true, "limiter": true, "flux": true, "split": true, "alternate": true, "recon": true, "quad": true}
 
-var (
-	speedMu    sync.Mutex
-	speedCache = map[string]speeds{}
-)
+// speedCacheSize is the most problems an Estimator keeps; a full cache is
+// emptied.
+const speedCacheSize = 4096
 
 // waveSpeeds returns the sampled wave speeds of the problem of v, set up and
 // sampled once per physical configuration: expanding a sweep of 100,000 runs
 // then costs one sampling per distinct problem, not per run.
-func waveSpeeds(v Values, mx, my int) (speeds, bool) {
+func (e *Estimator) waveSpeeds(v Values, mx, my int) (speeds, bool) {
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s %d %d", v.Case, mx, my)
 	for _, k := range v.Keys() {
@@ -90,12 +112,28 @@ func waveSpeeds(v Values, mx, my int) (speeds, bool) {
 		}
 	}
 	key := b.String()
-	speedMu.Lock()
-	w, ok := speedCache[key]
-	speedMu.Unlock()
+	e.mu.Lock()
+	w, ok := e.cache[key]
+	e.mu.Unlock()
 	if ok {
 		return w, true
 	}
+	w, ok = sampleProblem(v, mx, my)
+	if !ok {
+		return speeds{}, false
+	}
+	e.mu.Lock()
+	if e.cache == nil || len(e.cache) >= speedCacheSize {
+		e.cache = make(map[string]speeds)
+	}
+	e.cache[key] = w
+	e.mu.Unlock()
+	return w, true
+}
+
+// sampleProblem sets up the problem of v and samples its wave speeds on an
+// mx x my grid.
+func sampleProblem(v Values, mx, my int) (speeds, bool) {
 	c, err := LookupCase(v.Case)
 	if err != nil {
 		return speeds{}, false
@@ -104,7 +142,7 @@ func waveSpeeds(v Values, mx, my int) (speeds, bool) {
 	if err != nil || p.Initial == nil {
 		return speeds{}, false
 	}
-	w = speeds{tEnd: p.TEnd, lx: p.X1 - p.X0, ly: p.Y1 - p.Y0, nv: len(p.Eq.Vars()), exact: p.Exact != nil}
+	w := speeds{tEnd: p.TEnd, lx: p.X1 - p.X0, ly: p.Y1 - p.Y0, nv: len(p.Eq.Vars()), exact: p.Exact != nil}
 	tEnd := v.Float("t_end")
 	if p.TEnd > 0 {
 		tEnd = p.TEnd
@@ -114,12 +152,6 @@ func waveSpeeds(v Values, mx, my int) (speeds, bool) {
 		ex, ey := sampleSpeeds(p, func(x, y float64, s []float64) { p.Exact(x, y, tEnd, s) }, mx, my)
 		w.sx, w.sy = math.Max(w.sx, ex), math.Max(w.sy, ey)
 	}
-	speedMu.Lock()
-	if len(speedCache) >= 4096 {
-		clear(speedCache)
-	}
-	speedCache[key] = w
-	speedMu.Unlock()
 	return w, true
 }
 

@@ -1,30 +1,28 @@
 package fv2d
 
-import (
-	"fmt"
-	"math"
-	"strings"
-)
+import "math"
 
 // BurgersFlux is a numerical flux of the scalar law u_t + f(u)_x = 0 with
 // f(u) = u^2/2 across a face with left state ul and right state ur.
 type BurgersFlux func(ul, ur float64) float64
 
+// burgersFluxes is the table of Burgers fluxes: the choices of the flux
+// parameter of a Burgers case, in order. To add a flux, write its function
+// (a BurgersFlux that neither allocates nor checks its input, with its source
+// in the doc comment) and add one entry here: the flux choices of
+// CommonParams, the name list and the ByName lookup follow from it.
+var burgersFluxes = methods[BurgersFlux]{kind: "Burgers flux", list: []method[BurgersFlux]{
+	{"exact", BurgersGodunov, "Godunov flux of the exact Riemann solution (Godunov 1959; LeVeque 2002 §12.2)"},
+	{"rusanov", BurgersRusanov, "Rusanov, local Lax-Friedrichs (Rusanov 1961)"},
+}}
+
 // BurgersFluxNames are the names BurgersFluxByName knows, in the order of the
 // flux parameter's choices.
-var BurgersFluxNames = []string{"exact", "rusanov"}
+var BurgersFluxNames = burgersFluxes.names()
 
 // BurgersFluxByName returns the Burgers flux called name: "exact" (the
 // Godunov flux) or "rusanov".
-func BurgersFluxByName(name string) (BurgersFlux, error) {
-	switch name {
-	case "exact":
-		return BurgersGodunov, nil
-	case "rusanov":
-		return BurgersRusanov, nil
-	}
-	return nil, fmt.Errorf("unknown Burgers flux %q (known: %s)", name, strings.Join(BurgersFluxNames, " "))
-}
+func BurgersFluxByName(name string) (BurgersFlux, error) { return burgersFluxes.byName(name) }
 
 // BurgersGodunov is the exact Godunov flux of f(u) = u^2/2 (Godunov 1959;
 // LeVeque 2002 §12.2): min of f over [ul, ur] when ul <= ur, max of f over

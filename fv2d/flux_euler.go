@@ -1,10 +1,6 @@
 package fv2d
 
-import (
-	"fmt"
-	"math"
-	"strings"
-)
+import "math"
 
 // EulerFlux is a numerical flux of the Euler equations of an ideal gas with
 // ratio of specific heats gamma, across a face normal to the sweep
@@ -15,28 +11,28 @@ import (
 // which the solver's state checks report.
 type EulerFlux func(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64)
 
+// eulerFluxes is the table of Euler fluxes: the choices of the flux
+// parameter of an Euler case, in order. To add a flux, write its function
+// (an EulerFlux that neither allocates nor checks its input, with its source
+// in the doc comment) and add one entry here: the flux choices of
+// CommonParams, the name list and the ByName lookup follow from it.
+// Then run TestEulerShockPosition and TestRandomRiemannPositivity with it.
+var eulerFluxes = methods[EulerFlux]{kind: "Euler flux", list: []method[EulerFlux]{
+	{"exact", EulerExact, "Godunov flux of the exact Riemann solver (Godunov 1959; Toro 2009 §4.5)"},
+	{"hll", EulerHLL, "HLLE: HLL (Harten, Lax, van Leer 1983) with Einfeldt (1988) wave speeds"},
+	{"hllc", EulerHLLC, "HLLC (Toro, Spruce, Speares 1994; Toro 2009 §10.4)"},
+	{"rusanov", EulerRusanov, "Rusanov, local Lax-Friedrichs (Rusanov 1961)"},
+	{"roe", EulerRoe, "Roe (Roe 1981) with the Harten-Hyman (1983) entropy fix"},
+}}
+
 // EulerFluxNames are the names EulerFluxByName knows, in the order of the
 // flux parameter's choices.
-var EulerFluxNames = []string{"exact", "hll", "hllc", "rusanov", "roe"}
+var EulerFluxNames = eulerFluxes.names()
 
 // EulerFluxByName returns the Euler flux called name: "exact" (Godunov flux
 // of the exact Riemann solver), "hll" (HLLE), "hllc", "rusanov" or "roe"
 // (with the Harten-Hyman entropy fix).
-func EulerFluxByName(name string) (EulerFlux, error) {
-	switch name {
-	case "exact":
-		return EulerExact, nil
-	case "hll":
-		return EulerHLL, nil
-	case "hllc":
-		return EulerHLLC, nil
-	case "rusanov":
-		return EulerRusanov, nil
-	case "roe":
-		return EulerRoe, nil
-	}
-	return nil, fmt.Errorf("unknown Euler flux %q (known: %s)", name, strings.Join(EulerFluxNames, " "))
-}
+func EulerFluxByName(name string) (EulerFlux, error) { return eulerFluxes.byName(name) }
 
 // EulerPhysicalFlux is the exact flux F(W) of the Euler equations normal to
 // a face for the primitive state (r, u, v, p):

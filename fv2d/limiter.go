@@ -1,10 +1,6 @@
 package fv2d
 
-import (
-	"fmt"
-	"math"
-	"strings"
-)
+import "math"
 
 // Limiter is a slope limiter of the MUSCL reconstruction: from the backward
 // difference a = w_i - w_{i-1} and the forward difference b = w_{i+1} - w_i
@@ -13,23 +9,23 @@ import (
 // the second-order TVD region of Sweby (1984), between minmod and superbee.
 type Limiter func(a, b float64) float64
 
+// limiters is the table of slope limiters: the choices of the limiter
+// parameter, in order. To add a limiter, write its function below (a Limiter
+// with its source in the doc comment) and add one entry here: the limiter
+// choices of CommonParams, limiterNames and LimiterByName follow from it.
+// Then give its classical phi(r) form to TestLimitersSwebyForms.
+var limiters = methods[Limiter]{kind: "limiter", list: []method[Limiter]{
+	{"minmod", Minmod, "minmod (Roe 1986): the lower edge of Sweby's TVD region"},
+	{"vanleer", VanLeer, "harmonic mean of the slopes (van Leer 1974)"},
+	{"mc", MonotonizedCentral, "monotonized central (van Leer 1977)"},
+	{"superbee", Superbee, "superbee (Roe 1985): the upper edge of Sweby's TVD region"},
+}}
+
 // limiterNames are the choices of the limiter parameter.
-var limiterNames = []string{"minmod", "vanleer", "mc", "superbee"}
+var limiterNames = limiters.names()
 
 // LimiterByName returns the limiter called name.
-func LimiterByName(name string) (Limiter, error) {
-	switch name {
-	case "minmod":
-		return Minmod, nil
-	case "vanleer":
-		return VanLeer, nil
-	case "mc":
-		return MonotonizedCentral, nil
-	case "superbee":
-		return Superbee, nil
-	}
-	return nil, fmt.Errorf("unknown limiter %q (known: %s)", name, strings.Join(limiterNames, " "))
-}
+func LimiterByName(name string) (Limiter, error) { return limiters.byName(name) }
 
 // Minmod returns the argument of smaller modulus when a and b have the same
 // sign, else 0 (Roe 1986; the lower edge of Sweby's TVD region).

@@ -36,12 +36,11 @@ type Solver struct {
 	prob *Problem
 	st   *State
 
+	cfg               Config
 	nx, ny, g, stride int
 	kern              lineKernel
 	base              sweepParams
-	cfl, tEnd         float64
-	strang, alternate bool
-	maxSteps          int
+	tEnd              float64 // the problem's final time, else cfg.TEnd
 
 	workers []*worker
 	wg      sync.WaitGroup
@@ -101,43 +100,36 @@ func NewSolver(v Values) (*Solver, error) {
 	if !(p.X1 > p.X0) || !(p.Y1 > p.Y0) {
 		return nil, fmt.Errorf("case %s: empty domain [%g,%g]x[%g,%g]", v.Case, p.X0, p.X1, p.Y0, p.Y1)
 	}
-	s := &Solver{
-		prob: p, nx: v.Int("nx"), ny: v.Int("ny"),
-		cfl: v.Float("cfl"), tEnd: v.Float("t_end"),
-		strang: v.Get("split") == "strang", alternate: v.Bool("alternate"),
-		maxSteps: v.Int("max_steps"),
+	cfg, err := configFor(v, p.Eq)
+	if err != nil {
+		return nil, err
 	}
+	s := &Solver{prob: p, cfg: cfg, nx: cfg.NX, ny: cfg.NY, tEnd: cfg.TEnd}
 	if p.TEnd > 0 {
 		s.tEnd = p.TEnd
 	}
-	muscl := v.Get("scheme") == "muscl"
+	muscl := cfg.Scheme == SchemeMUSCL
 	s.g = 1
 	if muscl {
 		s.g = 2
-		if s.base.lim, err = LimiterByName(v.Get("limiter")); err != nil {
-			return nil, err
-		}
+		s.base.lim = cfg.Limiter
 	}
 	s.base.gamma = p.Gamma
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)
 		}
-		if s.base.ef, err = EulerFluxByName(v.Get("flux")); err != nil {
-			return nil, err
-		}
+		s.base.ef = cfg.EulerFlux
 		switch {
 		case !muscl:
 			s.kern = eulerGodunov
-		case v.Get("recon") == "conserved":
+		case cfg.Recon == ReconConserved:
 			s.kern = eulerMUSCLCons
 		default:
 			s.kern = eulerMUSCLPrim
 		}
 	} else {
-		if s.base.bf, err = BurgersFluxByName(v.Get("flux")); err != nil {
-			return nil, err
-		}
+		s.base.bf = cfg.BurgersFlux
 		s.kern = burgersGodunov
 		if muscl {
 			s.kern = burgersMUSCL
@@ -145,8 +137,7 @@ func NewSolver(v Values) (*Solver, error) {
 	}
 	s.st = newState(p, s.nx, s.ny, s.g)
 	s.stride = s.st.Stride()
-	threads := v.Int("threads")
-	cellAverages(s.st, newCellRule(v.Int("quad"), s.st.DX, s.st.DY), threads, p.Initial)
+	cellAverages(s.st, newCellRule(cfg.Quad, s.st.DX, s.st.DY), cfg.Threads, p.Initial)
 	if p.Source != nil {
 		s.xc, s.yc = make([]float64, s.nx), make([]float64, s.ny)
 		for i := range s.xc {
@@ -156,7 +147,7 @@ func NewSolver(v Values) (*Solver, error) {
 			_, s.yc[j] = s.st.Center(0, j)
 		}
 	}
-	s.startWorkers(threads)
+	s.startWorkers(cfg.Threads)
 	if bad := s.dispatch(job{kind: jobSpeeds}); bad {
 		s.Close()
 		return nil, s.failure()
@@ -220,7 +211,7 @@ func (s *Solver) MaxDt() float64 {
 	if r == 0 {
 		return math.Inf(1)
 	}
-	return s.cfl / r
+	return s.cfg.CFL / r
 }
 
 // Step advances the state by one split step of size dt (the caller keeps dt
@@ -228,7 +219,7 @@ func (s *Solver) MaxDt() float64 {
 // being physical.
 func (s *Solver) Step(dt float64) error {
 	a, b := jobSweepX, jobSweepY
-	if (s.alternate && s.steps%2 == 1) != s.yFirst {
+	if (s.cfg.Alternate && s.steps%2 == 1) != s.yFirst {
 		a, b = b, a
 	}
 	src := s.prob.Source != nil
@@ -238,7 +229,7 @@ func (s *Solver) Step(dt float64) error {
 		}
 	}
 	var ok bool
-	if s.strang {
+	if s.cfg.Split == SplitStrang {
 		ok = s.sweep(a, 0.5*dt, false) && s.sweep(b, dt, false) && s.sweep(a, 0.5*dt, !src)
 	} else {
 		ok = s.sweep(a, dt, false) && s.sweep(b, dt, !src)
@@ -481,17 +472,17 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		if s.steps >= s.maxSteps {
+		if s.steps >= s.cfg.MaxSteps {
 			return nil, &Failure{T: s.t, Step: s.steps, I: -1, J: -1, Vars: vars,
 				Reason: fmt.Sprintf("step guard exceeded: %d steps taken, t_end=%g not reached", s.steps, s.tEnd)}
 		}
 		dt := s.MaxDt()
-		if need := (s.tEnd - s.t) / dt; s.steps == 0 && need > 10*float64(s.maxSteps) {
+		if need := (s.tEnd - s.t) / dt; s.steps == 0 && need > 10*float64(s.cfg.MaxSteps) {
 			// Fail at once rather than after max_steps steps: even a tenfold
 			// growth of dt would not reach t_end within the guard.
 			return nil, &Failure{T: s.t, Step: s.steps, I: -1, J: -1, Vars: vars,
 				Reason: fmt.Sprintf("step guard: the first step dt=%.3g needs about %.3g steps to reach t_end=%g, over max_steps=%d",
-					dt, need, s.tEnd, s.maxSteps)}
+					dt, need, s.tEnd, s.cfg.MaxSteps)}
 		}
 		last := s.t+dt*(1+1e-12) >= s.tEnd
 		if last {
@@ -513,7 +504,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 		res.Totals[vars[k]] = Total{Initial: init[k], Final: tot}
 	}
 	if s.prob.Exact != nil {
-		ex := ExactAverages(s.prob, st, v.Int("quad"), v.Int("threads"))
+		ex := ExactAverages(s.prob, st, s.cfg.Quad, s.cfg.Threads)
 		res.Errors = map[string]Norms{}
 		for k, n := range errorNorms(st, ex) {
 			res.Errors[vars[k]] = n

@@ -321,7 +321,7 @@ func TestFailureReport(t *testing.T) {
 	// A genuine divergence: Toro test 3 (pressure ratio 1e5) at a Courant
 	// number of 3, set through the solver (the cfl parameter stops at 1).
 	s := newSolver(t, "shocktube", map[string]string{"test": "3", "nx": "50", "ny": "1"})
-	s.cfl = 3
+	s.cfg.CFL = 3
 	var err error
 	for i := 0; i < 100 && err == nil; i++ {
 		err = s.Step(s.MaxDt())
