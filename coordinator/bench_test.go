@@ -16,7 +16,8 @@ import (
 	"testing"
 	"time"
 
-	"fvsweep/coordinator"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/server"
 	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
 	"fvsweep/worker"
@@ -162,7 +163,7 @@ func TestHelperServerAndWorkers(t *testing.T) {
 	if dir == "" {
 		t.Skip("helper process of BenchmarkMemory100k")
 	}
-	srv, err := coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(dir, "nats")})
+	srv, err := server.Start(server.Options{Dir: filepath.Join(dir, "nats")})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -171,7 +172,7 @@ func TestHelperServerAndWorkers(t *testing.T) {
 	ctx, cancel := context.WithCancel(context.Background())
 	var wg sync.WaitGroup
 	for range 2 {
-		nc, err := coordinator.Dial(coordinator.DialOptions{InProcess: srv})
+		nc, err := client.Dial(client.DialOptions{InProcess: srv})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -7,7 +7,8 @@ import (
 	"testing"
 	"time"
 
-	"fvsweep/coordinator"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/server"
 	"fvsweep/sweep/field"
 	"fvsweep/worker"
 )
@@ -16,7 +17,7 @@ import (
 // server's files once the server is gone; bad references are errors.
 func TestFieldByReference(t *testing.T) {
 	dir := t.TempDir()
-	srv, err := coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(dir, "nats")})
+	srv, err := server.Start(server.Options{Dir: filepath.Join(dir, "nats")})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -38,7 +39,7 @@ snapshot = true
 	for k, o := range outs {
 		id, ref = k, o.Snapshot
 	}
-	cl := coordinator.NewClient(r.nc, r.names)
+	cl := client.New(r.nc, r.names)
 	live, err := cl.Field(context.Background(), ref)
 	if err != nil {
 		t.Fatal(err)
@@ -52,14 +53,14 @@ snapshot = true
 		}
 	}
 	r.close()
-	stored, err := coordinator.ReadStoredField(filepath.Join(dir, "nats"), ref)
+	stored, err := server.ReadStoredField(filepath.Join(dir, "nats"), ref)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if string(stored) != string(live) {
 		t.Errorf("snapshot from the files differs from the one read live")
 	}
-	if _, err := coordinator.ReadStoredField(filepath.Join(dir, "none"), ref); err == nil || !strings.Contains(err.Error(), "no NATS files") {
+	if _, err := server.ReadStoredField(filepath.Join(dir, "none"), ref); err == nil || !strings.Contains(err.Error(), "no NATS files") {
 		t.Errorf("missing files: %v", err)
 	}
 }

@@ -9,10 +9,12 @@ import (
 	"time"
 
 	"github.com/hashicorp/go-hclog"
-	"github.com/nats-io/nats-server/v2/server"
+	natsserver "github.com/nats-io/nats-server/v2/server"
 	"github.com/nats-io/nats.go"
 
 	"fvsweep/coordinator"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/server"
 	"fvsweep/store"
 	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
@@ -24,7 +26,7 @@ import (
 type rig struct {
 	t     testing.TB
 	dir   string
-	srv   *server.Server
+	srv   *natsserver.Server
 	url   string
 	nc    *nats.Conn
 	db    *store.DB
@@ -42,7 +44,7 @@ var testDelivery = coordinator.Delivery{AckWait: time.Second, MaxDeliver: 2}
 
 func newRig(t testing.TB, d coordinator.Delivery) *rig {
 	t.Helper()
-	srv, err := coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(t.TempDir(), "nats")})
+	srv, err := server.Start(server.Options{Dir: filepath.Join(t.TempDir(), "nats")})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -57,7 +59,7 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 	t.Helper()
 	r := &rig{t: t, dir: t.TempDir(), names: wire.Names{}, url: url}
 	var err error
-	r.nc, err = coordinator.Dial(coordinator.DialOptions{URL: url, Name: "test coordinator"})
+	r.nc, err = client.Dial(client.DialOptions{URL: url, Name: "test coordinator"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -110,7 +112,7 @@ func (w testWriter) Write(p []byte) (int, error) { w.t.Log(string(p)); return le
 // addWorker starts a worker with its own connection.
 func (r *rig) addWorker(conc int, run worker.Runner, tweak ...func(*worker.Config)) *worker.Worker {
 	r.t.Helper()
-	nc, err := coordinator.Dial(coordinator.DialOptions{URL: r.url, Name: "test worker"})
+	nc, err := client.Dial(client.DialOptions{URL: r.url, Name: "test worker"})
 	if err != nil {
 		r.t.Fatal(err)
 	}

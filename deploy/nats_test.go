@@ -7,9 +7,6 @@ import (
 	"testing"
 
 	"github.com/nats-io/nats-server/v2/server"
-
-	"fvsweep/coordinator"
-	"fvsweep/sweep/wire"
 )
 
 // loadNode parses nats/node-i.conf with the NATS server's own reader.
@@ -67,48 +64,4 @@ func TestNodeConfigRefusesMissingSecrets(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "FVSWEEP_WORKER_TOKEN") {
 		t.Fatalf("no FVSWEEP_WORKER_TOKEN: err %v, want one naming the variable", err)
 	}
-}
-
-// TestNodeUsersRights: the two users of deploy/nats have the passwords
-// from the environment and exactly the rights the embedded server gives
-// (coordinator.CoordinatorRights and WorkerRights for the default names).
-func TestNodeUsersRights(t *testing.T) {
-	setSecrets(t)
-	o := loadNode(t, 1)
-	users := map[string]*server.User{}
-	for _, u := range o.Users {
-		users[u.Username] = u
-	}
-	co, wk := users["coordinator"], users["worker"]
-	if co == nil || wk == nil || co.Password != "c0ffee01" || wk.Password != "deadbeef02" {
-		t.Fatalf("users %+v, want coordinator and worker with the passwords from the environment", o.Users)
-	}
-	n := wire.Names{}
-	for _, c := range []struct {
-		who  string
-		conf *server.Permissions
-		code *server.Permissions
-	}{{"coordinator", co.Permissions, coordinator.CoordinatorRights(n)}, {"worker", wk.Permissions, coordinator.WorkerRights(n)}} {
-		for _, side := range []struct {
-			what       string
-			conf, code *server.SubjectPermission
-		}{{"publish", c.conf.Publish, c.code.Publish}, {"subscribe", c.conf.Subscribe, c.code.Subscribe}} {
-			if !sameSet(side.conf.Allow, side.code.Allow) || !sameSet(side.conf.Deny, side.code.Deny) {
-				t.Errorf("%s %s rights differ:\n deploy/nats: allow %q deny %q\n code:        allow %q deny %q",
-					c.who, side.what, side.conf.Allow, side.conf.Deny, side.code.Allow, side.code.Deny)
-			}
-		}
-	}
-	for _, s := range []string{n.JobFilter(""), n.API(wire.VerbSubmit), n.API(wire.VerbCancel)} {
-		if !slices.Contains(wk.Permissions.Publish.Deny, s) {
-			t.Errorf("worker is not denied %s", s)
-		}
-	}
-}
-
-func sameSet(a, b []string) bool {
-	a, b = slices.Clone(a), slices.Clone(b)
-	slices.Sort(a)
-	slices.Sort(b)
-	return slices.Equal(a, b)
 }

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"fvsweep/coordinator"
+	"fvsweep/coordinator/server"
 	"fvsweep/sweep/wire"
 )
 
@@ -69,6 +70,6 @@ func (f *serverFlags) delivery() coordinator.Delivery {
 }
 
 // access is who may use the embedded server.
-func (f *serverFlags) access(c *common) coordinator.Access {
-	return coordinator.Access{Token: c.token, WorkerToken: f.workerToken, Names: wire.Names{}}
+func (f *serverFlags) access(c *common) server.Access {
+	return server.Access{Token: c.token, WorkerToken: f.workerToken, Names: wire.Names{}}
 }

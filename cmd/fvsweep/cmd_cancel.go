@@ -5,7 +5,7 @@ import (
 	"flag"
 	"fmt"
 
-	"fvsweep/store"
+	"fvsweep/coordinator/datadir"
 )
 
 const cancelUsage = `usage: fvsweep cancel SWEEP
@@ -29,28 +29,14 @@ func runCancel(args []string) int {
 		return code
 	}
 	name := pos[0]
-	src, err := c.open(context.Background())
+	rep, live, err := datadir.Cancel(context.Background(), c.dir(), c.clientOptions(), name)
 	if err != nil {
 		return fail("cancel: %v", err)
 	}
-	if src.client != nil {
-		defer src.close()
-		rep, err := src.client.Cancel(context.Background(), name)
-		if err != nil {
-			return fail("cancel: %v", err)
-		}
+	if live {
 		fmt.Printf("sweep %s canceled: %d jobs without an outcome dropped\n", name, rep.Purged)
 		return 0
 	}
-	src.close() // read-only; reopen for writing
-	db, err := store.Open(c.dbPath(), store.Options{})
-	if err != nil {
-		return fail("cancel: %v", err)
-	}
-	defer db.Close()
-	if err := db.SetCanceled(name, true); err != nil {
-		return fail("cancel: %v", err)
-	}
-	fmt.Printf("sweep %s marked canceled in %s (no coordinator running)\n", name, c.dbPath())
+	fmt.Printf("sweep %s marked canceled in %s (no coordinator running)\n", name, c.dir().DB())
 	return 0
 }

@@ -13,26 +13,14 @@ import (
 	"math"
 	"os"
 	"os/signal"
-	"path/filepath"
-	"strings"
 	"syscall"
-	"time"
 
 	"github.com/hashicorp/go-hclog"
 	"github.com/nats-io/nats.go"
 
-	"fvsweep/coordinator"
-	"fvsweep/store"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/datadir"
 	"fvsweep/sweep/spec"
-	"fvsweep/sweep/wire"
-)
-
-// Data directory layout.
-const (
-	dbFile      = "fvsweep.db"      // the store
-	natsDir     = "nats"            // the embedded server's JetStream files
-	urlFile     = "coordinator.url" // client URL of the running coordinator
-	defaultData = "fvsweep-data"
 )
 
 // common holds the flags every pipeline command takes.
@@ -46,9 +34,9 @@ type common struct {
 	// --mem-limit (zero: the defaults).
 	lim spec.Limits
 
-	// Credentials and TLS (coordinator.DialOptions).
+	// Credentials and TLS (client.DialOptions).
 	token, user, creds, nkey string
-	tls                      coordinator.TLSFiles
+	tls                      client.TLSFiles
 }
 
 // register adds --data, --nats, --log-level and --log-json to fs, with
@@ -56,7 +44,7 @@ type common struct {
 func (c *common) register(fs *flag.FlagSet) {
 	data := os.Getenv("FVSWEEP_DATA")
 	if data == "" {
-		data = defaultData
+		data = datadir.Default
 	}
 	fs.StringVar(&c.data, "data", data, "")
 	fs.StringVar(&c.nats, "nats", os.Getenv("FVSWEEP_NATS"), "")
@@ -99,82 +87,41 @@ func (c *common) logger(name string) (hclog.Logger, error) {
 
 // dialOptions are the connection settings from the flags; credentials and
 // TLS settings join them here.
-func (c *common) dialOptions(url, name string) coordinator.DialOptions {
-	return coordinator.DialOptions{URL: url, Name: name, Token: c.token, User: c.user,
+func (c *common) dialOptions(url, name string) client.DialOptions {
+	return client.DialOptions{URL: url, Name: name, Token: c.token, User: c.user,
 		CredsFile: c.creds, NKeyFile: c.nkey, TLS: c.tls}
 }
 
 // dial connects to the NATS server at url.
 func (c *common) dial(url, name string) (*nats.Conn, error) {
-	return coordinator.Dial(c.dialOptions(url, name))
+	return client.Dial(c.dialOptions(url, name))
 }
 
-func (c *common) dbPath() string { return filepath.Join(c.data, dbFile) }
+// dir is the data directory, --data.
+func (c *common) dir() datadir.Dir { return datadir.Dir(c.data) }
 
 // coordinatorURL is --nats, else the URL a running coordinator wrote into
 // the data directory, else "".
-func (c *common) coordinatorURL() string {
-	if c.nats != "" {
-		return c.nats
-	}
-	b, err := os.ReadFile(filepath.Join(c.data, urlFile))
-	if err != nil {
-		return ""
-	}
-	return strings.TrimSpace(string(b))
-}
+func (c *common) coordinatorURL() string { return c.dir().CoordinatorURL(c.nats) }
 
-// source is where a query command reads from: a running coordinator, or
-// the store opened read-only.
-type source struct {
-	client *coordinator.Client
-	nc     *nats.Conn
-	db     *store.DB
-}
-
-func (s *source) close() {
-	if s.nc != nil {
-		s.nc.Close()
-	}
-	if s.db != nil {
-		s.db.Close()
-	}
-}
+// clientOptions are the connection settings of a command that asks the
+// running coordinator.
+func (c *common) clientOptions() client.DialOptions { return c.dialOptions(c.nats, "fvsweep client") }
 
 // open finds the data: the coordinator when one answers, otherwise the
-// store in --data, read-only. With an explicit --nats and no coordinator
-// answering it still falls back to the store, if there is one.
-func (c *common) open(ctx context.Context) (*source, error) {
-	var coordErr error
-	if url := c.coordinatorURL(); url != "" {
-		o := c.dialOptions(url, "fvsweep client")
-		o.QuietDenied = true
-		nc, err := coordinator.Dial(o)
-		if err == nil {
-			cl := coordinator.NewClient(nc, wire.Names{})
-			cl.Timeout = 3 * time.Second
-			if _, err = cl.Ping(ctx); err == nil {
-				cl.Timeout = 30 * time.Second
-				return &source{client: cl, nc: nc}, nil
-			}
-			nc.Close()
-		}
-		if errors.Is(err, nats.ErrPermissionViolation) || errors.Is(err, nats.ErrAuthorization) {
-			return nil, err // the server answered: the store is not the fallback
-		}
-		coordErr = err
-	}
-	db, err := store.Open(c.dbPath(), store.Options{ReadOnly: true, Timeout: 2 * time.Second})
+// store in --data, read-only (see datadir.Open).
+func (c *common) open(ctx context.Context) (*datadir.Source, error) {
+	return datadir.Open(ctx, c.dir(), c.clientOptions())
+}
+
+// openSweep reads sweep name from the coordinator or the store, for
+// table, export, plot and report.
+func openSweep(c *common, name string) (*sweepData, error) {
+	sw, err := datadir.ReadSweep(context.Background(), c.dir(), c.clientOptions(), name)
 	if err != nil {
-		if coordErr != nil {
-			return nil, fmt.Errorf("%v; and %v", coordErr, err)
-		}
-		if errors.Is(err, os.ErrNotExist) {
-			return nil, fmt.Errorf("no coordinator running and no store at %s (see --data)", c.dbPath())
-		}
 		return nil, err
 	}
-	return &source{db: db}, nil
+	return &sweepData{name: sw.Name, rows: sw.Rows, specFile: sw.SpecFile, spec: sw.Spec}, nil
 }
 
 // parseArgs parses flags that may come before or after the positional

@@ -4,7 +4,7 @@ import (
 	"flag"
 	"fmt"
 
-	"fvsweep/coordinator"
+	"fvsweep/coordinator/server"
 )
 
 const nodeUsage = `usage: fvsweep node --config FILE
@@ -35,7 +35,7 @@ func runNode(args []string) int {
 	if *config == "" {
 		return usageErr("node", "--config FILE is required")
 	}
-	s, err := coordinator.StartNode(*config)
+	s, err := server.StartNode(*config)
 	if err != nil {
 		return fail("node: %v", err)
 	}

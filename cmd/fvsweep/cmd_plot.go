@@ -7,12 +7,10 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
-	"time"
 
-	"fvsweep/coordinator"
+	"fvsweep/coordinator/datadir"
 	"fvsweep/fv2d"
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/plots"
@@ -275,19 +273,5 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 // running coordinator (or --nats), else from the embedded server's files
 // in --data, opened just for this.
 func fetchSnapshot(c *common, ref string) ([]byte, error) {
-	if url := c.coordinatorURL(); url != "" {
-		nc, err := c.dial(url, "fvsweep plot")
-		if err == nil {
-			defer nc.Close()
-			ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
-			defer cancel()
-			return coordinator.FetchField(ctx, nc, ref)
-		}
-		if c.nats != "" {
-			return nil, err
-		}
-		// A coordinator.url left behind by a coordinator that died: its
-		// server's files are free to open.
-	}
-	return coordinator.ReadStoredField(filepath.Join(c.data, natsDir), ref)
+	return datadir.Snapshot(context.Background(), c.dir(), c.dialOptions(c.nats, "fvsweep plot"), ref)
 }

@@ -12,6 +12,8 @@ import (
 	"fvsweep/fv2d"
 	"fvsweep/sweep/field"
 	"fvsweep/worker"
+
+	"fvsweep/coordinator/datadir"
 )
 
 // fieldSpec is one vortex run (Shu's isentropic vortex, which has an exact
@@ -94,7 +96,7 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 	}
 
 	var stdout, stderr bytes.Buffer
-	if err := os.RemoveAll(filepath.Join(data, natsDir)); err != nil {
+	if err := os.RemoveAll(datadir.Dir(data).NATS()); err != nil {
 		t.Fatal(err)
 	}
 	code := runPlot([]string{"field", "field", "--job", jb.ID, "--data", data, "--out", filepath.Join(outDir, "x.png")}, &stdout, &stderr)

@@ -14,6 +14,8 @@ import (
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
 	"fvsweep/worker"
+
+	"fvsweep/coordinator/datadir"
 )
 
 const plotTestSpec = `name = "pics"
@@ -42,7 +44,7 @@ func plotRig(t *testing.T) (dir, jobID, snap string) {
 		t.Fatal(err)
 	}
 	dir = t.TempDir()
-	db, err := store.Open(filepath.Join(dir, dbFile), store.Options{})
+	db, err := store.Open(datadir.Dir(dir).DB(), store.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

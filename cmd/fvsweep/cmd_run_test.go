@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"fvsweep/coordinator/datadir"
 )
 
 // capture runs f with os.Stdout redirected and returns its exit code and
@@ -51,7 +53,7 @@ func TestRunResumeAndQueryStore(t *testing.T) {
 	if !strings.Contains(out, "limiter=mc max_steps=1000") || !strings.Contains(out, "step guard") {
 		t.Errorf("run output lacks the tables or the failures:\n%s", out)
 	}
-	if _, err := os.Stat(filepath.Join(data, urlFile)); !os.IsNotExist(err) {
+	if _, err := os.Stat(datadir.Dir(data).URLFile()); !os.IsNotExist(err) {
 		t.Errorf("coordinator.url left behind: %v", err)
 	}
 	code, out = capture(t, func() int { return runRun([]string{spec, "--data", data, "--format", "none"}) })
@@ -150,7 +152,7 @@ func TestRunJobLimit(t *testing.T) {
 	if code, _ := capture(t, func() int { return runRun([]string{spec, "--data", data, "--job-limit", "4"}) }); code != 1 {
 		t.Errorf("run --job-limit 4 of 8 runs: exit %d, want 1", code)
 	}
-	if _, err := os.Stat(filepath.Join(data, dbFile)); !os.IsNotExist(err) {
+	if _, err := os.Stat(datadir.Dir(data).DB()); !os.IsNotExist(err) {
 		t.Errorf("a refused spec left a store behind: %v", err)
 	}
 	if code, _ := capture(t, func() int { return runRun([]string{spec, "--data", data, "--job-limit", "0"}) }); code != 2 {

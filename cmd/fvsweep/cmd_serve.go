@@ -5,14 +5,15 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"os"
-	"path/filepath"
 
 	"github.com/hashicorp/go-hclog"
-	"github.com/nats-io/nats-server/v2/server"
+	natsserver "github.com/nats-io/nats-server/v2/server"
 	"github.com/nats-io/nats.go"
 
 	"fvsweep/coordinator"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/datadir"
+	"fvsweep/coordinator/server"
 	"fvsweep/store"
 	"fvsweep/sweep/job"
 )
@@ -39,7 +40,7 @@ func init() {
 // service is a running coordinator with its store and, unless an external
 // NATS server is used, its embedded server.
 type service struct {
-	srv   *server.Server // nil with --nats
+	srv   *natsserver.Server // nil with --nats
 	nc    *nats.Conn
 	db    *store.DB
 	coord *coordinator.Coordinator
@@ -47,9 +48,9 @@ type service struct {
 	log   hclog.Logger
 	web   *coordinator.Web // the status page, if --http
 
-	urlPath string
-	stop    context.CancelFunc
-	done    chan error
+	dir  datadir.Dir
+	stop context.CancelFunc
+	done chan error
 }
 
 // startService opens the store read-write, starts the embedded server on
@@ -58,28 +59,28 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	if err := sf.check(); err != nil {
 		return nil, err
 	}
-	db, err := store.Open(c.dbPath(), store.Options{})
+	db, err := store.Open(c.dir().DB(), store.Options{})
 	if errors.Is(err, store.ErrInUse) {
 		return nil, fmt.Errorf("%w: another fvsweep run or serve uses %s; send it work with 'fvsweep submit'", err, c.data)
 	}
 	if err != nil {
 		return nil, err
 	}
-	s := &service{db: db, log: log, urlPath: filepath.Join(c.data, urlFile)}
+	s := &service{db: db, log: log, dir: c.dir()}
 	o := c.dialOptions(c.nats, "fvsweep coordinator")
 	if c.nats == "" {
-		s.srv, err = coordinator.StartServer(coordinator.ServerOptions{Dir: filepath.Join(c.data, natsDir), Listen: listen, Log: log,
+		s.srv, err = server.Start(server.Options{Dir: c.dir().NATS(), Listen: listen, Log: log,
 			Access: sf.access(c), TLS: c.tls})
 		if err != nil {
 			db.Close()
 			return nil, err
 		}
-		o.InProcess, o.TLS = s.srv, coordinator.TLSFiles{}
+		o.InProcess, o.TLS = s.srv, client.TLSFiles{}
 		s.url = s.srv.ClientURL()
 	} else {
 		s.url = c.nats
 	}
-	if s.nc, err = coordinator.Dial(o); err != nil {
+	if s.nc, err = client.Dial(o); err != nil {
 		s.close()
 		return nil, err
 	}
@@ -102,8 +103,8 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 		s.close()
 		return nil, err
 	}
-	if err := os.WriteFile(s.urlPath, []byte(s.url+"\n"), 0o644); err != nil {
-		log.Warn("cannot write the coordinator URL; other commands need --nats", "file", s.urlPath, "error", err)
+	if err := s.dir.WriteURL(s.url); err != nil {
+		log.Warn("cannot write the coordinator URL; other commands need --nats", "file", s.dir.URLFile(), "error", err)
 	}
 	return s, nil
 }
@@ -112,9 +113,9 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 func (s *service) dial(c *common, name string) (*nats.Conn, error) {
 	o := c.dialOptions(s.url, name)
 	if s.srv != nil {
-		o.InProcess, o.TLS = s.srv, coordinator.TLSFiles{}
+		o.InProcess, o.TLS = s.srv, client.TLSFiles{}
 	}
-	return coordinator.Dial(o)
+	return client.Dial(o)
 }
 
 // close stops the coordinator (storing the outcomes in hand), the server
@@ -127,7 +128,7 @@ func (s *service) close() error {
 	if s.stop != nil {
 		s.stop()
 		err = <-s.done
-		os.Remove(s.urlPath)
+		s.dir.RemoveURL()
 	}
 	if s.nc != nil {
 		s.nc.Close()
@@ -174,7 +175,7 @@ func runServe(args []string) int {
 	if err != nil {
 		return fail("serve: %v", err)
 	}
-	log.Info("coordinator running", "nats", s.url, "store", c.dbPath())
+	log.Info("coordinator running", "nats", s.url, "store", c.dir().DB())
 	fmt.Printf("coordinator: workers join with: fvsweep worker --nats %s\n", s.url)
 	if err := wf.start(s, &c, log); err != nil {
 		s.close()

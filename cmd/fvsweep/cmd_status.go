@@ -90,13 +90,9 @@ func storeStatus(c *common, name string) (rep wire.StatusReply, live bool, err e
 	if err != nil {
 		return rep, false, err
 	}
-	defer src.close()
-	if src.client != nil {
-		rep, err = src.client.Status(context.Background(), name)
-		return rep, true, err
-	}
-	rep.Sweeps, err = coordinator.SweepStatuses(src.db, name, nil, nil)
-	return rep, false, err
+	defer src.Close()
+	rep, err = src.Status(context.Background(), name)
+	return rep, src.Live(), err
 }
 
 // writeStatus prints the status as text tables.

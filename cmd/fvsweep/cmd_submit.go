@@ -45,11 +45,11 @@ func runSubmit(args []string) int {
 	if err != nil {
 		return fail("submit: %v", err)
 	}
-	defer src.close()
-	if src.client == nil {
+	defer src.Close()
+	if !src.Live() {
 		return fail("submit: no coordinator is running for %s: start 'fvsweep serve' (or use 'fvsweep run %s')", c.data, pos[0])
 	}
-	rep, err := src.client.Submit(context.Background(), wire.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
+	rep, err := src.Client.Submit(context.Background(), wire.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
 	if err != nil {
 		return fail("submit: %v", err)
 	}

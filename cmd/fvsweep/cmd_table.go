@@ -1,7 +1,6 @@
 package main
 
 import (
-	"context"
 	"encoding/csv"
 	"encoding/json"
 	"flag"
@@ -14,7 +13,6 @@ import (
 	"strings"
 	"unicode/utf8"
 
-	"fvsweep/coordinator"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/report"
 	"fvsweep/sweep/spec"
@@ -61,33 +59,6 @@ type sweepData struct {
 	rows     []wire.Row
 	specFile string
 	spec     string
-}
-
-// loadSweep reads a sweep from the coordinator or the store.
-func loadSweep(ctx context.Context, src *source, name string) (*sweepData, error) {
-	d := &sweepData{name: name}
-	var err error
-	if src.client != nil {
-		d.rows, d.specFile, d.spec, err = src.client.RowsSpec(ctx, name)
-		return d, err
-	}
-	rec, err := src.db.Sweep(name)
-	if err != nil {
-		return nil, err
-	}
-	d.specFile, d.spec = rec.SpecFile, rec.Spec
-	d.rows, err = coordinator.Rows(src.db, name, nil)
-	return d, err
-}
-
-// openSweep opens the data and reads sweep name, for table and export.
-func openSweep(c *common, name string) (*sweepData, error) {
-	src, err := c.open(context.Background())
-	if err != nil {
-		return nil, err
-	}
-	defer src.close()
-	return loadSweep(context.Background(), src, name)
 }
 
 // tables builds the convergence tables of d.

@@ -7,6 +7,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"fvsweep/coordinator/datadir"
 )
 
 // specFiles writes the spec src into a temporary directory and names a
@@ -82,7 +84,7 @@ func TestRunRefusesOpenStatusPage(t *testing.T) {
 			t.Errorf("--http 0.0.0.0:0 without a token: exit %d, want 2", code)
 		}
 	}
-	if _, err := os.Stat(filepath.Join(data, dbFile)); !os.IsNotExist(err) {
+	if _, err := os.Stat(datadir.Dir(data).DB()); !os.IsNotExist(err) {
 		t.Errorf("a store was opened before the refusal: %v", err)
 	}
 }

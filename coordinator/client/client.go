@@ -1,140 +1,17 @@
-package coordinator
+package client
 
 import (
 	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
-	"fvsweep/sweep/wire"
-	"os"
+	"strings"
 	"time"
 
 	"github.com/nats-io/nats.go"
+
+	"fvsweep/sweep/wire"
 )
-
-// DialOptions say how a command, a worker or a coordinator connects to NATS.
-// Every connection of fvsweep is made by Dial, so that credentials and TLS
-// settings are added in one place.
-type DialOptions struct {
-	// URL is a NATS URL, or a comma-separated list of a cluster's URLs.
-	URL string
-	// InProcess, if set, connects to an embedded server without a socket.
-	InProcess nats.InProcessConnProvider
-	// Name is the connection name the server shows.
-	Name string
-	// Token authenticates with a token, if not empty; with User set it is
-	// that user's password instead.
-	Token string
-	User  string
-	// CredsFile is a NATS credentials file (user JWT and nkey seed) and
-	// NKeyFile a file holding an nkey seed, for clusters set up with them.
-	CredsFile string
-	NKeyFile  string
-	// TLS: CA verifies the server; Cert and Key are a client certificate.
-	TLS TLSFiles
-	// Timeout bounds the first connection (default 5 s).
-	Timeout time.Duration
-	// QuietDenied leaves permissions violations unprinted: set it for the
-	// connections of the Client, whose requests report them as errors.
-	// Other asynchronous errors are printed to stderr.
-	QuietDenied bool
-}
-
-// Dial connects to NATS. A worker or coordinator keeps reconnecting for as
-// long as the process runs; the first connection fails with an error naming
-// the URL.
-func Dial(o DialOptions) (*nats.Conn, error) {
-	if o.Timeout <= 0 {
-		o.Timeout = 5 * time.Second
-	}
-	opts := []nats.Option{
-		nats.Name(o.Name),
-		nats.Timeout(o.Timeout),
-		nats.MaxReconnects(-1),
-		nats.ReconnectWait(500 * time.Millisecond),
-		nats.ErrorHandler(func(_ *nats.Conn, _ *nats.Subscription, err error) {
-			if !o.QuietDenied || !errors.Is(err, nats.ErrPermissionViolation) {
-				fmt.Fprintf(os.Stderr, "fvsweep: %s: %v\n", o.Name, err)
-			}
-		}),
-	}
-	auth, err := o.authOptions()
-	if err != nil {
-		return nil, err
-	}
-	opts = append(opts, auth...)
-	url := o.URL
-	if o.InProcess != nil {
-		opts = append(opts, nats.InProcessServer(o.InProcess))
-		url = "" // nats.go ignores the URL
-	} else if url == "" {
-		return nil, errors.New("no NATS URL (--nats or FVSWEEP_NATS)")
-	}
-	nc, err := nats.Connect(url, opts...)
-	if err != nil {
-		if url == "" {
-			url = "embedded server"
-		}
-		if errors.Is(err, nats.ErrAuthorization) || errors.Is(err, nats.ErrAuthExpired) || errors.Is(err, nats.ErrAuthRevoked) {
-			return nil, fmt.Errorf("connecting to NATS at %s: the server refused the credentials (%s): %w", url, o.credentialsSaid(), err)
-		}
-		return nil, fmt.Errorf("connecting to NATS at %s: %w", url, err)
-	}
-	return nc, nil
-}
-
-// authOptions are the nats.go options for the credentials and TLS files.
-func (o DialOptions) authOptions() ([]nats.Option, error) {
-	var opts []nats.Option
-	n := 0
-	for _, s := range []string{o.Token, o.CredsFile, o.NKeyFile} {
-		if s != "" {
-			n++
-		}
-	}
-	if n > 1 {
-		return nil, errors.New("give one of --token, --creds and --nkey")
-	}
-	switch {
-	case o.User != "":
-		opts = append(opts, nats.UserInfo(o.User, o.Token))
-	case o.Token != "":
-		opts = append(opts, nats.Token(o.Token))
-	case o.CredsFile != "":
-		opts = append(opts, nats.UserCredentials(o.CredsFile))
-	case o.NKeyFile != "":
-		opt, err := nats.NkeyOptionFromSeed(o.NKeyFile)
-		if err != nil {
-			return nil, fmt.Errorf("--nkey %s: %w", o.NKeyFile, err)
-		}
-		opts = append(opts, opt)
-	}
-	if o.TLS.CA != "" {
-		opts = append(opts, nats.RootCAs(o.TLS.CA))
-	}
-	if o.TLS.Cert != "" || o.TLS.Key != "" {
-		if o.TLS.Cert == "" || o.TLS.Key == "" {
-			return nil, errors.New("a client certificate needs both --tls-cert and --tls-key")
-		}
-		opts = append(opts, nats.ClientCert(o.TLS.Cert, o.TLS.Key))
-	}
-	return opts, nil
-}
-
-// credentialsSaid names the credentials a refused connection presented.
-func (o DialOptions) credentialsSaid() string {
-	switch {
-	case o.User != "":
-		return fmt.Sprintf("user %q with --token", o.User)
-	case o.Token != "":
-		return "--token"
-	case o.CredsFile != "":
-		return "--creds " + o.CredsFile
-	case o.NKeyFile != "":
-		return "--nkey " + o.NKeyFile
-	}
-	return "none given: the server wants --token, --creds or --nkey (or FVSWEEP_TOKEN)"
-}
 
 // ErrNoCoordinator is returned (wrapped) by the Client when no coordinator
 // answers on the connection.
@@ -149,8 +26,8 @@ type Client struct {
 	Timeout time.Duration
 }
 
-// NewClient returns a client on nc.
-func NewClient(nc *nats.Conn, names wire.Names) *Client {
+// New returns a client on nc.
+func New(nc *nats.Conn, names wire.Names) *Client {
 	return &Client{nc: nc, names: names, Timeout: 10 * time.Second}
 }
 
@@ -282,4 +159,47 @@ func (c *Client) rows(ctx context.Context, name string) ([]wire.Row, wire.RowsRe
 			return rows, first, nil
 		}
 	}
+}
+
+// requestChecked is nc.RequestWithContext that fails at once when the
+// server refuses the publish with a permissions violation, instead of
+// waiting for a reply that cannot come.
+func requestChecked(ctx context.Context, nc *nats.Conn, subject string, data []byte) (*nats.Msg, error) {
+	before := nc.LastError()
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	type reply struct {
+		m   *nats.Msg
+		err error
+	}
+	ch := make(chan reply, 1)
+	go func() {
+		m, err := nc.RequestWithContext(ctx, subject, data)
+		ch <- reply{m, err}
+	}()
+	tick := time.NewTicker(20 * time.Millisecond)
+	defer tick.Stop()
+	for {
+		select {
+		case r := <-ch:
+			if err := deniedSince(nc, before, subject); err != nil {
+				return nil, err
+			}
+			return r.m, r.err
+		case <-tick.C:
+			if err := deniedSince(nc, before, subject); err != nil {
+				return nil, err
+			}
+		}
+	}
+}
+
+// deniedSince returns the connection's last error if it is a permissions
+// violation for subject that happened after before was the last error.
+func deniedSince(nc *nats.Conn, before error, subject string) error {
+	err := nc.LastError()
+	if err == nil || err == before || !errors.Is(err, nats.ErrPermissionViolation) || !strings.Contains(err.Error(), `"`+subject+`"`) {
+		return nil
+	}
+	return fmt.Errorf("not allowed with these credentials (a worker token cannot submit or cancel): %w", err)
 }

@@ -1,4 +1,4 @@
-package coordinator
+package server
 
 import (
 	"fmt"
@@ -6,7 +6,7 @@ import (
 	"os"
 	"time"
 
-	"github.com/nats-io/nats-server/v2/server"
+	natsserver "github.com/nats-io/nats-server/v2/server"
 )
 
 // RouteUser is the user name of the routes between the nodes of a cluster
@@ -25,8 +25,8 @@ const RouteUser = "fvsweep-route"
 //
 // The server logs to stderr as nats-server does. The caller stops it with
 // Shutdown and WaitForShutdown.
-func StartNode(configFile string) (*server.Server, error) {
-	opts, err := server.ProcessConfigFile(configFile)
+func StartNode(configFile string) (*natsserver.Server, error) {
+	opts, err := natsserver.ProcessConfigFile(configFile)
 	if err != nil {
 		return nil, fmt.Errorf("node config: %w", err)
 	}
@@ -48,7 +48,7 @@ func StartNode(configFile string) (*server.Server, error) {
 		return nil, fmt.Errorf("node config %s: clients may connect on %s without credentials; add an authorization block (see deploy/nats/common.conf) or listen on 127.0.0.1", configFile, host)
 	}
 	opts.NoSigs = true
-	s, err := server.NewServer(opts)
+	s, err := natsserver.NewServer(opts)
 	if err != nil {
 		return nil, fmt.Errorf("node config %s: %w", configFile, err)
 	}

@@ -1,4 +1,4 @@
-package coordinator
+package server
 
 import (
 	"fmt"
@@ -8,11 +8,13 @@ import (
 	"time"
 
 	"github.com/hashicorp/go-hclog"
-	"github.com/nats-io/nats-server/v2/server"
+	natsserver "github.com/nats-io/nats-server/v2/server"
+
+	"fvsweep/coordinator/client"
 )
 
-// ServerOptions configure the embedded NATS server.
-type ServerOptions struct {
+// Options configure the embedded NATS server.
+type Options struct {
 	// Dir holds the JetStream file store (DATA/nats).
 	Dir string
 	// Listen is HOST:PORT for client connections. Empty means 127.0.0.1 on a
@@ -25,15 +27,15 @@ type ServerOptions struct {
 	// Access holds the tokens clients must present. Listening on an
 	// address other than loopback requires Access.Token.
 	Access Access
-	// TLS, if set, makes client connections use TLS (see TLSFiles).
-	TLS TLSFiles
+	// TLS, if set, makes client connections use TLS (see client.TLSFiles).
+	TLS client.TLSFiles
 }
 
-// StartServer starts an in-process NATS server with JetStream and file
+// Start starts an in-process NATS server with JetStream and file
 // storage under o.Dir and waits until it accepts connections. The caller
 // shuts it down with Shutdown and WaitForShutdown.
-func StartServer(o ServerOptions) (*server.Server, error) {
-	host, port := "127.0.0.1", server.RANDOM_PORT
+func Start(o Options) (*natsserver.Server, error) {
+	host, port := "127.0.0.1", natsserver.RANDOM_PORT
 	if o.Listen != "" {
 		h, p, err := net.SplitHostPort(o.Listen)
 		if err != nil {
@@ -63,7 +65,7 @@ func StartServer(o ServerOptions) (*server.Server, error) {
 	if name == "" {
 		name = "fvsweep"
 	}
-	opts := &server.Options{
+	opts := &natsserver.Options{
 		ServerName: name,
 		Host:       host,
 		Port:       port,
@@ -78,7 +80,7 @@ func StartServer(o ServerOptions) (*server.Server, error) {
 	if o.Access.Token != "" {
 		opts.CustomClientAuthentication = newTokenAuth(o.Access)
 	}
-	if o.TLS.set() {
+	if o.TLS != (client.TLSFiles{}) {
 		cfg, err := serverTLS(o.TLS)
 		if err != nil {
 			return nil, err
@@ -86,7 +88,7 @@ func StartServer(o ServerOptions) (*server.Server, error) {
 		opts.TLSConfig, opts.TLS, opts.TLSVerify = cfg, true, o.TLS.CA != ""
 		opts.TLSTimeout = 5
 	}
-	s, err := server.NewServer(opts)
+	s, err := natsserver.NewServer(opts)
 	if err != nil {
 		return nil, fmt.Errorf("nats server: %w", err)
 	}

@@ -1,0 +1,169 @@
+package datadir
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"time"
+
+	"github.com/nats-io/nats.go"
+
+	"fvsweep/coordinator"
+	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/server"
+	"fvsweep/store"
+	"fvsweep/sweep/wire"
+)
+
+// Source is where a command reads from: the running coordinator, or the
+// store opened read-only when none answers.
+type Source struct {
+	// Client asks the running coordinator; nil when reading the store.
+	Client *client.Client
+	nc     *nats.Conn
+	db     *store.DB
+}
+
+// Open finds the data of d: the coordinator when one answers at o.URL, or
+// at the URL d holds when o.URL is empty; otherwise the store in d,
+// read-only. With a URL given and no coordinator answering it still falls
+// back to the store, if there is one; a server that refuses the
+// credentials or the request is an error, not a reason to read the store.
+func Open(ctx context.Context, d Dir, o client.DialOptions) (*Source, error) {
+	var coordErr error
+	if o.URL = d.CoordinatorURL(o.URL); o.URL != "" {
+		o.QuietDenied = true
+		nc, err := client.Dial(o)
+		if err == nil {
+			cl := client.New(nc, wire.Names{})
+			cl.Timeout = 3 * time.Second
+			if _, err = cl.Ping(ctx); err == nil {
+				cl.Timeout = 30 * time.Second
+				return &Source{Client: cl, nc: nc}, nil
+			}
+			nc.Close()
+		}
+		if errors.Is(err, nats.ErrPermissionViolation) || errors.Is(err, nats.ErrAuthorization) {
+			return nil, err // the server answered: the store is not the fallback
+		}
+		coordErr = err
+	}
+	db, err := store.Open(d.DB(), store.Options{ReadOnly: true, Timeout: 2 * time.Second})
+	if err != nil {
+		if coordErr != nil {
+			return nil, fmt.Errorf("%v; and %v", coordErr, err)
+		}
+		if errors.Is(err, os.ErrNotExist) {
+			return nil, fmt.Errorf("no coordinator running and no store at %s (see --data)", d.DB())
+		}
+		return nil, err
+	}
+	return &Source{db: db}, nil
+}
+
+// Live reports whether s asks a running coordinator.
+func (s *Source) Live() bool { return s.Client != nil }
+
+// Close closes the connection or the store.
+func (s *Source) Close() {
+	if s.nc != nil {
+		s.nc.Close()
+	}
+	if s.db != nil {
+		s.db.Close()
+	}
+}
+
+// Status is the status of sweep name ("" for every sweep) with the live
+// workers; read from the store, nothing is running and no worker listed.
+func (s *Source) Status(ctx context.Context, name string) (wire.StatusReply, error) {
+	if s.Client != nil {
+		return s.Client.Status(ctx, name)
+	}
+	var rep wire.StatusReply
+	var err error
+	rep.Sweeps, err = coordinator.SweepStatuses(s.db, name, nil, nil)
+	return rep, err
+}
+
+// Sweep is a sweep's jobs with their states, in dispatch order, and its
+// spec as last submitted.
+type Sweep struct {
+	Name     string
+	Rows     []wire.Row
+	SpecFile string // the spec's file name
+	Spec     string // the spec's TOML source
+}
+
+// Sweep reads sweep name.
+func (s *Source) Sweep(ctx context.Context, name string) (*Sweep, error) {
+	sw := &Sweep{Name: name}
+	var err error
+	if s.Client != nil {
+		sw.Rows, sw.SpecFile, sw.Spec, err = s.Client.RowsSpec(ctx, name)
+		return sw, err
+	}
+	rec, err := s.db.Sweep(name)
+	if err != nil {
+		return nil, err
+	}
+	sw.SpecFile, sw.Spec = rec.SpecFile, rec.Spec
+	sw.Rows, err = coordinator.Rows(s.db, name, nil)
+	return sw, err
+}
+
+// ReadSweep opens the data of d (see Open), reads sweep name and closes it.
+func ReadSweep(ctx context.Context, d Dir, o client.DialOptions, name string) (*Sweep, error) {
+	src, err := Open(ctx, d, o)
+	if err != nil {
+		return nil, err
+	}
+	defer src.Close()
+	return src.Sweep(ctx, name)
+}
+
+// Cancel cancels sweep name through the running coordinator (live true,
+// rep says how many queued jobs it dropped), or, with none answering, marks
+// it canceled in the store of d for the coordinator to apply when it
+// starts.
+func Cancel(ctx context.Context, d Dir, o client.DialOptions, name string) (rep wire.CancelReply, live bool, err error) {
+	src, err := Open(ctx, d, o)
+	if err != nil {
+		return rep, false, err
+	}
+	if src.Client != nil {
+		defer src.Close()
+		rep, err = src.Client.Cancel(ctx, name)
+		return rep, true, err
+	}
+	src.Close() // read-only; reopen for writing
+	db, err := store.Open(d.DB(), store.Options{})
+	if err != nil {
+		return rep, false, err
+	}
+	defer db.Close()
+	return rep, false, db.SetCanceled(name, true)
+}
+
+// Snapshot reads the field snapshot ref (see client.FetchField): through
+// the NATS server at o.URL, or at the URL d holds, else from the embedded
+// server's files in d, opened just for this. A URL given in o that cannot
+// be reached is an error; the URL d holds may be one a coordinator that
+// died left behind, and then its server's files are free to open.
+func Snapshot(ctx context.Context, d Dir, o client.DialOptions, ref string) ([]byte, error) {
+	given := o.URL != ""
+	if o.URL = d.CoordinatorURL(o.URL); o.URL != "" {
+		nc, err := client.Dial(o)
+		if err == nil {
+			defer nc.Close()
+			ctx, cancel := context.WithTimeout(ctx, 30*time.Second)
+			defer cancel()
+			return client.FetchField(ctx, nc, ref)
+		}
+		if given {
+			return nil, err
+		}
+	}
+	return server.ReadStoredField(d.NATS(), ref)
+}

@@ -1,0 +1,43 @@
+package server_test
+
+import (
+	"strings"
+	"testing"
+
+	"fvsweep/coordinator/server"
+)
+
+// Start refuses, before it starts anything, an embedded server that anyone
+// beyond this machine could use, or whose worker secret gives nothing less.
+func TestStartRefusesOpenAccess(t *testing.T) {
+	for _, c := range []struct {
+		o    server.Options
+		want string
+	}{
+		{server.Options{Listen: "0.0.0.0:0"}, "needs credentials"},
+		{server.Options{Listen: "192.0.2.1:4222"}, "needs credentials"},
+		{server.Options{Access: server.Access{WorkerToken: "w"}}, "--worker-token needs --token"},
+		{server.Options{Access: server.Access{Token: "same", WorkerToken: "same"}}, "--worker-token equals --token"},
+		{server.Options{Listen: "127.0.0.1:70000"}, "bad port"},
+	} {
+		c.o.Dir = t.TempDir()
+		s, err := server.Start(c.o)
+		if err == nil {
+			s.Shutdown()
+		}
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%+v: error %v, want one saying %q", c.o, err, c.want)
+		}
+	}
+}
+
+func TestIsLoopback(t *testing.T) {
+	for host, want := range map[string]bool{
+		"localhost": true, "127.0.0.1": true, "127.8.9.10": true, "::1": true,
+		"0.0.0.0": false, "192.0.2.1": false, "example.org": false, "": false,
+	} {
+		if got := server.IsLoopback(host); got != want {
+			t.Errorf("IsLoopback(%q) = %v, want %v", host, got, want)
+		}
+	}
+}
