@@ -72,11 +72,15 @@ func TestGCICommandSpacingsAnyOrder(t *testing.T) {
 }
 
 func TestGCICommandManyGrids(t *testing.T) {
-	var st struct {
-		Records []map[string]any `json:"records"`
-		LS      map[string]any   `json:"least_squares"`
+	var raw struct {
+		Records []map[string]any // "records", matched without regard to case
+		LS      map[string]any
 	}
-	gciJSON(t, &st, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
+	gciJSON(t, &raw, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
+	var ls struct{ Least_squares map[string]any } // the key least_squares
+	gciJSON(t, &ls, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
+	st := raw
+	st.LS = ls.Least_squares
 	if len(st.Records) != 3 || st.LS == nil {
 		t.Fatalf("records %d least squares %v", len(st.Records), st.LS)
 	}

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"fvsweep/coordinator/web"
 	"os"
 	"path/filepath"
 
@@ -45,7 +46,7 @@ type service struct {
 	coord *coordinator.Coordinator
 	url   string // client URL
 	log   hclog.Logger
-	web   *coordinator.Web // the status page, if --http
+	web   *web.Server // the status page, if --http
 
 	urlPath string
 	stop    context.CancelFunc

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"fvsweep/coordinator/web"
 	"io"
 	"os"
 	"strings"
@@ -70,7 +71,7 @@ func runStatus(args []string) int {
 	if *asJSON {
 		var v any = rep
 		if name != "" && len(rep.Sweeps) == 1 {
-			v = coordinator.SweepView{SweepStatus: rep.Sweeps[0], Workers: rep.Workers}
+			v = web.SweepView{SweepStatus: rep.Sweeps[0], Workers: rep.Workers}
 		}
 		enc := json.NewEncoder(os.Stdout)
 		enc.SetIndent("", "  ")
