@@ -72,15 +72,18 @@ func TestGCICommandSpacingsAnyOrder(t *testing.T) {
 }
 
 func TestGCICommandManyGrids(t *testing.T) {
-	var raw struct {
-		Records []map[string]any // "records", matched without regard to case
+	var raw map[string]any
+	gciJSON(t, &raw, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
+	var st struct {
+		Records []map[string]any
 		LS      map[string]any
 	}
-	gciJSON(t, &raw, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
-	var ls struct{ Least_squares map[string]any } // the key least_squares
-	gciJSON(t, &ls, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
-	st := raw
-	st.LS = ls.Least_squares
+	recs, _ := raw["records"].([]any)
+	for _, r := range recs {
+		m, _ := r.(map[string]any)
+		st.Records = append(st.Records, m)
+	}
+	st.LS, _ = raw["least_squares"].(map[string]any)
 	if len(st.Records) != 3 || st.LS == nil {
 		t.Fatalf("records %d least squares %v", len(st.Records), st.LS)
 	}
