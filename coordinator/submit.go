@@ -35,7 +35,7 @@ const submitChunk = 4096
 // that a large sweep is never held in memory whole.
 func (c *Coordinator) Submit(ctx context.Context, sp *spec.Spec, retryFailed bool) (wire.SubmitReply, error) {
 	rep := wire.SubmitReply{Sweep: sp.Name}
-	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source}
+	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source, Studies: sp.Settings()}
 	defer c.bump()
 	// Each checks the whole spec before it gives the first job, so that a
 	// bad spec changes nothing: the sweep is reopened at the first job.

@@ -20,7 +20,9 @@
 // struct tags:
 //
 //   - SweepRecord: name, spec_file, spec (the spec text as last submitted),
-//     created, updated (RFC 3339 times, UTC), canceled, jobs (count).
+//     created, updated (RFC 3339 times, UTC), canceled, jobs (count),
+//     studies (job.StudySettings of each study; absent in records written
+//     before they were kept).
 //   - job.Job: job_id, sweep, study, case, params (object of canonical
 //     string values), refine, group, cost, snapshot.
 //   - job.Outcome: job_id, sweep, status ("done" or "failed"), worker,

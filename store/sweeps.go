@@ -21,6 +21,10 @@ type SweepRecord struct {
 	Updated  time.Time `json:"updated"`
 	Canceled bool      `json:"canceled"`
 	Jobs     int       `json:"jobs"` // number of jobs in the sweep
+	// Studies are the resolved settings of the spec's studies as last
+	// submitted; nil in records written before they were kept (read
+	// spec.StoredSettings of Spec then).
+	Studies []job.StudySettings `json:"studies,omitempty"`
 }
 
 // putChunk is the most jobs one write transaction of PutSweep adds. A bbolt
@@ -29,8 +33,8 @@ type SweepRecord struct {
 // 100,000-job sweep in one transaction.
 var putChunk = 10_000
 
-// PutSweep creates the sweep named rec.Name, or updates its SpecFile, Spec
-// and Updated, and adds the jobs not already in it (by Job.ID); a job already
+// PutSweep creates the sweep named rec.Name, or updates its SpecFile, Spec,
+// Studies and Updated, and adds the jobs not already in it (by Job.ID); a job already
 // in the sweep is left as stored. Created (now when zero) and Canceled are
 // taken from rec only when the sweep is new; Jobs is counted by the store. A
 // job's Sweep must be rec.Name or empty (it is stored as rec.Name).

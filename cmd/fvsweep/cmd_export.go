@@ -1,17 +1,10 @@
 package main
 
 import (
-	"encoding/csv"
-	"encoding/json"
 	"flag"
-	"io"
-	"maps"
 	"os"
-	"slices"
-	"strconv"
 
-	"fvsweep/sweep/job"
-	"fvsweep/sweep/wire"
+	"fvsweep/sweep/table"
 )
 
 const exportUsage = `usage: fvsweep export SWEEP --format csv|json
@@ -32,41 +25,6 @@ func init() {
 	register(command{name: "export", summary: "write a sweep's jobs and results as CSV or JSON", run: runExport})
 }
 
-// exportRow is one job in the JSON export.
-type exportRow struct {
-	JobID       string               `json:"job_id"`
-	Study       int                  `json:"study"`
-	Case        string               `json:"case"`
-	Params      map[string]string    `json:"params"`
-	Status      job.Status           `json:"status"`
-	Attempts    int                  `json:"attempts"`
-	Worker      string               `json:"worker"`
-	WallS       float64              `json:"wall_s"`
-	Steps       int                  `json:"steps"`
-	TFinal      float64              `json:"t_final"`
-	Errors      map[string]job.Norms `json:"errors"`
-	Functionals map[string]float64   `json:"functionals,omitempty"`
-	Snapshot    string               `json:"snapshot,omitempty"`
-	Error       string               `json:"error"`
-}
-
-func exportRows(rows []wire.Row) []exportRow {
-	out := make([]exportRow, len(rows))
-	for i, r := range rows {
-		e := exportRow{JobID: r.Job.ID, Study: r.Job.Study, Case: r.Job.Case, Params: r.Job.Params,
-			Status: r.Status, Worker: r.Worker, Errors: map[string]job.Norms{}}
-		if o := r.Outcome; o != nil {
-			e.Attempts, e.WallS, e.Steps, e.TFinal, e.Error = o.Attempts, o.WallS, o.Steps, o.TFinal, o.Error
-			e.Functionals, e.Snapshot = o.Functionals, o.Snapshot
-			if o.Errors != nil {
-				e.Errors = o.Errors
-			}
-		}
-		out[i] = e
-	}
-	return out
-}
-
 func runExport(args []string) int {
 	fs := flag.NewFlagSet("export", flag.ContinueOnError)
 	var c common
@@ -83,60 +41,8 @@ func runExport(args []string) int {
 	if err != nil {
 		return fail("export: %v", err)
 	}
-	rows := exportRows(d.rows)
-	if *format == "json" {
-		err = writeExportJSON(os.Stdout, rows)
-	} else {
-		err = writeExportCSV(os.Stdout, rows)
-	}
-	if err != nil {
+	if err := table.WriteExport(os.Stdout, *format, d.rows); err != nil {
 		return fail("export: %v", err)
 	}
 	return 0
-}
-
-func writeExportJSON(w io.Writer, rows []exportRow) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(rows)
-}
-
-// writeExportCSV writes fixed columns, then every parameter and every
-// variable's norms that any job has, in sorted order.
-func writeExportCSV(w io.Writer, rows []exportRow) error {
-	params, vars := map[string]bool{}, map[string]bool{}
-	for _, r := range rows {
-		for k := range r.Params {
-			params[k] = true
-		}
-		for v := range r.Errors {
-			vars[v] = true
-		}
-	}
-	pk, vk := slices.Sorted(maps.Keys(params)), slices.Sorted(maps.Keys(vars))
-	head := []string{"job_id", "study", "case", "status", "attempts", "worker", "wall_s", "steps", "t_final", "error"}
-	head = append(head, pk...)
-	for _, v := range vk {
-		head = append(head, v+"_l1", v+"_l2", v+"_linf")
-	}
-	cw := csv.NewWriter(w)
-	cw.Write(head)
-	g := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-	for _, r := range rows {
-		rec := []string{r.JobID, strconv.Itoa(r.Study), r.Case, string(r.Status), strconv.Itoa(r.Attempts), r.Worker,
-			g(r.WallS), strconv.Itoa(r.Steps), g(r.TFinal), r.Error}
-		for _, k := range pk {
-			rec = append(rec, r.Params[k])
-		}
-		for _, v := range vk {
-			if n, ok := r.Errors[v]; ok {
-				rec = append(rec, g(n.L1), g(n.L2), g(n.Linf))
-			} else {
-				rec = append(rec, "", "", "")
-			}
-		}
-		cw.Write(rec)
-	}
-	cw.Flush()
-	return cw.Error()
 }

@@ -121,7 +121,13 @@ func openSweep(c *common, name string) (*sweepData, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &sweepData{name: sw.Name, rows: sw.Rows, specFile: sw.SpecFile, spec: sw.Spec}, nil
+	d := &sweepData{name: sw.Name, rows: sw.Rows, specFile: sw.SpecFile, spec: sw.Spec, studies: sw.Studies}
+	if d.studies == nil {
+		// A record written before the store kept the study settings, or
+		// the coordinator's answer, which carries the spec alone: parse once.
+		d.studies = spec.StoredSettings(d.specFile, d.spec)
+	}
+	return d, nil
 }
 
 // parseArgs parses flags that may come before or after the positional

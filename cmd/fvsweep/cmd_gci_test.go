@@ -72,11 +72,18 @@ func TestGCICommandSpacingsAnyOrder(t *testing.T) {
 }
 
 func TestGCICommandManyGrids(t *testing.T) {
+	var raw map[string]any
+	gciJSON(t, &raw, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
 	var st struct {
-		Records []map[string]any `json:"records"`
-		LS      map[string]any   `json:"least_squares"`
+		Records []map[string]any
+		LS      map[string]any
 	}
-	gciJSON(t, &st, "--values", "1.0003,1.0012,1.0048,1.019,1.07", "--h", "0.025,0.05,0.1,0.2,0.4", "--json")
+	recs, _ := raw["records"].([]any)
+	for _, r := range recs {
+		m, _ := r.(map[string]any)
+		st.Records = append(st.Records, m)
+	}
+	st.LS, _ = raw["least_squares"].(map[string]any)
 	if len(st.Records) != 3 || st.LS == nil {
 		t.Fatalf("records %d least squares %v", len(st.Records), st.LS)
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/table"
 	"io"
 	"math"
 	"os"
@@ -129,12 +130,13 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 // studyPlot prepares the convergence or cost plot of one study.
-func studyPlot(sd *sweepData, kind string, n int, o report.Options) (plots.Drawer, []string, error) {
-	studies, _, _, err := sd.tables(o)
+func studyPlot(sd *sweepData, kind string, n int, o table.Options) (plots.Drawer, []string, error) {
+	set, err := sd.tables(o)
+	studies := set.Studies
 	if err != nil {
 		return nil, nil, err
 	}
-	var st *report.Study
+	var st *table.Study
 	var withErrors []string
 	for i := range studies {
 		if studies[i].HasErrors() {

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/table"
 	"io"
 	"os"
 	"path/filepath"
@@ -46,7 +47,7 @@ func (j *judgeFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&j.norm, "norm", "", "")
 }
 
-func (j judgeFlags) options() report.Options { return report.Options{Var: j.v, Norm: j.norm} }
+func (j judgeFlags) options() table.Options { return table.Options{Var: j.v, Norm: j.norm} }
 
 // runReport is the report command: exit code 0, 1 on failure, 2 on bad usage.
 func runReport(args []string, stdout, stderr io.Writer) int {
@@ -84,14 +85,14 @@ func runReport(args []string, stdout, stderr io.Writer) int {
 	}
 	o := jf.options()
 	o.Functional = *functional
-	studies, fails, _, err := d.tables(o)
+	set, err := d.tables(o)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep report: %v\n", err)
 		return 1
 	}
-	r := &report.Report{Sweep: names[0], SpecFile: d.specFile, Spec: d.spec, Failures: fails,
+	r := &report.Report{Sweep: names[0], SpecFile: d.specFile, Spec: d.spec, Failures: set.Failures,
 		Machine: report.ThisMachine(version), Generated: time.Now()}
-	for _, s := range studies {
+	for _, s := range set.Studies {
 		r.Studies = append(r.Studies, report.StudyReport{Study: s})
 	}
 	r.AddFigures()

@@ -4,9 +4,11 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/table"
 	"io"
 	"os"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -15,7 +17,6 @@ import (
 	"golang.org/x/term"
 
 	"fvsweep/coordinator"
-	"fvsweep/sweep/report"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
@@ -77,8 +78,7 @@ func runRun(args []string) int {
 	if *conc == 0 {
 		*conc = max(1, runtime.NumCPU()/max(1, *nw))
 	}
-	tw, ok := tableWriters[*format]
-	if !ok && *format != "none" {
+	if !slices.Contains(table.Formats, *format) && *format != "none" {
 		return usageErr("run", "--format %q: want text, markdown, csv, json or none", *format)
 	}
 	log, err := c.logger("fvsweep")
@@ -163,9 +163,9 @@ func runRun(args []string) int {
 		if err != nil {
 			return fail("run: %v", err)
 		}
-		d := &sweepData{name: rep.Sweep, rows: rows, specFile: spec.File, spec: spec.Source}
+		d := &sweepData{name: rep.Sweep, rows: rows, specFile: spec.File, spec: spec.Source, studies: spec.Settings()}
 		fmt.Println()
-		if err := printTables(os.Stdout, d, report.Options{}, tw); err != nil {
+		if err := printTables(os.Stdout, d, table.Options{}, *format); err != nil {
 			return fail("run: tables: %v", err)
 		}
 	}

@@ -14,6 +14,7 @@ import (
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/datadir"
 	"fvsweep/coordinator/server"
+	"fvsweep/coordinator/web"
 	"fvsweep/store"
 	"fvsweep/sweep/job"
 )
@@ -46,7 +47,7 @@ type service struct {
 	coord *coordinator.Coordinator
 	url   string // client URL
 	log   hclog.Logger
-	web   *coordinator.Web // the status page, if --http
+	web   *web.Server // the status page, if --http
 
 	dir  datadir.Dir
 	stop context.CancelFunc

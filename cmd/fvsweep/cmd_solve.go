@@ -7,6 +7,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/table"
 	"io"
 	"math"
 	"os"
@@ -129,39 +130,28 @@ func solveMain(args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// num is a float64 that encodes NaN and Inf as JSON null.
-type num float64
-
-func (x num) MarshalJSON() ([]byte, error) {
-	f := float64(x)
-	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return []byte("null"), nil
-	}
-	return json.Marshal(f)
-}
-
 // reportJSON is the Result as JSON with non-finite numbers as null.
 func reportJSON(r *fv2d.Result) map[string]any {
 	out := map[string]any{
 		"case": r.Case, "params": r.Params, "nx": r.NX, "ny": r.NY, "steps": r.Steps,
-		"t_final": num(r.TFinal), "wall_s": num(r.WallS), "cell_updates_per_s": num(r.CellUpdatesPerS),
+		"t_final": table.Num(r.TFinal), "wall_s": table.Num(r.WallS), "cell_updates_per_s": table.Num(r.CellUpdatesPerS),
 	}
-	totals := map[string]map[string]num{}
+	totals := map[string]map[string]table.Num{}
 	for k, t := range r.Totals {
-		totals[k] = map[string]num{"initial": num(t.Initial), "final": num(t.Final)}
+		totals[k] = map[string]table.Num{"initial": table.Num(t.Initial), "final": table.Num(t.Final)}
 	}
 	out["totals"] = totals
 	if r.Errors != nil {
-		errs := map[string]map[string]num{}
+		errs := map[string]map[string]table.Num{}
 		for k, n := range r.Errors {
-			errs[k] = map[string]num{"l1": num(n.L1), "l2": num(n.L2), "linf": num(n.Linf)}
+			errs[k] = map[string]table.Num{"l1": table.Num(n.L1), "l2": table.Num(n.L2), "linf": table.Num(n.Linf)}
 		}
 		out["errors"] = errs
 	}
 	if r.Functionals != nil {
-		fn := map[string]num{}
+		fn := map[string]table.Num{}
 		for k, x := range r.Functionals {
-			fn[k] = num(x)
+			fn[k] = table.Num(x)
 		}
 		out["functionals"] = fn
 	}

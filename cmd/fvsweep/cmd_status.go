@@ -5,13 +5,13 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"fvsweep/coordinator/web"
 	"io"
 	"os"
 	"strings"
 	"text/tabwriter"
 	"time"
 
-	"fvsweep/coordinator"
 	"fvsweep/sweep/wire"
 )
 
@@ -70,7 +70,7 @@ func runStatus(args []string) int {
 	if *asJSON {
 		var v any = rep
 		if name != "" && len(rep.Sweeps) == 1 {
-			v = coordinator.SweepView{SweepStatus: rep.Sweeps[0], Workers: rep.Workers}
+			v = web.SweepView{SweepStatus: rep.Sweeps[0], Workers: rep.Workers}
 		}
 		enc := json.NewEncoder(os.Stdout)
 		enc.SetIndent("", "  ")

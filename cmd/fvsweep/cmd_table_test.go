@@ -11,7 +11,7 @@ import (
 	"testing"
 
 	"fvsweep/sweep/job"
-	"fvsweep/sweep/report"
+	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
 )
 
@@ -49,7 +49,7 @@ func tableData(t *testing.T) *sweepData {
 		t.Fatal(err)
 	}
 	phi := map[int]float64{18000: 6.063, 8000: 5.972, 4500: 5.863}
-	d := &sweepData{name: "tbl", specFile: "tbl.toml", spec: tableSpec}
+	d := &sweepData{name: "tbl", specFile: "tbl.toml", spec: tableSpec, studies: spec.Settings()}
 	for _, j := range jobs {
 		nx, _ := strconv.Atoi(j.Params["nx"])
 		ny, _ := strconv.Atoi(j.Params["ny"])
@@ -66,10 +66,10 @@ func tableData(t *testing.T) *sweepData {
 	return d
 }
 
-func renderTables(t *testing.T, d *sweepData, format string, o report.Options) string {
+func renderTables(t *testing.T, d *sweepData, format string, o table.Options) string {
 	t.Helper()
 	var b bytes.Buffer
-	if err := printTables(&b, d, o, tableWriters[format]); err != nil {
+	if err := printTables(&b, d, o, format); err != nil {
 		t.Fatalf("%s: %v", format, err)
 	}
 	return b.String()
@@ -80,21 +80,21 @@ func renderTables(t *testing.T, d *sweepData, format string, o report.Options) s
 func TestTableJSONGCIMatchesGCICommand(t *testing.T) {
 	var set struct {
 		Studies []struct {
-			Exact       bool     `json:"exact"`
-			Functionals []string `json:"functionals"`
+			Exact       bool
+			Functionals []string
 			Groups      []struct {
 				Rows []struct {
-					Functionals map[string]*float64 `json:"functionals"`
-				} `json:"rows"`
+					Functionals map[string]*float64
+				}
 				GCI []struct {
-					Functional string           `json:"functional"`
-					NX         []int            `json:"nx"`
-					Records    []map[string]any `json:"records"`
-				} `json:"gci"`
-			} `json:"groups"`
-		} `json:"studies"`
+					Functional string
+					NX         []int
+					Records    []map[string]any
+				}
+			}
+		}
 	}
-	if err := json.Unmarshal([]byte(renderTables(t, tableData(t), "json", report.Options{})), &set); err != nil {
+	if err := json.Unmarshal([]byte(renderTables(t, tableData(t), "json", table.Options{})), &set); err != nil {
 		t.Fatal(err)
 	}
 	var cmd strings.Builder
@@ -142,7 +142,7 @@ func TestTableJSONGCIMatchesGCICommand(t *testing.T) {
 // status said once.
 func TestTableTextAndMarkdownGCI(t *testing.T) {
 	d := tableData(t)
-	text := renderTables(t, d, "text", report.Options{})
+	text := renderTables(t, d, "text", table.Options{})
 	quad, vortex, _ := strings.Cut(text, "study 2 ")
 	for _, want := range []string{"study 1 celik (quadrants): no exact solution; GCI of entropy", "entropy", "6.063",
 		"GCI (Celik et al. 2008", "entropy on the finest grid (nx 180): 6.063 ± 0.132 (GCI_fine 2.17 %)", "180/100/90", "monotone", "1.53", "6.168496" /* Celik et al.: 6.1685 */, "1.5 %", "1.71 %", "2.17 %"} {
@@ -158,7 +158,7 @@ func TestTableTextAndMarkdownGCI(t *testing.T) {
 	if !strings.Contains(vortex, "verdict: order-low (finest-pair order 1.5") || strings.Contains(vortex, "order-low: ") || strings.Contains(vortex, "GCI") {
 		t.Errorf("text of study 2:\n%s", vortex)
 	}
-	md := renderTables(t, d, "markdown", report.Options{})
+	md := renderTables(t, d, "markdown", table.Options{})
 	for _, want := range []string{"| nx | ny | h | entropy | wall_s | status |", "| entropy | 180/100/90 | 1.5 | 1.333 | monotone | 1.53 |",
 		"verdict: **order-low** (finest-pair"} {
 		if !strings.Contains(md, want) {
@@ -166,11 +166,11 @@ func TestTableTextAndMarkdownGCI(t *testing.T) {
 		}
 	}
 	// --functional picks another one where the results report it.
-	text = renderTables(t, d, "text", report.Options{Functional: "rho_max"})
+	text = renderTables(t, d, "text", table.Options{Functional: "rho_max"})
 	if quad, _, _ := strings.Cut(text, "study 2 "); !strings.Contains(quad, "GCI of rho_max") || strings.Contains(quad, "GCI of entropy") {
 		t.Errorf("--functional rho_max:\n%s", quad)
 	}
-	if err := printTables(&bytes.Buffer{}, d, report.Options{Functional: "lift"}, tableWriters["text"]); err == nil || !strings.Contains(err.Error(), `"lift"`) {
+	if err := printTables(&bytes.Buffer{}, d, table.Options{Functional: "lift"}, "text"); err == nil || !strings.Contains(err.Error(), `"lift"`) {
 		t.Errorf("--functional lift: %v", err)
 	}
 }
@@ -178,7 +178,7 @@ func TestTableTextAndMarkdownGCI(t *testing.T) {
 // CSV: one line per grid and one per GCI record, every line as wide as the
 // header, the GCI quantities as fractions.
 func TestTableCSVGCI(t *testing.T) {
-	recs, err := csv.NewReader(strings.NewReader(renderTables(t, tableData(t), "csv", report.Options{}))).ReadAll()
+	recs, err := csv.NewReader(strings.NewReader(renderTables(t, tableData(t), "csv", table.Options{}))).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}

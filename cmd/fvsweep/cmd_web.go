@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"fvsweep/coordinator/web"
 	"io"
 	"net/http"
 	"net/url"
@@ -15,7 +16,6 @@ import (
 
 	"github.com/hashicorp/go-hclog"
 
-	"fvsweep/coordinator"
 	"fvsweep/sweep/wire"
 )
 
@@ -53,7 +53,7 @@ func (f *webFlags) check(c *common) error {
 	if f.addr == "" {
 		return nil
 	}
-	if err := coordinator.CheckWebAddr(f.addr, f.tokenFor(c)); err != nil {
+	if err := web.CheckAddr(f.addr, f.tokenFor(c)); err != nil {
 		return fmt.Errorf("--http: %w", err)
 	}
 	return nil
@@ -66,7 +66,7 @@ func (f *webFlags) start(s *service, c *common, log hclog.Logger) error {
 		return nil
 	}
 	tok := f.tokenFor(c)
-	w, err := s.coord.ServeWeb(coordinator.WebOptions{Addr: f.addr, Token: tok, Log: log.Named("http")})
+	w, err := web.Serve(s.coord, web.Options{Addr: f.addr, Token: tok, Log: log.Named("http")})
 	if err != nil {
 		return fmt.Errorf("--http: %w", err)
 	}
@@ -109,7 +109,7 @@ func pageStatus(addr, token, name string) (wire.StatusReply, error) {
 	}
 	if res.StatusCode != http.StatusOK {
 		var e struct {
-			Error string `json:"error"`
+			Error string // the key "error", matched without regard to case
 		}
 		if json.Unmarshal(body, &e) != nil || e.Error == "" {
 			e.Error = strings.TrimSpace(string(body))
@@ -119,7 +119,7 @@ func pageStatus(addr, token, name string) (wire.StatusReply, error) {
 	if name == "" {
 		err = json.Unmarshal(body, &rep)
 	} else {
-		var v coordinator.SweepView
+		var v web.SweepView
 		err = json.Unmarshal(body, &v)
 		rep = wire.StatusReply{Sweeps: []wire.SweepStatus{v.SweepStatus}, Workers: v.Workers}
 	}

@@ -13,6 +13,7 @@ import (
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/server"
 	"fvsweep/store"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/wire"
 )
 
@@ -94,6 +95,9 @@ type Sweep struct {
 	Rows     []wire.Row
 	SpecFile string // the spec's file name
 	Spec     string // the spec's TOML source
+	// Studies are the resolved study settings the store keeps; nil for a
+	// record written before it kept them, and from a live coordinator.
+	Studies []job.StudySettings
 }
 
 // Sweep reads sweep name.
@@ -108,7 +112,7 @@ func (s *Source) Sweep(ctx context.Context, name string) (*Sweep, error) {
 	if err != nil {
 		return nil, err
 	}
-	sw.SpecFile, sw.Spec = rec.SpecFile, rec.Spec
+	sw.SpecFile, sw.Spec, sw.Studies = rec.SpecFile, rec.Spec, rec.Studies
 	sw.Rows, err = coordinator.Rows(s.db, name, nil)
 	return sw, err
 }

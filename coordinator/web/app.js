@@ -129,15 +129,24 @@ async function drawTables() {
     if (got.body === null) return; // unchanged
     const v = got.body;
     tablesTag = got.tag;
-    const pending = v.studies.reduce((n, s) => n + s.pending, 0);
+    // The JSON is that of 'fvsweep table --format json': a grid is still to
+    // come while its status is neither done nor failed.
+    let pending = 0;
+    for (const s of v.studies || []) for (const g of s.groups || []) for (const r of g.rows || []) {
+      if (r.status !== "done" && r.status !== "failed") pending++;
+    }
     note.className = "quiet";
     note.textContent = pending > 0
       ? `${pending} grid${pending === 1 ? "" : "s"} still to come; the tables fill in as results are stored.`
       : "Every grid has a result.";
-    drawFailures(v.failures);
-    if (v.html !== lastTablesHTML) {
-      document.getElementById("tables").innerHTML = v.html; // rendered and escaped by the server
-      lastTablesHTML = v.html;
+    drawFailures(v.failures || []);
+    // The same tables as HTML, rendered and escaped by the server.
+    const r = await fetch(path + ".html", { credentials: "same-origin", cache: "no-store" });
+    if (!r.ok) throw new Error(r.status + " " + r.statusText);
+    const html = await r.text();
+    if (html !== lastTablesHTML) {
+      document.getElementById("tables").innerHTML = html;
+      lastTablesHTML = html;
     }
   } catch (e) {
     note.className = "error";

@@ -1,3 +1,7 @@
+// Package report writes the report file of a sweep: per study its
+// convergence and cost plots (package plots) with the tables of package
+// table, then the failures, the spec and the machine, in one
+// self-contained HTML file.
 package report
 
 import (
@@ -6,14 +10,13 @@ import (
 	"fmt"
 	"html/template"
 	"io"
-	"math"
 	"os"
 	"runtime"
-	"strconv"
 	"strings"
 	"time"
 
 	"fvsweep/sweep/plots"
+	"fvsweep/sweep/table"
 )
 
 // Machine is where and with what a report was made.
@@ -46,7 +49,7 @@ type Figure struct {
 
 // StudyReport is a study's tables with its plots.
 type StudyReport struct {
-	Study
+	table.Study
 	Figures []Figure
 	Notes   []string // plots that could not be drawn, and why
 }
@@ -57,7 +60,7 @@ type Report struct {
 	SpecFile  string
 	Spec      string // the spec source as submitted
 	Studies   []StudyReport
-	Failures  []Failure
+	Failures  []table.Failure
 	Machine   Machine
 	Generated time.Time
 	Notes     []string
@@ -124,10 +127,10 @@ func (r *Report) AddFigures() {
 			sr.Notes = append(sr.Notes, "no errors to plot yet (no finished grid)")
 			continue
 		}
-		y := NormLabel(sr.Study.Norm, sr.Study.Var)
+		y := table.NormLabel(sr.Study.Norm, sr.Study.Var)
 		for _, mk := range []struct {
 			name, caption string
-			fn            func(Study) (*plots.Figure, error)
+			fn            func(table.Study) (*plots.Figure, error)
 		}{
 			{"convergence", y + " against the grid spacing h, log-log, one line per group; dashed grey: slopes of order 1 and 2; legend: least-squares order ± its standard error.", ConvergenceFigure},
 			{"cost", y + " against CPU seconds (wall x threads), coarse grid first: the line lower left reaches an error for less work.", CostFigure},
@@ -154,38 +157,11 @@ func Write(w io.Writer, r *Report) error {
 	return page.ExecuteTemplate(w, "page", r)
 }
 
-// WriteTables writes the convergence tables of the studies as an HTML
-// fragment (no document around it), the same markup Write uses, for pages
-// that show tables filling in as results arrive.
-func WriteTables(w io.Writer, studies []Study) error {
-	return page.ExecuteTemplate(w, "tables", studies)
-}
-
 var funcs = template.FuncMap{
-	"num": func(v float64) string { // errors and spacings: 4 significant digits
-		if math.IsNaN(v) {
-			return "–"
-		}
-		return strconv.FormatFloat(v, 'e', 3, 64)
-	},
-	"order": func(v float64) string {
-		if math.IsNaN(v) {
-			return "–"
-		}
-		return strconv.FormatFloat(v, 'f', 2, 64)
-	},
-	"secs": func(v float64) string {
-		if v == 0 {
-			return "–"
-		}
-		return strconv.FormatFloat(v, 'g', 3, 64)
-	},
-	"norm":       NormLabel,
-	"phi":        FormatPhi,
-	"gciHeader":  func() []string { return GCIHeader },
-	"gciCaption": func() string { return GCICaption },
-	"when":       func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
-	"short":      func(id string) string { return id[:min(12, len(id))] },
+	"heading": table.HeadingHTML,
+	"groups":  table.GroupsHTML,
+	"when":    func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04:05 UTC") },
+	"short":   func(id string) string { return id[:min(12, len(id))] },
 }
 
 var page = template.Must(template.New("page").Funcs(funcs).Parse(pageTemplate))
@@ -223,13 +199,13 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 {{end}}
 {{range .Studies}}
 <section id="study-{{.Index}}">
-{{template "head" .}}
+{{heading .Study}}
 {{range .Figures}}<figure>
 {{.SVG}}
 <figcaption>{{.Caption}}{{range .Notes}} <span class="note">{{.}}</span>{{end}}</figcaption>
 </figure>
 {{end}}{{range .Notes}}<p class="note">{{.}}</p>
-{{end}}{{template "study" .Study}}
+{{end}}{{groups .Study}}
 </section>
 {{end}}
 <h2>Failures</h2>
@@ -243,31 +219,4 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 <pre>{{.Spec}}</pre>
 </body>
 </html>
-{{end}}
-
-{{define "tables"}}{{range .}}<section id="tables-{{.Index}}">
-{{template "head" .}}
-{{template "study" .}}
-</section>
-{{end}}{{end}}
-
-{{define "head"}}<h2>Study {{.Index}}: {{.Case}}{{if .Label}} ({{.Label}}){{end}}</h2>
-<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. {{if .Exact}}Error measure: {{norm .Norm .Var}}.{{else}}No exact solution: no errors or orders.{{end}}{{if .Functionals}} Functionals: {{range $i, $f := .Functionals}}{{if $i}}, {{end}}{{$f}}{{end}}, with the grid convergence index (Celik et al. 2008).{{end}}</p>
-{{end}}
-
-{{define "study"}}{{$st := .}}{{range .Groups}}
-<h3>{{.Label}}</h3>
-<table>
-<tr><th>nx</th><th>ny</th><th>h</th>{{if $st.Exact}}<th>{{norm $st.Norm $st.Var}}</th><th>observed order</th>{{end}}{{range $st.Functionals}}<th>{{.}}</th>{{end}}<th>wall s</th><th>status</th></tr>
-{{range .Rows}}<tr><td>{{.NX}}</td><td>{{.NY}}</td><td>{{num .H}}</td>{{if $st.Exact}}<td>{{num .Err}}</td><td>{{order .Order}}</td>{{end}}{{range .Phi}}<td>{{phi .}}</td>{{end}}<td>{{secs .WallS}}</td><td class="t">{{.Status}}</td></tr>
-{{end}}</table>
-{{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
-<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}</p>
-{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
-{{with .GCICells}}<table>
-<tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
-{{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
-{{end}}</table>
-{{end}}{{range .GCIResults}}<p>{{.}}</p>
-{{end}}{{range .GCINotes}}<p class="note">{{.}}</p>
-{{end}}{{end}}{{end}}{{end}}`
+{{end}}`

@@ -6,12 +6,14 @@ import (
 	"io"
 	"math"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
 
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
+	"fvsweep/sweep/table"
 	"fvsweep/sweep/verify"
 )
 
@@ -36,10 +38,17 @@ refine = { nx = [16, 32] }
 // except one failed job and one left pending.
 func fakeOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) {
 	t.Helper()
-	sp, jobs := parseExpand(t, "rep.toml", testSpec)
+	sp, err := spec.Parse("rep.toml", []byte(testSpec), spec.Limits{})
+	var jobs []job.Job
+	if err == nil {
+		jobs, err = sp.Expand()
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
 	outs := map[string]job.Outcome{}
 	for _, j := range jobs {
-		h := 10 / float64(atoi(j.Params["nx"]))
+		h := 10 / float64(nxOf(j))
 		p := map[string]float64{"minmod": 1.5, "mc": 2}[j.Params["limiter"]]
 		if j.Params["scheme"] == "godunov" {
 			p = 1
@@ -61,7 +70,7 @@ func fakeOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) 
 
 func TestBuildTables(t *testing.T) {
 	sp, jobs, outs := fakeOutcomes(t)
-	studies, fails, err := Build(sp, jobs, outs, Options{})
+	studies, fails, err := table.Build(sp.Settings(), jobs, outs, table.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -119,21 +128,21 @@ func TestBuildTables(t *testing.T) {
 
 func TestBuildOptions(t *testing.T) {
 	sp, jobs, outs := fakeOutcomes(t)
-	studies, _, err := Build(sp, jobs, outs, Options{Norm: "linf"})
+	studies, _, err := table.Build(sp.Settings(), jobs, outs, table.Options{Norm: "linf"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if r := studies[0].Groups[0].Rows[0]; r.Err != outs[r.JobID].Errors["rho"].Linf {
 		t.Errorf("linf: err %g", r.Err)
 	}
-	if _, _, err := Build(sp, jobs, outs, Options{Norm: "l3"}); err == nil || !strings.Contains(err.Error(), `norm "l3"`) {
+	if _, _, err := table.Build(sp.Settings(), jobs, outs, table.Options{Norm: "l3"}); err == nil || !strings.Contains(err.Error(), `norm "l3"`) {
 		t.Errorf("norm l3: %v", err)
 	}
-	if _, _, err := Build(sp, jobs, outs, Options{Var: "E2"}); err == nil || !strings.Contains(err.Error(), `"E2"`) {
+	if _, _, err := table.Build(sp.Settings(), jobs, outs, table.Options{Var: "E2"}); err == nil || !strings.Contains(err.Error(), `"E2"`) {
 		t.Errorf("var E2: %v", err)
 	}
 	// Without a spec: design order from the scheme, default tolerance.
-	studies, _, err = Build(nil, jobs, outs, Options{})
+	studies, _, err = table.Build(nil, jobs, outs, table.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -144,7 +153,7 @@ func TestBuildOptions(t *testing.T) {
 
 func TestSeries(t *testing.T) {
 	sp, jobs, outs := fakeOutcomes(t)
-	studies, _, _ := Build(sp, jobs, outs, Options{})
+	studies, _, _ := table.Build(sp.Settings(), jobs, outs, table.Options{})
 	conv := ConvergenceSeries(studies[0])
 	cost := CostSeries(studies[0])
 	if len(conv) != 2 || len(cost) != 2 {
@@ -164,23 +173,9 @@ func TestSeries(t *testing.T) {
 	}
 }
 
-// parseExpand parses the spec src and expands it into its jobs.
-func parseExpand(t *testing.T, file, src string) (*spec.Spec, []job.Job) {
-	t.Helper()
-	sp, err := spec.Parse(file, []byte(src), spec.Limits{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	jobs, err := sp.Expand()
-	if err != nil {
-		t.Fatal(err)
-	}
-	return sp, jobs
-}
-
 func sampleReport(t *testing.T) *Report {
 	sp, jobs, outs := fakeOutcomes(t)
-	studies, fails, err := Build(sp, jobs, outs, Options{})
+	studies, fails, err := table.Build(sp.Settings(), jobs, outs, table.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -257,8 +252,8 @@ func TestWriteReport(t *testing.T) {
 func TestWriteTablesFragment(t *testing.T) {
 	r := sampleReport(t)
 	var buf bytes.Buffer
-	studies := []Study{r.Studies[0].Study}
-	if err := WriteTables(&buf, studies); err != nil {
+	studies := []table.Study{r.Studies[0].Study}
+	if err := table.WriteHTML(&buf, studies); err != nil {
 		t.Fatal(err)
 	}
 	s := buf.String()
@@ -275,3 +270,5 @@ func TestInlineSVGRejectsBroken(t *testing.T) {
 		t.Error("two roots accepted")
 	}
 }
+
+func nxOf(j job.Job) int { n, _ := strconv.Atoi(j.Params["nx"]); return n }

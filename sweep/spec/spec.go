@@ -21,6 +21,7 @@ import (
 	"github.com/pelletier/go-toml/v2/unstable"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/verify"
 )
 
 // Limits bound what a spec may ask for. A zero field means its default.
@@ -33,7 +34,7 @@ type Limits struct {
 const (
 	DefaultMaxJobs  = 200_000
 	DefaultMaxBytes = 8 << 30 // 8 GiB
-	DefaultOrderTol = 0.15    // |observed - design order| accepted by a verdict (common practice; docs/references.md §6)
+	DefaultOrderTol = verify.DefaultOrderTol
 	MaxSpecBytes    = 4 << 20 // largest spec file Load reads
 )
 

@@ -5,6 +5,10 @@ import (
 	"math"
 )
 
+// DefaultOrderTol is the |observed - design order| a verdict accepts when
+// a study sets no tolerance (common practice; docs/references.md §6).
+const DefaultOrderTol = 0.15
+
 // Statuses of an OrderVerdict.
 const (
 	StatusPass          = "pass"              // finest-pair order within tol of the design order

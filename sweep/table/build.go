@@ -1,15 +1,19 @@
-// Package report gathers the results of a sweep into convergence tables,
-// per study and per parameter group, and writes them with their plots, the
-// spec, the failures and the machine into one self-contained HTML file.
+// Package table is the one model of a sweep's results and its writers: the
+// runs of each study grouped by every parameter but the grid, per grid the
+// spacing, the error norms, the observed order against the next coarser grid
+// and the functionals, per group the fitted order, the verdict and the grid
+// convergence index of each functional, and the failed jobs; written as
+// text, markdown, CSV, JSON (the same JSON for the CLI and the status page)
+// and the HTML the report and the status page embed.
 //
-// The table model (Study, Group, GridRow, FunctionalGCI, Failure) is plain
-// data with JSON tags, built by Build from jobs and outcomes alone, so that a
-// live status page can build it from a running sweep and render it with
-// WriteTables. Cases with an exact solution are judged by their error norms
-// and observed orders; functionals of the solution (the only measure when
-// there is no exact solution) by the grid convergence index of Celik et al.
-// 2008 (verify.GCI).
-package report
+// Build makes the model from jobs, outcomes and the studies' settings alone,
+// so that a live status page can build it from a running sweep. Cases with
+// an exact solution are judged by their error norms and observed orders;
+// functionals of the solution (the only measure when there is no exact
+// solution) by the grid convergence index of Celik et al. 2008
+// (verify.GCI). The maths is package verify's; this package only arranges
+// its inputs and results.
+package table
 
 import (
 	"fmt"
@@ -22,28 +26,27 @@ import (
 
 	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
-	"fvsweep/sweep/spec"
 	"fvsweep/sweep/verify"
 )
 
-// GridRow is one grid of a convergence table.
+// GridRow is one grid of a convergence table. A number the grid does not
+// have (not done yet, failed, no exact solution, undefined) is NaN.
 type GridRow struct {
-	JobID  string  `json:"job_id"`
-	NX     int     `json:"nx"`
-	NY     int     `json:"ny"`
-	H      float64 `json:"h"`      // (X1 - X0) / nx
-	Status string  `json:"status"` // done | failed | pending
-	// Err is the chosen norm of the chosen variable, NaN when there is none
-	// (not done yet, failed, or the case has no exact solution).
-	Err float64 `json:"err"`
+	JobID  string
+	NX, NY int
+	H      float64 // (X1 - X0) / nx
+	Status string  // done | failed | pending
+	// L1, L2 and Linf are the error norms of the study's variable; Err is
+	// the one of the study's norm.
+	L1, L2, Linf float64
+	Err          float64
 	// Order is the observed order between this grid and the next coarser
 	// one, NaN on the coarsest grid or where either error is missing.
-	Order float64 `json:"order"`
-	// Phi holds the value of each of Study.Functionals on this grid, NaN
-	// where the outcome reports none (not done yet, failed).
-	Phi   []float64 `json:"phi"`
-	WallS float64   `json:"wall_s"`
-	CPUS  float64   `json:"cpu_s"` // wall seconds x threads
+	Order float64
+	// Phi holds the value of each of Study.Functionals on this grid.
+	Phi   []float64
+	WallS float64
+	CPUS  float64 // wall seconds x threads
 
 	hRep float64 // representative spacing of the GCI (see gciSpacing)
 }
@@ -51,40 +54,49 @@ type GridRow struct {
 // Group is one convergence table: the runs of a study that differ only in
 // their grid.
 type Group struct {
-	Label   string              `json:"label"`  // the parameters that vary between groups of the study, "k=v ..."
-	Ident   string              `json:"ident"`  // job.Job.Group: every parameter but the grid
-	Params  map[string]string   `json:"params"` // parameters of the coarsest grid's job
-	Rows    []GridRow           `json:"rows"`   // coarsest grid first
-	Fitted  bool                `json:"fitted"`
-	Fit     verify.Fit          `json:"fit"`
-	Verdict verify.OrderVerdict `json:"verdict"`
+	Label   string            // the parameters that vary between groups of the study, "k=v ..."
+	Ident   string            // job.Job.Group: every parameter but the grid
+	Params  map[string]string // parameters of the coarsest grid's job
+	Rows    []GridRow         // coarsest grid first
+	Fitted  bool              // Fit holds the least-squares fit over the grids with an error
+	Fit     verify.Fit
+	Verdict verify.OrderVerdict
 	// GCI is the solution verification of each of Study.Functionals over
 	// the group's finished grids, in the order of Study.Functionals.
-	GCI []FunctionalGCI `json:"gci,omitempty"`
+	GCI []FunctionalGCI
+
+	functionals []string // Study.Functionals, the names of GridRow.Phi
 }
 
 // Study is the convergence tables of one [[study]] of a spec.
 type Study struct {
-	Index  int     `json:"index"` // 1-based
-	Label  string  `json:"label"`
-	Case   string  `json:"case"`
-	Var    string  `json:"var"`
-	Norm   string  `json:"norm"`
-	Design float64 `json:"design_order"` // 0: from each group's scheme
-	Tol    float64 `json:"order_tol"`
-	TolHi  float64 `json:"order_tol_high"`
+	Index  int // 1-based
+	Label  string
+	Case   string
+	Var    string
+	Norm   string
+	Design float64 // 0: from each group's scheme
+	Tol    float64
+	TolHi  float64
 	// Exact tells whether the case has an exact solution, so that errors
 	// and orders exist at all.
-	Exact bool `json:"exact"`
+	Exact bool
 	// Functional is the functional the study or Options names, "" if none;
 	// Functionals are the ones the tables show: that one, or without one
 	// and without an exact solution every functional the case reports.
-	Functional  string   `json:"functional,omitempty"`
-	Functionals []string `json:"functionals,omitempty"`
-	Groups      []Group  `json:"groups"`
-	Done        int      `json:"done"`
-	Failed      int      `json:"failed"`
-	Pending     int      `json:"pending"`
+	Functional  string
+	Functionals []string
+	Groups      []Group
+	Done        int
+	Failed      int
+	Pending     int
+}
+
+// Set is the tables of one sweep: what every writer writes.
+type Set struct {
+	Sweep    string    `json:"sweep"`
+	Studies  []Study   `json:"studies"`
+	Failures []Failure `json:"failures"`
 }
 
 // Failure is a job recorded as failed, with its reason.
@@ -98,9 +110,9 @@ type Failure struct {
 }
 
 // Options choose what the tables judge. Empty fields take the study's
-// setting from the spec, and without a spec the first conserved variable of
+// setting, and without one the first conserved variable of
 // the case, the L1 norm, the design order of the scheme and
-// spec.DefaultOrderTol. Functional applies to the studies whose results
+// verify.DefaultOrderTol. Functional applies to the studies whose results
 // report it; it is an error when no study's results do.
 type Options struct {
 	Var, Norm  string
@@ -123,12 +135,13 @@ func normOf(n job.Norms, name string) float64 {
 }
 
 // Build groups the sweep's jobs into studies and convergence tables and
-// collects the failures. spec may be nil (the stored source could not be
-// parsed): studies are then formed from the jobs' study indices alone.
+// collects the failures. settings are the studies' settings by index
+// (job.Job.Study - 1); a study beyond them (none kept, the stored source did
+// not parse) takes the defaults.
 // Outcomes are keyed by job ID; a job without one is pending. It is an
 // error when o names an unknown norm, or a variable that no outcome of a
 // study reports while some report others.
-func Build(sp *spec.Spec, jobs []job.Job, outcomes map[string]job.Outcome, o Options) ([]Study, []Failure, error) {
+func Build(settings []job.StudySettings, jobs []job.Job, outcomes map[string]job.Outcome, o Options) ([]Study, []Failure, error) {
 	if o.Norm != "" && !slices.Contains(Norms, o.Norm) {
 		return nil, nil, fmt.Errorf("norm %q: want one of %s", o.Norm, strings.Join(Norms, ", "))
 	}
@@ -146,9 +159,9 @@ func Build(sp *spec.Spec, jobs []job.Job, outcomes map[string]job.Outcome, o Opt
 	reported := map[string]bool{} // functionals any result reports, for the Options.Functional error
 	for _, k := range idx {
 		sj := byStudy[k]
-		st := Study{Index: k, Case: sj[0].Case, Tol: spec.DefaultOrderTol, TolHi: spec.DefaultOrderTol, Norm: "l1"}
-		if sp != nil && k >= 1 && k <= len(sp.Studies) {
-			ss := sp.Studies[k-1]
+		st := Study{Index: k, Case: sj[0].Case, Tol: verify.DefaultOrderTol, TolHi: verify.DefaultOrderTol, Norm: "l1"}
+		if k >= 1 && k <= len(settings) {
+			ss := settings[k-1]
 			st.Var, st.Design, st.Tol, st.TolHi, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.OrderTolHi, ss.Functional
 			if ss.Label != ss.Case {
 				st.Label = ss.Label
@@ -202,10 +215,11 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 	seenVar, otherVars := false, map[string]bool{}
 	for _, ident := range order {
 		gj := byGroup[ident]
-		g := Group{Ident: ident}
+		g := Group{Ident: ident, functionals: st.Functionals}
 		for _, j := range gj {
-			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]),
-				Status: "pending", Err: math.NaN(), Order: math.NaN(), Phi: make([]float64, len(st.Functionals))}
+			nan := math.NaN()
+			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]), Status: "pending",
+				L1: nan, L2: nan, Linf: nan, Err: nan, Order: nan, Phi: make([]float64, len(st.Functionals))}
 			r.H, r.hRep = spacings(j, gj)
 			for i := range r.Phi {
 				r.Phi[i] = math.NaN()
@@ -215,6 +229,7 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 				r.CPUS = out.WallS * math.Max(1, float64(atoi(j.Params["threads"])))
 				if out.Status == job.StatusDone {
 					if n, ok := out.Errors[st.Var]; ok {
+						r.L1, r.L2, r.Linf = n.L1, n.L2, n.Linf
 						r.Err = normOf(n, st.Norm)
 						seenVar = true
 					}
@@ -384,3 +399,15 @@ func canonical(params map[string]string) string {
 }
 
 func atoi(s string) int { n, _ := strconv.Atoi(s); return n }
+
+// HasErrors reports whether any grid of st has an error.
+func (st *Study) HasErrors() bool {
+	for _, g := range st.Groups {
+		for _, r := range g.Rows {
+			if !math.IsNaN(r.Err) {
+				return true
+			}
+		}
+	}
+	return false
+}

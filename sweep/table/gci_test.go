@@ -1,4 +1,4 @@
-package report
+package table
 
 import (
 	"math"
@@ -53,7 +53,7 @@ func celikOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome)
 
 func TestBuildFunctionalGCICelik(t *testing.T) {
 	sp, jobs, outs := celikOutcomes(t)
-	studies, _, err := Build(sp, jobs, outs, Options{})
+	studies, _, err := Build(sp.Settings(), jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -157,7 +157,7 @@ functional = "rho_max"
 		h := 1 / float64(atoi(j.Params["nx"]))
 		return map[string]float64{"rho_max": 1 + 0.3*math.Pow(h, 1.5)}
 	})
-	studies, _, err := Build(sp, jobs, outs, Options{})
+	studies, _, err := Build(sp.Settings(), jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -223,7 +223,7 @@ refine = { nx = [16, 32] }
 			outs[id] = o
 		}
 	}
-	studies, _, err := Build(sp, jobs, outs, Options{})
+	studies, _, err := Build(sp.Settings(), jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -243,14 +243,14 @@ refine = { nx = [16, 32] }
 	if vd := v.Groups[0].Verdict; vd.Status != verify.StatusLow || strings.HasPrefix(vd.Summary, vd.Status) || !strings.HasPrefix(vd.Summary, "finest-pair order 1") {
 		t.Errorf("vortex verdict %+v", vd)
 	}
-	studies, _, err = Build(sp, jobs, outs, Options{Functional: "rho_min"})
+	studies, _, err = Build(sp.Settings(), jobs, outs, Options{Functional: "rho_min"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if q, v := studies[0], studies[1]; len(q.Functionals) != 2 || !reflect.DeepEqual(v.Functionals, []string{"rho_min"}) || len(v.Groups[0].GCI) != 1 {
 		t.Errorf("--functional rho_min: quadrants %v, vortex %v", q.Functionals, v.Functionals)
 	}
-	if _, _, err := Build(sp, jobs, outs, Options{Functional: "lift"}); err == nil || !strings.Contains(err.Error(), `"lift"`) || !strings.Contains(err.Error(), "rho_max") {
+	if _, _, err := Build(sp.Settings(), jobs, outs, Options{Functional: "lift"}); err == nil || !strings.Contains(err.Error(), `"lift"`) || !strings.Contains(err.Error(), "rho_max") {
 		t.Errorf("unknown functional: %v", err)
 	}
 }
@@ -274,7 +274,7 @@ func TestBuildFunctionalGCINotes(t *testing.T) {
 			outs[id] = o
 		}
 	}
-	studies, _, err := Build(sp, jobs, outs, Options{})
+	studies, _, err := Build(sp.Settings(), jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -289,12 +289,12 @@ func TestBuildFunctionalGCINotes(t *testing.T) {
 // solution.
 func TestWriteTablesGCI(t *testing.T) {
 	sp, jobs, outs := celikOutcomes(t)
-	studies, _, err := Build(sp, jobs, outs, Options{})
+	studies, _, err := Build(sp.Settings(), jobs, outs, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	var b strings.Builder
-	if err := WriteTables(&b, studies); err != nil {
+	if err := WriteHTML(&b, studies); err != nil {
 		t.Fatal(err)
 	}
 	html := b.String()
@@ -310,4 +310,18 @@ func TestWriteTablesGCI(t *testing.T) {
 			t.Errorf("tables of a case without exact solution show %q", bad)
 		}
 	}
+}
+
+// parseExpand parses the spec src and expands it into its jobs.
+func parseExpand(t *testing.T, file, src string) (*spec.Spec, []job.Job) {
+	t.Helper()
+	sp, err := spec.Parse(file, []byte(src), spec.Limits{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	jobs, err := sp.Expand()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return sp, jobs
 }

@@ -1,14 +1,15 @@
-package report
+package table
 
 import (
 	"fmt"
-	"fvsweep/sweep/job"
-	"fvsweep/sweep/verify"
 	"maps"
 	"math"
 	"slices"
 	"strconv"
 	"strings"
+
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/verify"
 )
 
 // FunctionalGCI is the solution verification of one functional over the

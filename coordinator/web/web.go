@@ -1,16 +1,17 @@
-package coordinator
-
-// The live status page: one HTML page with its script and styles (embedded
-// from coordinator/web) that polls a JSON API answered from the
-// coordinator's state and the store.
+// Package web is the live status page of a coordinator: one HTML page with
+// its script and styles (embedded) that polls a JSON API answered from the
+// coordinator's state and its store.
 //
-//	GET /                          the page
-//	GET /api/sweeps                wire.StatusReply: every sweep and the live workers
-//	GET /api/sweeps/{name}/status  SweepView: one sweep and the live workers
-//	GET /api/sweeps/{name}/tables  TablesView: convergence tables and failures so far
-//	GET /api/workers               WorkersView: live workers, when each was last heard from
+//	GET /                               the page
+//	GET /api/sweeps                     wire.StatusReply: every sweep and the live workers
+//	GET /api/sweeps/{name}/status       SweepView: one sweep and the live workers
+//	GET /api/sweeps/{name}/tables       table.Set: convergence tables and failures so far,
+//	                                    the JSON of 'fvsweep table --format json'
+//	GET /api/sweeps/{name}/tables.html  the same tables as an HTML fragment (table.WriteHTML)
+//	GET /api/workers                    WorkersView: live workers, when each was last heard from
 //
 // The first two are what 'fvsweep status --json' prints.
+package web
 
 import (
 	"bytes"
@@ -20,8 +21,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"io/fs"
-	"math"
 	"net"
 	"net/http"
 	"strings"
@@ -30,21 +29,22 @@ import (
 
 	"github.com/hashicorp/go-hclog"
 
+	"fvsweep/coordinator"
 	"fvsweep/store"
-	"fvsweep/sweep/report"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
-	"fvsweep/sweep/verify"
+	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
 )
 
-//go:embed web
-var webAssets embed.FS
+//go:embed index.html app.js style.css
+var assets embed.FS
 
-// WebTokenCookie is the cookie a ?token= request sets.
-const WebTokenCookie = "fvsweep_token"
+// TokenCookie is the cookie a ?token= request sets.
+const TokenCookie = "fvsweep_token"
 
-// WebOptions configure the status page server.
-type WebOptions struct {
+// Options configure the status page server.
+type Options struct {
 	// Addr is HOST:PORT to listen on; port 0 picks a free one.
 	Addr string
 	// Token, if set, must come with every request: as "Authorization:
@@ -56,16 +56,16 @@ type WebOptions struct {
 	Log hclog.Logger
 }
 
-// Web is a running status page server.
-type Web struct {
+// Server is a running status page server.
+type Server struct {
 	srv  *http.Server
 	ln   net.Listener
 	done chan error
 }
 
-// CheckWebAddr reports whether the status page may listen on addr
+// CheckAddr reports whether the status page may listen on addr
 // (HOST:PORT) with token: any host but a loopback one needs a token.
-func CheckWebAddr(addr, token string) error {
+func CheckAddr(addr, token string) error {
 	host, _, err := net.SplitHostPort(addr)
 	if err != nil {
 		return fmt.Errorf("status page address %q: want HOST:PORT: %w", addr, err)
@@ -76,10 +76,9 @@ func CheckWebAddr(addr, token string) error {
 	return nil
 }
 
-// ServeWeb starts serving the status page of c on o.Addr (see
-// CheckWebAddr).
-func (c *Coordinator) ServeWeb(o WebOptions) (*Web, error) {
-	if err := CheckWebAddr(o.Addr, o.Token); err != nil {
+// Serve starts serving the status page of c on o.Addr (see CheckAddr).
+func Serve(c *coordinator.Coordinator, o Options) (*Server, error) {
+	if err := CheckAddr(o.Addr, o.Token); err != nil {
 		return nil, err
 	}
 	ln, err := net.Listen("tcp", o.Addr)
@@ -90,8 +89,8 @@ func (c *Coordinator) ServeWeb(o WebOptions) (*Web, error) {
 	if log == nil {
 		log = hclog.NewNullLogger()
 	}
-	w := &Web{ln: ln, done: make(chan error, 1), srv: &http.Server{
-		Handler:           c.WebHandler(o.Token),
+	w := &Server{ln: ln, done: make(chan error, 1), srv: &http.Server{
+		Handler:           Handler(c, o.Token),
 		ReadHeaderTimeout: 5 * time.Second,
 		IdleTimeout:       time.Minute,
 		ErrorLog:          log.StandardLogger(&hclog.StandardLoggerOptions{ForceLevel: hclog.Debug}),
@@ -107,10 +106,10 @@ func (c *Coordinator) ServeWeb(o WebOptions) (*Web, error) {
 }
 
 // URL is the page's address, http://HOST:PORT/.
-func (w *Web) URL() string { return "http://" + w.ln.Addr().String() + "/" }
+func (w *Server) URL() string { return "http://" + w.ln.Addr().String() + "/" }
 
 // Close stops the server, waiting up to 2 s for requests in progress.
-func (w *Web) Close() error {
+func (w *Server) Close() error {
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Second)
 	defer cancel()
 	err := w.srv.Shutdown(ctx)
@@ -153,105 +152,58 @@ type WorkersView struct {
 	Workers []WorkerView `json:"workers"`
 }
 
-// TablesView is GET /api/sweeps/{name}/tables: a sweep's convergence
-// tables as they stand (numbers a grid does not have yet are null), its
-// failures with their reasons, and the same tables as an HTML fragment
-// (report.WriteTables) for a page to show.
-type TablesView struct {
-	Sweep    string           `json:"sweep"`
-	Built    time.Time        `json:"built"`
-	Studies  []StudyTable     `json:"studies"`
-	Failures []report.Failure `json:"failures"`
-	HTML     string           `json:"html"`
-}
-
-// StudyTable is report.Study with undefined numbers as nil.
-type StudyTable struct {
-	Index   int          `json:"index"`
-	Label   string       `json:"label,omitempty"`
-	Case    string       `json:"case"`
-	Var     string       `json:"var"`
-	Norm    string       `json:"norm"`
-	Done    int          `json:"done"`
-	Failed  int          `json:"failed"`
-	Pending int          `json:"pending"`
-	Groups  []GroupTable `json:"groups"`
-}
-
-// GroupTable is report.Group with undefined numbers as nil.
-type GroupTable struct {
-	Label   string              `json:"label"`
-	Rows    []GridTable         `json:"rows"`
-	Order   *float64            `json:"fitted_order"`
-	OrderSE *float64            `json:"fitted_order_se"`
-	Verdict verify.OrderVerdict `json:"verdict"`
-}
-
-// GridTable is report.GridRow with undefined numbers as nil.
-type GridTable struct {
-	JobID  string   `json:"job_id"`
-	NX     int      `json:"nx"`
-	NY     int      `json:"ny"`
-	H      *float64 `json:"h"`
-	Status string   `json:"status"`
-	Err    *float64 `json:"err"`
-	Order  *float64 `json:"order"`
-	WallS  float64  `json:"wall_s"`
-}
-
-func finiteOrNil(x float64) *float64 {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return nil
-	}
-	return &x
-}
-
 // webHandler serves the page and the API.
 type webHandler struct {
-	c     *Coordinator
+	c     *coordinator.Coordinator
 	token string
 	mux   *http.ServeMux
 
-	mu     sync.Mutex // serialises table builds
-	tables map[string]builtTables
+	mu       sync.Mutex // serialises table builds
+	tables   map[string]builtTables
+	settings map[string][]job.StudySettings // of sweeps whose record lacks them, parsed once
 }
 
-// builtTables is the encoded TablesView of a sweep, built at store
-// generation gen in took.
+// builtTables is a sweep's tables as JSON (table.Set) and as an HTML
+// fragment, built at store generation gen in took.
 type builtTables struct {
 	gen  uint64
 	at   time.Time
 	took time.Duration
-	body []byte
+	json []byte
+	html []byte
 	etag string
 }
 
-// send answers the tables, or 304 Not Modified to a client that has them
-// (If-None-Match), which spares a large sweep's tables every poll.
-func (b builtTables) send(w http.ResponseWriter, r *http.Request) {
+// send answers the tables (as HTML if html), or 304 Not Modified to a
+// client that has them (If-None-Match), which spares a large sweep's tables
+// every poll.
+func (b builtTables) send(w http.ResponseWriter, r *http.Request, html bool) {
 	w.Header().Set("ETag", b.etag)
 	if r.Header.Get("If-None-Match") == b.etag {
 		w.WriteHeader(http.StatusNotModified)
 		return
 	}
-	writeJSON(w, b.body, nil)
+	if html {
+		w.Header().Set("Content-Type", "text/html; charset=utf-8")
+		w.Write(b.html)
+		return
+	}
+	writeJSON(w, b.json, nil)
 }
 
-// WebHandler returns the status page and its API. With token "" it answers
+// Handler returns the status page and its API. With token "" it answers
 // only requests addressed to a loopback name (Host localhost, 127.0.0.1 or
 // [::1]), so that a page of another site cannot reach it through a DNS
 // name rebound to 127.0.0.1; otherwise every request must carry the token
 // (see WebOptions.Token).
-func (c *Coordinator) WebHandler(token string) http.Handler {
-	h := &webHandler{c: c, token: token, mux: http.NewServeMux(), tables: map[string]builtTables{}}
-	assets, err := fs.Sub(webAssets, "web")
-	if err != nil {
-		panic(err) // the embedded tree is fixed at build time
-	}
+func Handler(c *coordinator.Coordinator, token string) http.Handler {
+	h := &webHandler{c: c, token: token, mux: http.NewServeMux(), tables: map[string]builtTables{},
+		settings: map[string][]job.StudySettings{}}
 	h.mux.Handle("GET /", http.FileServerFS(assets))
 	h.mux.HandleFunc("GET /api/sweeps", h.sweeps)
 	h.mux.HandleFunc("GET /api/sweeps/{name}/status", h.sweepStatus)
 	h.mux.HandleFunc("GET /api/sweeps/{name}/tables", h.sweepTables)
+	h.mux.HandleFunc("GET /api/sweeps/{name}/tables.html", h.sweepTables)
 	h.mux.HandleFunc("GET /api/workers", h.workers)
 	return h
 }
@@ -279,7 +231,7 @@ func (h *webHandler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 			http.Error(w, "wrong token", http.StatusUnauthorized)
 			return
 		}
-		http.SetCookie(w, &http.Cookie{Name: WebTokenCookie, Value: h.token, Path: "/",
+		http.SetCookie(w, &http.Cookie{Name: TokenCookie, Value: h.token, Path: "/",
 			HttpOnly: true, SameSite: http.SameSiteStrictMode, Secure: r.TLS != nil})
 		q.Del("token")
 		u := *r.URL
@@ -305,7 +257,7 @@ func (h *webHandler) authorized(r *http.Request) bool {
 	if a, ok := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer "); ok {
 		return h.tokenOK(strings.TrimSpace(a))
 	}
-	ck, err := r.Cookie(WebTokenCookie)
+	ck, err := r.Cookie(TokenCookie)
 	return err == nil && h.tokenOK(ck.Value)
 }
 
@@ -349,7 +301,7 @@ func (h *webHandler) sweepStatus(w http.ResponseWriter, r *http.Request) {
 func (h *webHandler) workers(w http.ResponseWriter, r *http.Request) {
 	now := time.Now()
 	live := h.c.Workers()
-	seen := h.c.reg.lastSeen()
+	seen := h.c.LastSeen()
 	v := WorkersView{Now: now, Workers: make([]WorkerView, len(live))}
 	for i, rep := range live {
 		at := seen[rep.ID]
@@ -358,96 +310,73 @@ func (h *webHandler) workers(w http.ResponseWriter, r *http.Request) {
 	writeJSON(w, v, nil)
 }
 
-// sweepTables answers the tables of a sweep, rebuilt when outcomes were
-// stored since the last build, but not more often than once a second (or
-// four times the last build's duration, for a large sweep). The ETag
-// names the build.
+// sweepTables answers the tables of a sweep, as JSON or (at tables.html)
+// HTML, rebuilt when outcomes were stored since the last build, but not
+// more often than once a second (or four times the last build's duration,
+// for a large sweep). The ETag names the build.
 func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 	name := r.PathValue("name")
+	html := strings.HasSuffix(r.URL.Path, ".html")
 	h.mu.Lock()
 	defer h.mu.Unlock()
-	gen := h.c.generation()
+	gen := h.c.Generation()
 	now := time.Now()
 	if b, ok := h.tables[name]; ok && (b.gen == gen || now.Sub(b.at) < max(time.Second, 4*b.took)) {
-		b.send(w, r)
+		b.send(w, r, html)
 		return
 	}
-	v, err := h.c.Tables(name)
+	set, err := h.build(name)
 	if err != nil {
 		writeJSON(w, nil, err)
 		return
 	}
-	body, err := json.Marshal(v)
+	body, err := json.Marshal(set)
 	if err != nil {
 		writeJSON(w, nil, err)
 		return
 	}
-	b := builtTables{gen: gen, at: now, took: time.Since(now), body: body, etag: fmt.Sprintf(`"%d-%d"`, gen, now.UnixNano())}
+	var frag bytes.Buffer
+	if err := table.WriteHTML(&frag, set.Studies); err != nil {
+		writeJSON(w, nil, err)
+		return
+	}
+	b := builtTables{gen: gen, at: now, took: time.Since(now), json: body, html: frag.Bytes(),
+		etag: fmt.Sprintf(`"%d-%d"`, gen, now.UnixNano())}
 	h.tables[name] = b
-	b.send(w, r)
+	b.send(w, r, html)
 }
 
-// generation counts the coordinator's store writes so far.
-func (c *Coordinator) generation() uint64 {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	return c.gen
-}
-
-// Tables builds the convergence tables of sweep name from the store as
-// they stand: report.Build over its jobs and stored outcomes, with the
-// study settings of its stored spec.
-func (c *Coordinator) Tables(name string) (TablesView, error) {
-	v := TablesView{Sweep: name, Built: time.Now(), Studies: []StudyTable{}, Failures: []report.Failure{}}
-	rec, err := c.db.Sweep(name)
+// build builds the convergence tables of sweep name from the store as they
+// stand: table.Build over its jobs and stored outcomes with the study
+// settings of its record (of its spec, parsed once, for a record written
+// before the store kept them).
+func (h *webHandler) build(name string) (table.Set, error) {
+	db := h.c.Store()
+	set := table.Set{Sweep: name}
+	rec, err := db.Sweep(name)
 	if err != nil {
-		return v, err
+		return set, err
 	}
-	jobs, err := c.db.Jobs(name)
-	if err != nil {
-		return v, err
-	}
-	outs, err := c.db.Outcomes(name)
-	if err != nil {
-		return v, err
-	}
-	var sp *spec.Spec
-	if rec.Spec != "" {
-		parse := c.cfg.ParseSpec
-		if parse == nil {
-			parse = func(file, src string) (*spec.Spec, error) {
-				return spec.Parse(file, []byte(src), spec.DefaultLimits())
-			}
+	settings := rec.Studies
+	if settings == nil {
+		s, ok := h.settings[name]
+		if !ok {
+			s = spec.StoredSettings(rec.SpecFile, rec.Spec)
+			h.settings[name] = s
 		}
-		sp, _ = parse(rec.SpecFile, rec.Spec) // nil: study settings take defaults
+		settings = s
 	}
-	studies, fails, err := report.Build(sp, jobs, outs, report.Options{})
+	jobs, err := db.Jobs(name)
 	if err != nil {
-		return v, fmt.Errorf("tables of %s: %w", name, err)
+		return set, err
 	}
-	var buf bytes.Buffer
-	if err := report.WriteTables(&buf, studies); err != nil {
-		return v, err
+	outs, err := db.Outcomes(name)
+	if err != nil {
+		return set, err
 	}
-	v.HTML = buf.String()
-	if fails != nil {
-		v.Failures = fails
+	set.Studies, set.Failures, err = table.Build(settings, jobs, outs, table.Options{})
+	if err != nil {
+		return set, fmt.Errorf("tables of %s: %w", name, err)
 	}
-	for _, st := range studies {
-		t := StudyTable{Index: st.Index, Label: st.Label, Case: st.Case, Var: st.Var, Norm: st.Norm,
-			Done: st.Done, Failed: st.Failed, Pending: st.Pending}
-		for _, g := range st.Groups {
-			gt := GroupTable{Label: g.Label, Verdict: g.Verdict}
-			if g.Fitted {
-				gt.Order, gt.OrderSE = finiteOrNil(g.Fit.Order), finiteOrNil(g.Fit.OrderSE)
-			}
-			for _, r := range g.Rows {
-				gt.Rows = append(gt.Rows, GridTable{JobID: r.JobID, NX: r.NX, NY: r.NY, H: finiteOrNil(r.H),
-					Status: r.Status, Err: finiteOrNil(r.Err), Order: finiteOrNil(r.Order), WallS: r.WallS})
-			}
-			t.Groups = append(t.Groups, gt)
-		}
-		v.Studies = append(v.Studies, t)
-	}
-	return v, nil
+	return set, nil
 }

@@ -1,4 +1,4 @@
-package coordinator_test
+package web_test
 
 import (
 	"context"
@@ -17,9 +17,10 @@ import (
 
 	"github.com/chromedp/chromedp"
 
-	"fvsweep/coordinator"
+	"fvsweep/coordinator/web"
 	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
@@ -73,16 +74,16 @@ func get(t *testing.T, h http.Handler, host, path string, v any, hdr ...string) 
 // The JSON API gives what the coordinator's own queries give: the status
 // of every sweep and of one, the live workers, and tables that fill in.
 func TestWebAPIMatchesCoordinator(t *testing.T) {
-	r := newRig(t, testDelivery)
+	r := newRig(t)
 	release := make(chan struct{})
 	r.addWorker(2, gated(release))
 	r.submit(webSpec)
-	h := r.coord.WebHandler("")
+	h := web.Handler(r.coord, "")
 	const host = "127.0.0.1:8080"
 
 	// Two jobs held by the worker: running, and the tables have no errors yet.
 	deadline := time.Now().Add(10 * time.Second)
-	var one coordinator.SweepView
+	var one web.SweepView
 	for {
 		if res := get(t, h, host, "/api/sweeps/live/status", &one); res.StatusCode != http.StatusOK {
 			t.Fatalf("status: %s", res.Status)
@@ -95,12 +96,12 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	if one.Sweep != "live" || one.JobsTotal != 4 || one.Running != 2 || one.Queued != 2 || len(one.Workers) != 1 {
 		t.Fatalf("status while held: %+v", one)
 	}
-	var tv coordinator.TablesView
+	var tv tablesJSON
 	get(t, h, host, "/api/sweeps/live/tables", &tv)
-	if len(tv.Studies) != 2 || tv.Studies[0].Pending != 3 || tv.Studies[0].Groups[0].Rows[0].Err != nil {
+	if len(tv.Studies) != 2 || tv.Studies[0].Groups[0].Rows[0].Status != "pending" || tv.Studies[0].Groups[0].Rows[0].L1 != nil {
 		t.Fatalf("tables while held: %+v", tv.Studies)
 	}
-	var ws coordinator.WorkersView
+	var ws web.WorkersView
 	get(t, h, host, "/api/workers", &ws)
 	if len(ws.Workers) != 1 || len(ws.Workers[0].Current) != 2 || ws.Workers[0].SeenAgoS > 1 {
 		t.Fatalf("workers: %+v", ws)
@@ -129,18 +130,27 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	if res := get(t, h, host, "/api/sweeps/live/tables", nil, "If-None-Match", tag); tag == "" || res.StatusCode != http.StatusNotModified {
 		t.Errorf("tables again with their ETag %s: %s", tag, res.Status)
 	}
-	built, err := r.coord.Tables("live")
-	if err != nil {
-		t.Fatal(err)
+	// The page's JSON is the table JSON of the CLI, its HTML the fragment
+	// of the same tables.
+	set := built(t, r)
+	wantJSON, _ := json.Marshal(set)
+	res := get(t, h, host, "/api/sweeps/live/tables", nil)
+	got, _ := io.ReadAll(res.Body)
+	if strings.TrimSpace(string(got)) != string(wantJSON) {
+		t.Errorf("page JSON\n%s\nwant table JSON\n%s", got, wantJSON)
 	}
-	if tv.HTML != built.HTML || !strings.Contains(tv.HTML, "<table>") || len(tv.Failures) != 1 {
-		t.Fatalf("tables: %d failures, html\n%s", len(tv.Failures), tv.HTML)
+	var frag strings.Builder
+	table.WriteHTML(&frag, set.Studies)
+	res = get(t, h, host, "/api/sweeps/live/tables.html", nil)
+	html, _ := io.ReadAll(res.Body)
+	if string(html) != frag.String() || !strings.Contains(string(html), "<table>") || len(tv.Failures) != 1 {
+		t.Fatalf("tables: %d failures, html\n%s", len(tv.Failures), html)
 	}
 	if !strings.Contains(tv.Failures[0].Reason, "step guard") {
 		t.Errorf("failure reason %q", tv.Failures[0].Reason)
 	}
 	g := tv.Studies[0].Groups[0]
-	if len(g.Rows) != 3 || g.Order == nil || g.Rows[2].Err == nil || g.Rows[2].Order == nil {
+	if len(g.Rows) != 3 || g.Order == nil || g.Rows[2].L1 == nil || g.Rows[2].Order == nil {
 		t.Fatalf("finished group %+v", g)
 	}
 	// Common practice: a MUSCL scheme on a smooth solution converges at
@@ -151,7 +161,7 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	if res := get(t, h, host, "/api/sweeps/nosuch/tables", nil); res.StatusCode != http.StatusNotFound {
 		t.Errorf("unknown sweep: %s", res.Status)
 	}
-	res := get(t, h, host, "/", nil)
+	res = get(t, h, host, "/", nil)
 	body, _ := io.ReadAll(res.Body)
 	if res.StatusCode != http.StatusOK || !strings.Contains(string(body), `src="app.js"`) {
 		t.Errorf("page: %s\n%s", res.Status, body)
@@ -168,8 +178,8 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 // Without a token only loopback addresses are served; with one, every
 // request needs it, as a bearer token or a cookie set by ?token=.
 func TestWebAccess(t *testing.T) {
-	r := newRig(t, testDelivery)
-	open := r.coord.WebHandler("")
+	r := newRig(t)
+	open := web.Handler(r.coord, "")
 	for host, code := range map[string]int{
 		"127.0.0.1:8080": 200, "localhost:8080": 200, "[::1]:8080": 200, "localhost": 200,
 		"attacker.example:8080": http.StatusMisdirectedRequest, "10.1.2.3:8080": http.StatusMisdirectedRequest,
@@ -179,7 +189,7 @@ func TestWebAccess(t *testing.T) {
 		}
 	}
 	const tok = "s3cret-token"
-	h := r.coord.WebHandler(tok)
+	h := web.Handler(r.coord, tok)
 	const host = "10.1.2.3:8080"
 	for _, c := range []struct {
 		name string
@@ -189,8 +199,8 @@ func TestWebAccess(t *testing.T) {
 		{"none", nil, http.StatusUnauthorized},
 		{"bearer", []string{"Authorization", "Bearer " + tok}, http.StatusOK},
 		{"wrong bearer", []string{"Authorization", "Bearer nope"}, http.StatusUnauthorized},
-		{"cookie", []string{"Cookie", coordinator.WebTokenCookie + "=" + tok}, http.StatusOK},
-		{"wrong cookie", []string{"Cookie", coordinator.WebTokenCookie + "=nope"}, http.StatusUnauthorized},
+		{"cookie", []string{"Cookie", web.TokenCookie + "=" + tok}, http.StatusOK},
+		{"wrong cookie", []string{"Cookie", web.TokenCookie + "=nope"}, http.StatusUnauthorized},
 	} {
 		if res := get(t, h, host, "/api/workers", nil, c.hdr...); res.StatusCode != c.code {
 			t.Errorf("%s: %s, want %d", c.name, res.Status, c.code)
@@ -209,7 +219,7 @@ func TestWebAccess(t *testing.T) {
 	}
 
 	for addr, ok := range map[string]bool{"127.0.0.1:0": true, "localhost:0": true, "0.0.0.0:0": false, ":0": false, "nonsense": false} {
-		w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: addr})
+		w, err := web.Serve(r.coord, web.Options{Addr: addr})
 		if (err == nil) != ok {
 			t.Errorf("ServeWeb %q without a token: error %v", addr, err)
 		}
@@ -217,7 +227,7 @@ func TestWebAccess(t *testing.T) {
 			w.Close()
 		}
 	}
-	w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: "0.0.0.0:0", Token: tok})
+	w, err := web.Serve(r.coord, web.Options{Addr: "0.0.0.0:0", Token: tok})
 	if err != nil {
 		t.Fatalf("ServeWeb on all addresses with a token: %v", err)
 	}
@@ -294,12 +304,12 @@ func shot(t *testing.T, ctx context.Context, name string) {
 // the failure with its reason appear, as the server builds them.
 func TestWebPageInBrowser(t *testing.T) {
 	ctx := browser(t)
-	r := newRig(t, testDelivery)
+	r := newRig(t)
 	release := make(chan struct{})
 	r.addWorker(2, gated(release))
 	r.submit(webSpec)
 	const tok = "page-token"
-	w, err := r.coord.ServeWeb(coordinator.WebOptions{Addr: "127.0.0.1:0", Token: tok})
+	w, err := web.Serve(r.coord, web.Options{Addr: "127.0.0.1:0", Token: tok})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -342,17 +352,13 @@ func TestWebPageInBrowser(t *testing.T) {
 		t.Errorf("progress when finished: %q", progress)
 	}
 	// The table in the page is the one the server builds from the store.
-	built, err := r.coord.Tables("live")
-	if err != nil {
-		t.Fatal(err)
-	}
-	g := built.Studies[0].Groups[0]
+	g := built(t, r).Studies[0].Groups[0]
 	for _, row := range g.Rows {
-		if cell := fmt.Sprintf("%.3e", *row.Err); !strings.Contains(tables, cell) {
+		if cell := fmt.Sprintf("%.3e", row.Err); !strings.Contains(tables, cell) {
 			t.Errorf("page lacks the error %s of nx=%d:\n%s", cell, row.NX, tables)
 		}
 	}
-	if cell := fmt.Sprintf("Fitted order %.2f", *g.Order); !strings.Contains(tables, cell) {
+	if cell := fmt.Sprintf("Fitted order %.2f", g.Fit.Order); !strings.Contains(tables, cell) {
 		t.Errorf("page lacks %q:\n%s", cell, tables)
 	}
 	if !strings.Contains(fails, "1 failed job") {
@@ -360,4 +366,45 @@ func TestWebPageInBrowser(t *testing.T) {
 	}
 	t.Logf("finished tables shown %v after the start", time.Since(start).Round(time.Millisecond))
 	shot(t, ctx, "finished")
+}
+
+// tablesJSON is what the page reads of the tables JSON.
+type tablesJSON struct {
+	Studies []struct {
+		Groups []struct {
+			Order *float64 `json:"fitted_order"`
+			Rows  []struct {
+				Status string   `json:"status"`
+				L1     *float64 `json:"l1"`
+				Order  *float64 `json:"order"`
+			} `json:"rows"`
+		} `json:"groups"`
+	} `json:"studies"`
+	Failures []table.Failure `json:"failures"`
+}
+
+// built is the tables of the sweep "live" built from the store by
+// table.Build, with the settings its record keeps.
+func built(t *testing.T, r *pageRig) table.Set {
+	t.Helper()
+	rec, err := r.db.Sweep("live")
+	if err != nil {
+		t.Fatal(err)
+	}
+	jobs, err := r.db.Jobs("live")
+	if err != nil {
+		t.Fatal(err)
+	}
+	outs, err := r.db.Outcomes("live")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rec.Studies) != 2 {
+		t.Fatalf("sweep record keeps %d study settings, want 2", len(rec.Studies))
+	}
+	studies, fails, err := table.Build(rec.Studies, jobs, outs, table.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return table.Set{Sweep: "live", Studies: studies, Failures: fails}
 }

@@ -1,0 +1,86 @@
+package table
+
+import (
+	"bytes"
+	"html/template"
+	"io"
+	"strconv"
+	"strings"
+)
+
+// WriteHTML writes the convergence tables of the studies as an HTML
+// fragment (no document around it), each study a <section> with its
+// heading, the markup the report uses, for pages that show tables filling
+// in as results arrive. Every text from the data is escaped by
+// html/template.
+func WriteHTML(w io.Writer, studies []Study) error {
+	return tmpl.ExecuteTemplate(w, "tables", studies)
+}
+
+// HeadingHTML is the heading of st and its one-paragraph summary (counts,
+// the error measure, the functionals), as WriteHTML writes them.
+func HeadingHTML(st Study) (template.HTML, error) { return execute("head", st) }
+
+// GroupsHTML is the tables of st's groups without the heading: per group
+// the grid table, the fitted order and verdict, and the GCI table with its
+// results and notes.
+func GroupsHTML(st Study) (template.HTML, error) { return execute("study", st) }
+
+func execute(name string, st Study) (template.HTML, error) {
+	var b bytes.Buffer
+	if err := tmpl.ExecuteTemplate(&b, name, st); err != nil {
+		return "", err
+	}
+	return template.HTML(b.String()), nil // #nosec: html/template output, escaped
+}
+
+// NormLabel is the symbol of a norm of a variable: "L1(rho)".
+func NormLabel(norm, v string) string {
+	n := map[string]string{"l1": "L1", "l2": "L2", "linf": "Linf"}[norm]
+	if n == "" {
+		n = strings.ToUpper(norm)
+	}
+	return n + "(" + v + ")"
+}
+
+var tmpl = template.Must(template.New("tables").Funcs(template.FuncMap{
+	"num":   func(v float64) string { return Num(v).Format('e', 3) }, // errors and spacings: 4 significant digits
+	"order": func(v float64) string { return Num(v).Format('f', 2) },
+	"secs": func(v float64) string {
+		if v == 0 {
+			return "–"
+		}
+		return strconv.FormatFloat(v, 'g', 3, 64)
+	},
+	"norm":       NormLabel,
+	"phi":        FormatPhi,
+	"gciHeader":  func() []string { return GCIHeader },
+	"gciCaption": func() string { return GCICaption },
+}).Parse(tablesTemplate))
+
+const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Index}}">
+{{template "head" .}}
+{{template "study" .}}
+</section>
+{{end}}{{end}}
+
+{{define "head"}}<h2>Study {{.Index}}: {{.Case}}{{if .Label}} ({{.Label}}){{end}}</h2>
+<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. {{if .Exact}}Error measure: {{norm .Norm .Var}}.{{else}}No exact solution: no errors or orders.{{end}}{{if .Functionals}} Functionals: {{range $i, $f := .Functionals}}{{if $i}}, {{end}}{{$f}}{{end}}, with the grid convergence index (Celik et al. 2008).{{end}}</p>
+{{end}}
+
+{{define "study"}}{{$st := .}}{{range .Groups}}
+<h3>{{.Label}}</h3>
+<table>
+<tr><th>nx</th><th>ny</th><th>h</th>{{if $st.Exact}}<th>{{norm $st.Norm $st.Var}}</th><th>observed order</th>{{end}}{{range $st.Functionals}}<th>{{.}}</th>{{end}}<th>wall s</th><th>status</th></tr>
+{{range .Rows}}<tr><td>{{.NX}}</td><td>{{.NY}}</td><td>{{num .H}}</td>{{if $st.Exact}}<td>{{num .Err}}</td><td>{{order .Order}}</td>{{end}}{{range .Phi}}<td>{{phi .}}</td>{{end}}<td>{{secs .WallS}}</td><td class="t">{{.Status}}</td></tr>
+{{end}}</table>
+{{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
+<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}</p>
+{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
+{{with .GCICells}}<table>
+<tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
+{{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
+{{end}}</table>
+{{end}}{{range .GCIResults}}<p>{{.}}</p>
+{{end}}{{range .GCINotes}}<p class="note">{{.}}</p>
+{{end}}{{end}}{{end}}{{end}}`

@@ -1,0 +1,84 @@
+package table
+
+import (
+	"encoding/json"
+	"io"
+
+	"fvsweep/sweep/verify"
+)
+
+// The JSON of the model is the one that `fvsweep table --format json`
+// prints and the status page reads: numbers a grid or group does not have
+// are null; a study's counts are left out (they follow from its rows'
+// status).
+
+type studyJSON struct {
+	Index       int      `json:"index"`
+	Label       string   `json:"label"`
+	Case        string   `json:"case"`
+	Var         string   `json:"var"`
+	Norm        string   `json:"norm"`
+	Exact       bool     `json:"exact"`                 // errors and orders exist
+	Functionals []string `json:"functionals,omitempty"` // shown, with their GCI
+	Groups      []Group  `json:"groups"`
+}
+
+type groupJSON struct {
+	Label    string              `json:"label"`
+	Params   map[string]string   `json:"params"`
+	Rows     []rowJSON           `json:"rows"`
+	Fitted   Num                 `json:"fitted_order"`
+	FittedSE Num                 `json:"fitted_order_se"`
+	Verdict  verify.OrderVerdict `json:"verdict"`
+	// GCI holds one entry per functional of the study, its records in the
+	// layout of fvsweep gci --json (fractions, not percent).
+	GCI []FunctionalGCI `json:"gci,omitempty"`
+}
+
+type rowJSON struct {
+	JobID       string         `json:"job_id"`
+	NX          int            `json:"nx"`
+	NY          int            `json:"ny"`
+	H           Num            `json:"h"`
+	Status      string         `json:"status"`
+	L1          Num            `json:"l1"`
+	L2          Num            `json:"l2"`
+	Linf        Num            `json:"linf"`
+	Order       Num            `json:"order"` // with the next coarser grid, in the study's norm
+	Functionals map[string]Num `json:"functionals,omitempty"`
+	WallS       float64        `json:"wall_s"`
+}
+
+// MarshalJSON writes the study with its groups.
+func (st Study) MarshalJSON() ([]byte, error) {
+	return json.Marshal(studyJSON{Index: st.Index, Label: st.Label, Case: st.Case, Var: st.Var, Norm: st.Norm,
+		Exact: st.Exact, Functionals: st.Functionals, Groups: st.Groups})
+}
+
+// MarshalJSON writes the group with its rows; a functional's value is keyed
+// by its name.
+func (g Group) MarshalJSON() ([]byte, error) {
+	v := groupJSON{Label: g.Label, Params: g.Params, Verdict: g.Verdict, GCI: g.GCI, Fitted: none, FittedSE: none}
+	if g.Fitted {
+		v.Fitted, v.FittedSE = Num(g.Fit.Order), Num(g.Fit.OrderSE)
+	}
+	for _, r := range g.Rows {
+		rj := rowJSON{JobID: r.JobID, NX: r.NX, NY: r.NY, H: Num(r.H), Status: r.Status,
+			L1: Num(r.L1), L2: Num(r.L2), Linf: Num(r.Linf), Order: Num(r.Order), WallS: r.WallS}
+		if len(r.Phi) > 0 {
+			rj.Functionals = map[string]Num{}
+			for i, name := range g.functionals {
+				rj.Functionals[name] = Num(r.Phi[i])
+			}
+		}
+		v.Rows = append(v.Rows, rj)
+	}
+	return json.Marshal(v)
+}
+
+// writeJSON writes s indented by two spaces.
+func writeJSON(w io.Writer, s Set) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(s)
+}
