@@ -412,7 +412,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		m.Term()
 		return
 	}
-	jb, err := job.Decode(m.Data())
+	jb, err := job.DecodeMessage(m.Data())
 	if err == nil && m.Subject() != w.cfg.Names.JobSubject(jb.Sweep, jb.ID) {
 		err = fmt.Errorf("job %s on subject %s", jb.ID, m.Subject())
 	}
