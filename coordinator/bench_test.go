@@ -18,7 +18,6 @@ import (
 
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/server"
-	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
 	"fvsweep/worker"
 )
@@ -179,7 +178,7 @@ func TestHelperServerAndWorkers(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w, err := worker.New(ctx, nc, worker.Config{Run: trivial})
+			w, err := worker.New(ctx, nc, worker.Config{Runners: map[string]worker.Runner{job.BuiltinSolver: worker.RunnerFunc(trivial)}})
 			if err == nil {
 				w.Run(ctx)
 			}
@@ -216,7 +215,7 @@ func BenchmarkWorkerBusy50ms(b *testing.B) {
 	var mu sync.Mutex
 	var first, last time.Time
 	var busy time.Duration
-	sleep := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+	sleep := func(ctx context.Context, j job.Job) (worker.Result, error) {
 		t0 := time.Now()
 		time.Sleep(jb)
 		t1 := time.Now()
@@ -229,7 +228,7 @@ func BenchmarkWorkerBusy50ms(b *testing.B) {
 		}
 		busy += t1.Sub(t0)
 		mu.Unlock()
-		return job.Outcome{Status: job.StatusDone}, nil, nil
+		return worker.Result{Outcome: job.Outcome{Status: job.StatusDone}}, nil
 	}
 	var w *worker.Worker
 	b.ResetTimer()

@@ -296,13 +296,7 @@ func (c *Coordinator) nakAll(msgs []jetstream.Msg, what string, err error) {
 
 // checkResult decodes a result and checks its fields; store checks in one
 // read transaction per batch that its job is stored.
-func checkResult(data []byte) (job.Outcome, error) {
-	o, err := job.DecodeOutcome(data)
-	if err != nil {
-		return o, err
-	}
-	return o, store.CheckOutcome(o)
-}
+func checkResult(data []byte) (job.Outcome, error) { return job.DecodeOutcomeMessage(data) }
 
 // onReport records a worker's report.
 func (c *Coordinator) onReport(m *nats.Msg) {
@@ -337,7 +331,7 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 		c.log.Debug("max-deliveries: job already gone", "seq", a.StreamSeq, "error", err)
 		return
 	}
-	jb, err := job.Decode(raw.Data)
+	jb, err := job.DecodeMessage(raw.Data)
 	if err != nil {
 		c.log.Warn("max-deliveries: malformed job removed", "seq", a.StreamSeq, "error", err)
 		c.jobs.DeleteMsg(ctx, a.StreamSeq)

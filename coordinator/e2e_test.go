@@ -13,7 +13,6 @@ import (
 	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/coordinator"
-	"fvsweep/fv2d"
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
 	"fvsweep/worker"
@@ -32,17 +31,17 @@ refine = { nx = [16, 32] }
 // counting wraps a runner and counts its calls.
 type counting struct {
 	n   atomic.Int64
-	run worker.Runner
+	run worker.RunnerFunc
 }
 
-func (c *counting) Run(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+func (c *counting) Run(ctx context.Context, j job.Job) (worker.Result, error) {
 	c.n.Add(1)
 	return c.run(ctx, j)
 }
 
 // trivial is a runner that does no work.
-func trivial(context.Context, job.Job) (job.Outcome, *fv2d.State, error) {
-	return job.Outcome{Status: job.StatusDone, Steps: 1}, nil, nil
+func trivial(context.Context, job.Job) (worker.Result, error) {
+	return worker.Result{Outcome: job.Outcome{Status: job.StatusDone, Steps: 1}}, nil
 }
 
 func ids(jobs []job.Job) []string {
@@ -56,7 +55,7 @@ func ids(jobs []job.Job) []string {
 
 func TestSweepStoresExactlyTheExpandedJobs(t *testing.T) {
 	r := newRig(t, testDelivery)
-	run := &counting{run: worker.Solve}
+	run := &counting{run: worker.FV2D{}.Run}
 	r.addWorker(2, run.Run)
 	rep := r.submit(smallSpec)
 	if rep.Sweep != "small" || rep.Jobs != 6 || rep.Queued != 6 || rep.Stored != 0 {
@@ -109,7 +108,7 @@ func TestSweepStoresExactlyTheExpandedJobs(t *testing.T) {
 // first attempt, while the other jobs finish.
 func TestDivergingJobIsFailedOthersFinish(t *testing.T) {
 	r := newRig(t, testDelivery)
-	r.addWorker(2, worker.Solve)
+	r.addWorker(2, worker.FV2D{}.Run)
 	r.submit(`name = "guard"
 [[study]]
 case = "burgers-sine"
@@ -140,7 +139,7 @@ func TestPanickingJobFailsAfterDeliveryLimit(t *testing.T) {
 	var bad string
 	var mu sync.Mutex
 	var calls int
-	r.addWorker(2, func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+	r.addWorker(2, func(ctx context.Context, j job.Job) (worker.Result, error) {
 		if j.Params["limiter"] == "mc" && j.Params["nx"] == "32" {
 			mu.Lock()
 			bad, calls = j.ID, calls+1
@@ -275,10 +274,10 @@ fixed = { nx = 16 }
 func TestCancelStopsSweepAndResubmitResumes(t *testing.T) {
 	r := newRig(t, testDelivery)
 	var started atomic.Int64
-	block := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+	block := func(ctx context.Context, j job.Job) (worker.Result, error) {
 		started.Add(1)
 		<-ctx.Done()
-		return job.Outcome{}, nil, ctx.Err()
+		return worker.Result{}, ctx.Err()
 	}
 	w := r.addWorker(2, block)
 	r.submit(smallSpec)
@@ -315,7 +314,7 @@ func TestCancelStopsSweepAndResubmitResumes(t *testing.T) {
 // as float32, referenced by the outcome.
 func TestSnapshotInObjectStore(t *testing.T) {
 	r := newRig(t, testDelivery)
-	r.addWorker(1, worker.Solve)
+	r.addWorker(1, worker.FV2D{}.Run)
 	r.submit(`name = "snap"
 [[study]]
 case = "vortex"
@@ -357,12 +356,12 @@ func TestWorkerDrainFinishesRunningJob(t *testing.T) {
 	r := newRig(t, testDelivery)
 	var once sync.Once
 	running := make(chan struct{})
-	slow := func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+	slow := func(ctx context.Context, j job.Job) (worker.Result, error) {
 		once.Do(func() { close(running) })
 		select {
 		case <-time.After(300 * time.Millisecond):
 		case <-ctx.Done():
-			return job.Outcome{}, nil, errors.New("stopped")
+			return worker.Result{}, errors.New("stopped")
 		}
 		return trivial(ctx, j)
 	}

@@ -23,7 +23,7 @@ func TestFieldByReference(t *testing.T) {
 	}
 	r := newRigAt(t, srv.ClientURL(), testDelivery)
 	r.srv = srv
-	r.addWorker(1, worker.Solve)
+	r.addWorker(1, worker.FV2D{}.Run)
 	r.submit(`name = "snapref"
 [[study]]
 case = "burgers-sine"

@@ -7,21 +7,21 @@ import (
 	"time"
 
 	"fvsweep/coordinator"
-	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
+	"fvsweep/worker"
 )
 
 // stallAfter is a runner whose first k calls return at once and whose
 // next call takes d (or until its context ends); started is closed when
 // that slow call begins.
-func stallAfter(k int64, d time.Duration, calls *atomic.Int64, started chan struct{}) func(context.Context, job.Job) (job.Outcome, *fv2d.State, error) {
-	return func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+func stallAfter(k int64, d time.Duration, calls *atomic.Int64, started chan struct{}) func(context.Context, job.Job) (worker.Result, error) {
+	return func(ctx context.Context, j job.Job) (worker.Result, error) {
 		if calls.Add(1) == k+1 {
 			close(started)
 			select {
 			case <-time.After(d):
 			case <-ctx.Done():
-				return job.Outcome{}, nil, ctx.Err()
+				return worker.Result{}, ctx.Err()
 			}
 		}
 		return trivial(ctx, j)

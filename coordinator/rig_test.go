@@ -16,6 +16,7 @@ import (
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/server"
 	"fvsweep/store"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
@@ -110,13 +111,13 @@ type testWriter struct{ t testing.TB }
 func (w testWriter) Write(p []byte) (int, error) { w.t.Log(string(p)); return len(p), nil }
 
 // addWorker starts a worker with its own connection.
-func (r *rig) addWorker(conc int, run worker.Runner, tweak ...func(*worker.Config)) *worker.Worker {
+func (r *rig) addWorker(conc int, run worker.RunnerFunc, tweak ...func(*worker.Config)) *worker.Worker {
 	r.t.Helper()
 	nc, err := client.Dial(client.DialOptions{URL: r.url, Name: "test worker"})
 	if err != nil {
 		r.t.Fatal(err)
 	}
-	cfg := worker.Config{Names: r.names, Concurrency: conc, Run: run, RetryDelay: 20 * time.Millisecond,
+	cfg := worker.Config{Names: r.names, Concurrency: conc, Runners: map[string]worker.Runner{job.BuiltinSolver: run}, RetryDelay: 20 * time.Millisecond,
 		FetchWait: 200 * time.Millisecond, ReportEvery: 100 * time.Millisecond, Log: testLog(r.t, "worker")}
 	for _, f := range tweak {
 		f(&cfg)

@@ -17,14 +17,16 @@
 // # Records
 //
 // Values are the encoding/json form of the Go types, field names as in their
-// struct tags:
+// struct tags, written and read for jobs and outcomes by the one codec of
+// package job (its lenient record decoders ignore unknown fields):
 //
 //   - SweepRecord: name, spec_file, spec (the spec text as last submitted),
 //     created, updated (RFC 3339 times, UTC), canceled, jobs (count),
 //     studies (job.StudySettings of each study; absent in records written
 //     before they were kept).
-//   - job.Job: job_id, sweep, study, case, params (object of canonical
-//     string values), refine, group, cost, snapshot.
+//   - job.Job: job_id, sweep, study, case, solver (only when not the
+//     built-in fv2d), params (object of canonical string values), refine,
+//     group, cost, snapshot.
 //   - job.Outcome: job_id, sweep, status ("done" or "failed"), worker,
 //     attempts, wall_s, steps, t_final, cell_updates_per_s, and when present
 //     errors (variable -> {l1, l2, linf}), functionals (name -> number),
@@ -32,7 +34,7 @@
 //     (object-store name).
 //
 // Numbers are finite: JSON has no NaN or Inf, so an outcome carrying one is
-// refused (CheckOutcome). Readers ignore unknown fields, so adding an
+// refused (job.Outcome.Check). Readers ignore unknown fields, so adding an
 // optional field keeps schema version 1; removing or re-meaning a field or a
 // bucket raises the version, and Open refuses a version newer than
 // SchemaVersion rather than misread it.

@@ -2,7 +2,6 @@ package store
 
 import (
 	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"fvsweep/sweep/job"
@@ -19,7 +18,7 @@ import (
 //   - "failed" over a stored "done": no-op;
 //   - "failed" over a stored "failed": replaces it unless byte-identical.
 //
-// It returns how many records changed. A record that fails CheckOutcome makes
+// It returns how many records changed. A record that fails job.Outcome.Check makes
 // the whole batch fail with an error naming its index and job; nothing of the
 // batch is written.
 func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
@@ -30,13 +29,13 @@ func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 		written = 0
 		results := tx.Bucket(bucketResults)
 		for i, o := range outs {
-			if err := CheckOutcome(o); err != nil {
+			if err := o.Check(); err != nil {
 				return fmt.Errorf("outcome %d: %w", i, err)
 			}
 			key := []byte(o.JobID)
 			var data []byte
 			if old := results.Get(key); old != nil {
-				st, err := statusOf(old)
+				st, err := job.RecordStatus(old)
 				if err != nil {
 					return fmt.Errorf("outcome %d: stored job %s: %w", i, o.JobID, err)
 				}
@@ -44,7 +43,7 @@ func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 					continue
 				}
 				if o.Status == job.StatusFailed {
-					if data, err = json.Marshal(o); err != nil {
+					if data, err = job.EncodeOutcome(o); err != nil {
 						return fmt.Errorf("outcome %d: job %s: %w", i, o.JobID, err)
 					}
 					if bytes.Equal(old, data) {
@@ -53,7 +52,7 @@ func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 				}
 			}
 			if data == nil {
-				if data, err = json.Marshal(o); err != nil {
+				if data, err = job.EncodeOutcome(o); err != nil {
 					return fmt.Errorf("outcome %d: job %s: %w", i, o.JobID, err)
 				}
 			}
@@ -91,7 +90,7 @@ func (db *DB) Outcome(jobID string) (job.Outcome, bool, error) {
 			return nil
 		}
 		var err error
-		if o, err = DecodeOutcome(v); err != nil {
+		if o, err = job.DecodeOutcomeRecord(v); err != nil {
 			return fmt.Errorf("store: job %q: %w", jobID, err)
 		}
 		found = true
@@ -110,7 +109,7 @@ func (db *DB) Outcomes(sweepName string) (map[string]job.Outcome, error) {
 			if v == nil {
 				return nil
 			}
-			o, err := DecodeOutcome(v)
+			o, err := job.DecodeOutcomeRecord(v)
 			if err != nil {
 				return fmt.Errorf("store: job %q: %w", k, err)
 			}
@@ -169,7 +168,7 @@ func (db *DB) Count(sweepName string) (Tally, error) {
 			if v == nil {
 				return nil
 			}
-			st, err := statusOf(v)
+			st, err := job.RecordStatus(v)
 			if err != nil {
 				return fmt.Errorf("store: job %q: %w", k, err)
 			}
@@ -228,7 +227,7 @@ func (db *DB) Query(sweepName string, filter map[string]string) ([]Row, error) {
 			if v == nil {
 				continue
 			}
-			o, err := DecodeOutcome(v)
+			o, err := job.DecodeOutcomeRecord(v)
 			if err != nil {
 				return fmt.Errorf("store: job %q: %w", j.ID, err)
 			}

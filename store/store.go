@@ -11,6 +11,8 @@ import (
 	"time"
 
 	bolt "go.etcd.io/bbolt"
+
+	"fvsweep/sweep/job"
 )
 
 // SchemaVersion is the layout version this package writes and reads. A
@@ -213,7 +215,7 @@ func (db *DB) Verify() error {
 		}
 		err = tx.Bucket(bucketJobs).ForEachBucket(func(name []byte) error {
 			return tx.Bucket(bucketJobs).Bucket(name).ForEach(func(k, v []byte) error {
-				j, err := DecodeJob(v)
+				j, err := job.DecodeRecord(v)
 				if err == nil && (j.ID != string(k) || j.Sweep != string(name)) {
 					err = fmt.Errorf("job record under %q/%q is %q/%q", name, k, j.Sweep, j.ID)
 				}
@@ -224,7 +226,7 @@ func (db *DB) Verify() error {
 			return fmt.Errorf("store %s: %w", db.path, err)
 		}
 		err = tx.Bucket(bucketResults).ForEach(func(k, v []byte) error {
-			o, err := DecodeOutcome(v)
+			o, err := job.DecodeOutcomeRecord(v)
 			if err == nil && o.JobID != string(k) {
 				err = fmt.Errorf("result record under %q has job_id %q", k, o.JobID)
 			}

@@ -1,10 +1,8 @@
 package store
 
 import (
-	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"maps"
@@ -628,27 +626,6 @@ func TestVerifyFindsBadRecords(t *testing.T) {
 	}
 }
 
-func TestStatusOf(t *testing.T) {
-	cases := []struct {
-		data string
-		want job.Status
-		ok   bool
-	}{
-		{`{"job_id":"a","sweep":"s","status":"done","worker":"w"}`, job.StatusDone, true},
-		{`{"job_id":"a","sweep":"s","status":"failed","error":"\"status\":\"done\""}`, job.StatusFailed, true},
-		{`{"status": "failed"}`, job.StatusFailed, true}, // not this package's layout: full decode
-		{`{"job_id":"a","status":"queued"}`, "", false},
-		{`{"job_id":"a","status":"do`, "", false},
-		{`{}`, "", false},
-	}
-	for _, c := range cases {
-		got, err := statusOf([]byte(c.data))
-		if got != c.want || (err == nil) != c.ok {
-			t.Errorf("statusOf(%s) = %q, %v; want %q, ok=%v", c.data, got, err, c.want, c.ok)
-		}
-	}
-}
-
 // txID is the ID of the last committed transaction.
 func txID(t *testing.T, db *DB) int {
 	t.Helper()
@@ -741,65 +718,5 @@ func TestPutSweepStaged(t *testing.T) {
 	})
 	if jobs, _ := db.Jobs("big"); len(jobs) != 90 {
 		t.Fatalf("%d jobs after reopen", len(jobs))
-	}
-}
-
-// TestAppendJobMatchesMarshal checks the hand encoder of job records against
-// encoding/json (the reference: the documented record format is its output).
-func TestAppendJobMatchesMarshal(t *testing.T) {
-	strs := []string{"", "plain", `q"uote`, `back\slash`, "tab\tnl\ncr\r", "\b\f\x00\x1f\x7f", "<a&b>", "caf\u00e9 \u2028\u2029 \U0001F600", "bad\xffutf8\xc3", "\xed\xa0\x80"}
-	floats := []float64{0, 1, -1, 0.5, 1e-6, 9.99e-7, 1e-7, 123456789, 1e20, 1e21, 1.5e300, 5e-324, 2097152, 1.0 / 3}
-	var keys []string
-	for i, s := range strs {
-		j := benchJobs("sw", 3)[i%3]
-		j.Sweep, j.Case, j.Group = s, s+"c", "g"+s
-		j.Params[s] = s
-		j.Study = i * 1000
-		j.Snapshot = i%2 == 0
-		if i == 3 {
-			j.Params = nil
-		}
-		if i == 4 {
-			j.Params = map[string]string{}
-		}
-		for _, f := range floats {
-			j.Cost = f
-			want, err := json.Marshal(j)
-			if err != nil {
-				t.Fatal(err)
-			}
-			var got []byte
-			got, keys = appendJob(nil, &j, keys)
-			if !bytes.Equal(got, want) {
-				t.Fatalf("appendJob\n got %s\nwant %s", got, want)
-			}
-		}
-	}
-}
-
-func TestDecodeJobFast(t *testing.T) {
-	in := newInterner()
-	var keys []string
-	jobs := append(benchJobs("sw", 20), job.Job{ID: "a", Case: "c", Params: nil, Cost: 1e-9}, job.Job{ID: "b", Case: "c", Params: map[string]string{}})
-	for _, j := range jobs {
-		var data []byte
-		data, keys = appendJob(nil, &j, keys)
-		got, ok := decodeJobFast(data, in)
-		if !ok || !reflect.DeepEqual(got, j) {
-			t.Fatalf("decodeJobFast(%s) = %+v, %v", data, got, ok)
-		}
-	}
-	// Not the fast layout: left to DecodeJob.
-	for _, s := range []string{
-		`{"job_id":"a\u0041","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
-		`{"job_id":"a","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0.0,"snapshot":false}`,
-		`{"job_id":"a","sweep":"","study":01,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
-		`{"job_id":"a","sweep":"","study":0,"case":"c","params":{"k":"1","k":"2"},"refine":"","group":"","cost":0,"snapshot":false}`,
-		`{"job_id":"a","sweep":"","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false} `,
-		`{"sweep":"","job_id":"a","study":0,"case":"c","params":null,"refine":"","group":"","cost":0,"snapshot":false}`,
-	} {
-		if j, ok := decodeJobFast([]byte(s), in); ok {
-			t.Errorf("decodeJobFast accepted %s as %+v", s, j)
-		}
 	}
 }

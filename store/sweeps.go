@@ -115,8 +115,11 @@ func (db *DB) PutSweep(rec SweepRecord, jobs []job.Job) (added, stored int, err 
 // each with Sweep set to name: the order in which bbolt fills pages best.
 func uniqueJobs(name string, jobs []job.Job) ([]job.Job, error) {
 	for i, j := range jobs {
-		if err := checkJob(j, name); err != nil {
+		if err := j.Check(); err != nil {
 			return nil, fmt.Errorf("job %d: %w", i, err)
+		}
+		if j.Sweep != "" && j.Sweep != name {
+			return nil, fmt.Errorf("job %d: job %s belongs to sweep %q, not %q", i, j.ID, j.Sweep, name)
 		}
 	}
 	uniq := slices.Clone(jobs)
@@ -175,14 +178,13 @@ func jobBucket(tx *bolt.Tx, name string) (*bolt.Bucket, error) {
 
 // jobWriter puts job records into buckets of one write transaction.
 type jobWriter struct {
-	a    arena // keys and values, held until the transaction ends
-	buf  []byte
-	keys []string
+	a   arena // keys and values, held until the transaction ends
+	enc job.Encoder
 }
 
+// put puts the record of j, checked by uniqueJobs.
 func (w *jobWriter) put(b *bolt.Bucket, j *job.Job) error {
-	w.buf, w.keys = appendJob(w.buf[:0], j, w.keys)
-	return w.putRaw(b, j.ID, w.buf)
+	return w.putRaw(b, j.ID, w.enc.Encode(j))
 }
 
 // putRaw puts a copy of key and value.
@@ -376,16 +378,12 @@ func readJobs(tx *bolt.Tx, name string, keep func(*job.Job) bool) ([]job.Job, er
 	if err != nil {
 		return nil, err
 	}
-	in := newInterner()
+	var dec job.RecordDecoder
 	var out []job.Job
 	err = b.ForEach(func(k, v []byte) error {
-		j, ok := decodeJobFast(v, in)
-		if !ok {
-			var err error
-			if j, err = DecodeJob(v); err != nil {
-				return fmt.Errorf("store: sweep %q: job %q: %w", name, k, err)
-			}
-			in.jb(&j)
+		j, err := dec.Decode(v)
+		if err != nil {
+			return fmt.Errorf("store: sweep %q: job %q: %w", name, k, err)
 		}
 		if keep != nil && !keep(&j) {
 			return nil
@@ -424,7 +422,7 @@ func (db *DB) Job(sweepName, jobID string) (job.Job, error) {
 		if v == nil {
 			return fmt.Errorf("store: sweep %q: job %q: %w", sweepName, jobID, ErrNotFound)
 		}
-		j, err = DecodeJob(v)
+		j, err = job.DecodeRecord(v)
 		if err != nil {
 			return fmt.Errorf("store: sweep %q: job %q: %w", sweepName, jobID, err)
 		}
@@ -447,42 +445,4 @@ func (db *DB) HasJobs(outs []job.Outcome) ([]bool, error) {
 		return nil
 	})
 	return known, err
-}
-
-// interner shares equal strings among decoded jobs.
-type interner map[string]string
-
-func newInterner() interner { return make(interner) }
-
-func (in interner) str(s string) string {
-	if t, ok := in[s]; ok {
-		return t
-	}
-	in[s] = s
-	return s
-}
-
-// bytes is str of string(b), allocating only for a string not seen before.
-func (in interner) bytes(b []byte) string {
-	if t, ok := in[string(b)]; ok {
-		return t
-	}
-	s := string(b)
-	in[s] = s
-	return s
-}
-
-func (in interner) jb(j *job.Job) {
-	j.Sweep = in.str(j.Sweep)
-	j.Case = in.str(j.Case)
-	j.Refine = in.str(j.Refine)
-	j.Group = in.str(j.Group)
-	if len(j.Params) == 0 {
-		return
-	}
-	p := make(map[string]string, len(j.Params))
-	for k, v := range j.Params {
-		p[in.str(k)] = in.str(v)
-	}
-	j.Params = p
 }

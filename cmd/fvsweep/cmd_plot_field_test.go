@@ -58,7 +58,7 @@ func TestPlotFieldFromObjectStore(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := worker.Field(res.Final)
+	want := worker.SnapshotOf(res.Final).Data
 	if hdr.JobID != jb.ID || hdr.NX != 48 || hdr.NY != 48 || hdr.T != res.Final.T || len(got) != len(want) {
 		t.Fatalf("snapshot header %+v", hdr)
 	}

@@ -54,15 +54,17 @@ func plotRig(t *testing.T) (dir, jobID, snap string) {
 	}
 	var outs []job.Outcome
 	for _, j := range jobs {
-		o, final, err := worker.Solve(context.Background(), j)
+		snapped := j.Params["limiter"] == "mc" && j.Params["nx"] == "64"
+		run := j
+		run.Snapshot = snapped
+		res, err := worker.FV2D{}.Run(context.Background(), run)
+		o := res.Outcome
 		if err != nil || o.Status != job.StatusDone {
 			t.Fatal(o.Error, err)
 		}
 		o.JobID, o.Sweep, o.Attempts, o.Worker = j.ID, sp.Name, 1, "test"
-		if j.Params["limiter"] == "mc" && j.Params["nx"] == "64" {
-			h := field.Header{JobID: j.ID, Vars: final.Eq.Vars(), NX: final.NX, NY: final.NY,
-				X0: final.X0, Y0: final.Y0, DX: final.DX, DY: final.DY, T: final.T}
-			data, err := field.Encode(h, worker.Field(final))
+		if snapped {
+			data, err := field.Encode(res.Snapshot.Header, res.Snapshot.Data)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -13,6 +13,7 @@ import (
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/server"
 	"fvsweep/store"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
@@ -81,7 +82,7 @@ func (r *pageRig) addWorker(conc int, run worker.Runner) {
 		r.t.Fatal(err)
 	}
 	ctx, stop := context.WithCancel(context.Background())
-	w, err := worker.New(ctx, nc, worker.Config{Names: r.names, Concurrency: conc, Run: run, RetryDelay: 20 * time.Millisecond,
+	w, err := worker.New(ctx, nc, worker.Config{Names: r.names, Concurrency: conc, Runners: map[string]worker.Runner{job.BuiltinSolver: run}, RetryDelay: 20 * time.Millisecond,
 		FetchWait: 200 * time.Millisecond, ReportEvery: 100 * time.Millisecond, Log: hclog.NewNullLogger()})
 	if err != nil {
 		r.t.Fatal(err)

@@ -18,7 +18,6 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"fvsweep/coordinator/web"
-	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
@@ -40,14 +39,14 @@ fixed = { t_end = 0.05, nx = 16, max_steps = 1 }
 
 // gated is a runner that holds every job until release is closed, then
 // solves it.
-func gated(release <-chan struct{}) worker.Runner {
-	return func(ctx context.Context, j job.Job) (job.Outcome, *fv2d.State, error) {
+func gated(release <-chan struct{}) worker.RunnerFunc {
+	return func(ctx context.Context, j job.Job) (worker.Result, error) {
 		select {
 		case <-release:
 		case <-ctx.Done():
-			return job.Outcome{}, nil, ctx.Err()
+			return worker.Result{}, ctx.Err()
 		}
-		return worker.Solve(ctx, j)
+		return worker.FV2D{}.Run(ctx, j)
 	}
 }
 

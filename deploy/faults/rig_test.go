@@ -278,7 +278,7 @@ func observe(t *testing.T, url string, opts ...nats.Option) *observer {
 	}
 	t.Cleanup(o.nc.Close)
 	_, err = o.nc.Subscribe(wire.Names{}.ResultFilter(), func(m *nats.Msg) {
-		out, err := job.DecodeOutcome(m.Data)
+		out, err := job.DecodeOutcomeMessage(m.Data)
 		if err != nil {
 			return
 		}

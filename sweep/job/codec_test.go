@@ -7,9 +7,9 @@ import (
 
 const goodID = "0123456789abcdef0123456789abcdef"
 
-func TestDecode(t *testing.T) {
+func TestDecodeMessage(t *testing.T) {
 	good := `{"job_id":"` + goodID + `","sweep":"s","study":1,"case":"vortex","params":{"nx":"8"},"refine":"nx","group":"g","cost":10,"snapshot":false}`
-	if j, err := Decode([]byte(good)); err != nil || j.Params["nx"] != "8" {
+	if j, err := DecodeMessage([]byte(good)); err != nil || j.Params["nx"] != "8" {
 		t.Fatalf("good job: %+v %v", j, err)
 	}
 	for name, bad := range map[string]string{
@@ -23,16 +23,16 @@ func TestDecode(t *testing.T) {
 		"trailing":    good + `{}`,
 		"huge":        `{"job_id":"` + strings.Repeat("a", MaxMessage) + `"}`,
 	} {
-		if _, err := Decode([]byte(bad)); err == nil {
+		if _, err := DecodeMessage([]byte(bad)); err == nil {
 			t.Errorf("%s: accepted", name)
 		}
 	}
 }
 
-func TestDecodeOutcome(t *testing.T) {
+func TestDecodeOutcomeMessage(t *testing.T) {
 	o := Outcome{JobID: goodID, Sweep: "s", Status: StatusFailed, Error: "diverged", Attempts: 2}
 	data, _ := EncodeOutcome(o)
-	if got, err := DecodeOutcome(data); err != nil || got.Error != "diverged" {
+	if got, err := DecodeOutcomeMessage(data); err != nil || got.Error != "diverged" {
 		t.Fatalf("round trip: %+v %v", got, err)
 	}
 	for name, bad := range map[string]Outcome{
@@ -42,7 +42,7 @@ func TestDecodeOutcome(t *testing.T) {
 		"negative":         {JobID: goodID, Sweep: "s", Status: StatusDone, Attempts: -1},
 	} {
 		data, _ := EncodeOutcome(bad)
-		if _, err := DecodeOutcome(data); err == nil {
+		if _, err := DecodeOutcomeMessage(data); err == nil {
 			t.Errorf("%s: accepted", name)
 		}
 	}

@@ -9,17 +9,32 @@ import (
 	"encoding/hex"
 )
 
+// BuiltinSolver is the solver of a job whose Solver is empty: fvsweep's own
+// fv2d. Leaving it out of the record keeps the JSON and the IDs of fv2d jobs
+// as they were before jobs named their solver.
+const BuiltinSolver = "fv2d"
+
 // Job is one run of one case with fully resolved parameters.
 type Job struct {
 	ID       string            `json:"job_id"` // NewID of the canonical parameter string
 	Sweep    string            `json:"sweep"`  // sweep name
 	Study    int               `json:"study"`  // index of the [[study]] in the spec
 	Case     string            `json:"case"`
-	Params   map[string]string `json:"params"`   // every parameter, canonical values
-	Refine   string            `json:"refine"`   // name of the refinement axis ("nx"), "" if none
-	Group    string            `json:"group"`    // identity of all params except the refinement axis
-	Cost     float64           `json:"cost"`     // estimated cells x steps
-	Snapshot bool              `json:"snapshot"` // store the final field
+	Solver   string            `json:"solver,omitempty"` // the solver that runs it; "" is BuiltinSolver
+	Params   map[string]string `json:"params"`           // every parameter, canonical values
+	Refine   string            `json:"refine"`           // name of the refinement axis ("nx"), "" if none
+	Group    string            `json:"group"`            // identity of all params except the refinement axis
+	Cost     float64           `json:"cost"`             // estimated cells x steps
+	Snapshot bool              `json:"snapshot"`         // store the final field
+}
+
+// SolverName is the name of the solver that runs j: j.Solver, or
+// BuiltinSolver when that is empty.
+func (j Job) SolverName() string {
+	if j.Solver == "" {
+		return BuiltinSolver
+	}
+	return j.Solver
 }
 
 // NewID is the deterministic identity of a run: the first 16 bytes of the

@@ -94,7 +94,7 @@ func FuzzDecodeJob(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		j, err := job.Decode(data)
+		j, err := job.DecodeMessage(data)
 		if err != nil {
 			if j.ID != "" || j.Params != nil {
 				t.Fatalf("refused job %q returned a partial value %+v", data, j)
@@ -105,7 +105,7 @@ func FuzzDecodeJob(f *testing.F) {
 			math.IsNaN(j.Cost) || math.IsInf(j.Cost, 0) || j.Cost < 0 {
 			t.Fatalf("accepted a job that breaks the contract: %+v", j)
 		}
-		again, err := job.Decode(mustJSON(j))
+		again, err := job.DecodeMessage(mustJSON(j))
 		if err != nil || !reflect.DeepEqual(again, j) {
 			t.Fatalf("round trip of %+v: %+v, %v", j, again, err)
 		}
@@ -121,7 +121,7 @@ func FuzzDecodeOutcome(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		o, err := job.DecodeOutcome(data)
+		o, err := job.DecodeOutcomeMessage(data)
 		if err != nil {
 			return
 		}
@@ -129,7 +129,7 @@ func FuzzDecodeOutcome(f *testing.F) {
 			(o.Status != job.StatusDone && o.Status != job.StatusFailed) || (o.Status == job.StatusFailed && o.Error == "") {
 			t.Fatalf("accepted an outcome that breaks the contract: %+v", o)
 		}
-		again, err := job.DecodeOutcome(mustJSON(o))
+		again, err := job.DecodeOutcomeMessage(mustJSON(o))
 		if err != nil || !reflect.DeepEqual(again, o) {
 			t.Fatalf("round trip of %+v: %+v, %v", o, again, err)
 		}
@@ -224,13 +224,13 @@ func FuzzDecodeField(f *testing.F) {
 // it is parsed, whatever it holds.
 func TestDecodersRefuseOversize(t *testing.T) {
 	big := mustJSON(job.Job{ID: wireJob.ID, Sweep: "s", Case: "c", Params: map[string]string{"pad": strings.Repeat("x", MaxMessage)}})
-	if _, err := job.Decode(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+	if _, err := job.DecodeMessage(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
 		t.Errorf("job of %d bytes: %v", len(big), err)
 	}
-	if _, err := job.DecodeOutcome(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
+	if _, err := job.DecodeOutcomeMessage(big); err == nil || !strings.Contains(err.Error(), "exceeds") {
 		t.Errorf("result of %d bytes: %v", len(big), err)
 	}
-	if _, err := job.Decode(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
+	if _, err := job.DecodeMessage(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
 		t.Errorf("the good job is refused: %v", err)
 	}
 }
