@@ -29,9 +29,9 @@ const serverUsage = `  --worker-token T   with the embedded server: a second sec
                      FILE then requires client certificates signed by that CA
   --replicas N       replicas of every stream and bucket: 1 on one server, 3 on
                      a three-node cluster (default 1, or $FVSWEEP_REPLICAS)
-  --ack-wait D       how long a jb may run without a heartbeat from its worker
+  --ack-wait D       how long a job may run without a heartbeat from its worker
                      before it goes to another (default 30s)
-  --max-deliver N    deliveries of a jb before it is recorded as failed (default 3)
+  --max-deliver N    deliveries of a job before it is recorded as failed (default 3)
 `
 
 // defaultServerFlags are the values register gives without flags.

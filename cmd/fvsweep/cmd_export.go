@@ -9,11 +9,11 @@ import (
 
 const exportUsage = `usage: fvsweep export SWEEP --format csv|json
 
-Writes every jb of a sweep with its state and outcome to stdout.
-json: an array with one object per jb: job_id, study, case, params, status
+Writes every job of a sweep with its state and outcome to stdout.
+json: an array with one object per job: job_id, study, case, params, status
 (done, failed, queued or running), attempts, worker, wall_s, steps, t_final,
 errors (per variable l1, l2, linf), functionals, snapshot and error (the
-failure reason). csv: one row per jb, one column per parameter and per
+failure reason). csv: one row per job, one column per parameter and per
 error norm (var_l1, ...). Reads from the running coordinator, or from the
 store in --data.
 

@@ -1,20 +1,16 @@
 package main
 
 import (
-	"encoding/json"
 	"flag"
 	"fmt"
 	"fvsweep/sweep/spec"
 	"io"
 	"os"
-	"sort"
-	"strings"
-	"text/tabwriter"
 )
 
 const planUsage = `usage: fvsweep plan SPEC [--json] [--job-limit N] [--mem-limit SIZE]
 
-Expands the sweep sp SPEC without running anything: per study the case,
+Expands the sweep spec SPEC without running anything: per study the case,
 the fixed values, the axes, the grid sequence, the number of runs and their
 estimated cost (cells x steps, and the share of the whole), then the total.
 Runs shared by two studies are counted once in the total.
@@ -70,181 +66,13 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(planJSON(sp, pl)); err != nil {
-			fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
-			return 1
-		}
-		return 0
+		err = spec.WritePlanJSON(stdout, sp, pl)
+	} else {
+		err = spec.WritePlan(stdout, sp, pl)
 	}
-	writePlan(stdout, sp, pl)
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
+		return 1
+	}
 	return 0
-}
-
-// planAxis is one axis in the JSON plan.
-type planAxis struct {
-	Name   string   `json:"name"`
-	Values []string `json:"values"`
-}
-
-type planStudy struct {
-	Index       int               `json:"index"`
-	Label       string            `json:"label"`
-	Case        string            `json:"case"`
-	Fixed       map[string]string `json:"fixed"`
-	Axes        []planAxis        `json:"axes"`
-	Together    [][]planAxis      `json:"together"`
-	Refine      string            `json:"refine"`
-	Grid        []planAxis        `json:"grid"` // the refinement axis first, then what varies with it
-	Grids       []string          `json:"grids"`
-	Runs        int               `json:"runs"`
-	Cost        float64           `json:"cost"`  // estimated cell updates
-	Share       float64           `json:"share"` // of the sum of all studies' costs
-	Snapshot    bool              `json:"snapshot"`
-	DesignOrder float64           `json:"design_order"` // 0: from the scheme
-	OrderTol    float64           `json:"order_tol"`
-	OrderTolHi  float64           `json:"order_tol_high"`
-	Var         string            `json:"var"`
-	Norm        string            `json:"norm"`
-	Functional  string            `json:"functional,omitempty"`
-}
-
-type planDoc struct {
-	Sweep   string      `json:"sweep"`
-	File    string      `json:"file"`
-	Runs    int         `json:"runs"` // before removing runs shared by studies
-	Jobs    int         `json:"jobs"` // distinct runs
-	Cost    float64     `json:"cost"` // estimated cell updates of the distinct runs
-	Studies []planStudy `json:"studies"`
-}
-
-func planAxes(as []spec.Axis) []planAxis {
-	out := make([]planAxis, 0, len(as))
-	for _, a := range as {
-		out = append(out, planAxis{Name: a.Name, Values: a.Values})
-	}
-	return out
-}
-
-func planJSON(sp *spec.Spec, pl *spec.Plan) planDoc {
-	doc := planDoc{Sweep: pl.Sweep, File: sp.File, Runs: pl.Runs, Jobs: pl.Jobs, Cost: pl.Cost}
-	for _, sp := range pl.Studies {
-		st := sp.Study
-		ps := planStudy{Index: st.Index, Label: st.Label, Case: st.Case, Fixed: st.Fixed, Axes: planAxes(st.Axes),
-			Together: [][]planAxis{}, Refine: st.Refine, Grid: planAxes(st.Grid), Grids: sp.Grids, Runs: sp.Runs,
-			Cost: sp.Cost, Share: sp.Share, Snapshot: st.Snapshot, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol, OrderTolHi: st.OrderTolHi,
-			Var: st.Var, Norm: st.Norm, Functional: st.Functional}
-		if ps.Fixed == nil {
-			ps.Fixed = map[string]string{}
-		}
-		for _, g := range st.Together {
-			ps.Together = append(ps.Together, planAxes(g))
-		}
-		doc.Studies = append(doc.Studies, ps)
-	}
-	return doc
-}
-
-// writePlan prints the plan: one block per study, then a summary table.
-func writePlan(w io.Writer, sp *spec.Spec, pl *spec.Plan) {
-	fmt.Fprintf(w, "sweep %s (%s): %d studies, %d jobs, %.3g cell updates estimated\n", pl.Sweep, sp.File,
-		len(pl.Studies), pl.Jobs, pl.Cost)
-	if sp.Description != "" {
-		fmt.Fprintf(w, "  %s\n", sp.Description)
-	}
-	for _, sp := range pl.Studies {
-		st := sp.Study
-		fmt.Fprintf(w, "\nstudy %d  %s  (case %s)\n", st.Index, st.Label, st.Case)
-		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-		if len(st.Fixed) > 0 {
-			fmt.Fprintf(tw, "  fixed\t%s\n", fixedString(st.Fixed))
-		}
-		for _, a := range st.Axes {
-			fmt.Fprintf(tw, "  crossed\t%s: %s\n", a.Name, strings.Join(a.Values, " "))
-		}
-		for _, g := range st.Together {
-			fmt.Fprintf(tw, "  together\t%s\n", togetherString(g))
-		}
-		if st.Refine != "" {
-			fmt.Fprintf(tw, "  refine\t%s\n", gridString(st.Grid))
-		}
-		fmt.Fprintf(tw, "  judged\t%s\n", judgedString(st))
-		fmt.Fprintf(tw, "  runs\t%d on %s\n", sp.Runs, strings.Join(sp.Grids, " "))
-		fmt.Fprintf(tw, "  cost\t%.3g cell updates (%.1f %%)\n", sp.Cost, 100*sp.Share)
-		tw.Flush()
-	}
-	fmt.Fprintln(w)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "study\tlabel\tcase\t  runs\t     cost\t  share")
-	for _, sp := range pl.Studies {
-		fmt.Fprintf(tw, "%d\t%s\t%s\t%6d\t%9.3g\t%5.1f %%\n", sp.Study.Index, sp.Study.Label, sp.Study.Case, sp.Runs, sp.Cost, 100*sp.Share)
-	}
-	fmt.Fprintf(tw, "total\t\t\t%6d\t%9.3g\t\n", pl.Jobs, pl.Cost)
-	tw.Flush()
-	if shared := pl.Runs - pl.Jobs; shared > 0 {
-		fmt.Fprintf(w, "%d runs are shared by two or more studies and run once: %d runs, %d jobs\n", shared, pl.Runs, pl.Jobs)
-	}
-}
-
-func fixedString(m map[string]string) string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	for i, k := range keys {
-		keys[i] = k + "=" + m[k]
-	}
-	return strings.Join(keys, " ")
-}
-
-// togetherString shows a group as its tuples: "flux, cfl: (hll, 0.5) (hllc, 0.9)".
-func togetherString(g []spec.Axis) string {
-	names := make([]string, len(g))
-	for i, a := range g {
-		names[i] = a.Name
-	}
-	var tuples []string
-	for i := range g[0].Values {
-		vals := make([]string, len(g))
-		for k, a := range g {
-			vals[k] = a.Values[i]
-		}
-		tuples = append(tuples, "("+strings.Join(vals, ", ")+")")
-	}
-	return strings.Join(names, ", ") + ": " + strings.Join(tuples, " ")
-}
-
-func gridString(grid []spec.Axis) string {
-	s := grid[0].Name + ": " + strings.Join(grid[0].Values, " ")
-	for _, a := range grid[1:] {
-		if a.Follows != "" {
-			s += fmt.Sprintf(" (%s follows %s)", a.Name, a.Follows)
-		} else {
-			s += fmt.Sprintf(", with %s: %s", a.Name, strings.Join(a.Values, " "))
-		}
-	}
-	return s
-}
-
-func judgedString(st *spec.Study) string {
-	s := st.Var + " " + st.Norm
-	if st.Functional != "" {
-		s += ", functional " + st.Functional
-	}
-	if st.DesignOrder > 0 {
-		s += fmt.Sprintf(", design order %g", st.DesignOrder)
-	} else {
-		s += ", design order of the scheme"
-	}
-	if st.OrderTolHi != st.OrderTol {
-		s += fmt.Sprintf(" -%g/+%g", st.OrderTol, st.OrderTolHi)
-	} else {
-		s += fmt.Sprintf(" ± %g", st.OrderTol)
-	}
-	if st.Snapshot {
-		s += ", final fields kept"
-	}
-	return s
 }

@@ -62,7 +62,28 @@ func TestPlanJSON(t *testing.T) {
 	if code := runPlan([]string{path, "--json"}, &out, &errb); code != 0 { // flag after SPEC
 		t.Fatalf("exit %d: %s", code, errb.String())
 	}
-	var doc planDoc
+	// Field names match the JSON keys (encoding/json ignores case).
+	type axis struct {
+		Name   string
+		Values []string
+	}
+	var doc struct {
+		Sweep   string
+		Runs    int
+		Jobs    int
+		Cost    float64
+		Studies []struct {
+			Runs     int
+			Refine   string
+			Grid     []axis
+			Together [][]axis
+			Grids    []string
+			Fixed    map[string]string
+			Var      string
+			Cost     float64
+			Share    float64
+		}
+	}
 	if err := json.Unmarshal(out.Bytes(), &doc); err != nil {
 		t.Fatalf("%v\n%s", err, out.String())
 	}

@@ -24,7 +24,7 @@ const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --ou
   convergence  error norm against h, log-log, one line per parameter group,
                reference slopes of order 1 and 2, fitted order in the legend
   cost         error norm against CPU seconds (work-precision), log-log
-  field        heat map of a jb's final field with a colour bar, or with
+  field        heat map of a job's final field with a colour bar, or with
                --cut a line cut through it against the exact solution
 
 The extension of --out (.png or .svg) picks the format. Results come from
@@ -36,7 +36,7 @@ else from the server files in --data/nats.
 flags:
   --out       output file (.png or .svg), required
   --study N   the study to plot (default: the only one with errors to show)
-  --jb ID    field: the jb (its ID, or a unique prefix of it)
+  --job ID    field: the job (its ID, or a unique prefix of it)
   --snapshot FILE  field: read the snapshot from this file instead
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V

@@ -24,7 +24,7 @@ import (
 const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--data DIR] [--http HOST:PORT]
 
 Runs a sweep on this machine in one go: an embedded NATS server, the
-coordinator and N local workers. It queues every jb of SPEC that has no
+coordinator and N local workers. It queues every job of SPEC that has no
 stored outcome (largest first), shows the progress (a bar with done, failed,
 running and an ETA on a terminal, a log line every few seconds otherwise),
 then prints the convergence tables. The sweep's name, printed first, is

@@ -10,7 +10,7 @@ import (
 const submitUsage = `usage: fvsweep submit SPEC [--retry-failed]
 
 Sends the sweep spec SPEC to the running coordinator (found through
-DIR/coordinator.url or --nats), which queues every jb that has no stored
+DIR/coordinator.url or --nats), which queues every job that has no stored
 outcome, largest first. The spec is checked here first. Submitting the same
 (or an edited) spec again queues only the jobs not yet stored.
 

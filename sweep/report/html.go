@@ -210,7 +210,7 @@ dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } d
 {{end}}
 <h2>Failures</h2>
 {{if .Failures}}<table>
-<tr><th>jb</th><th>study</th><th>parameters</th><th>attempts</th><th>worker</th><th>reason</th></tr>
+<tr><th>job</th><th>study</th><th>parameters</th><th>attempts</th><th>worker</th><th>reason</th></tr>
 {{range .Failures}}<tr><td class="t"><code>{{short .JobID}}</code></td><td>{{.Study}}</td><td class="t">{{.Params}}</td><td>{{.Attempts}}</td><td class="t">{{.Worker}}</td><td class="t">{{.Reason}}</td></tr>
 {{end}}</table>
 {{else}}<p>None.</p>
