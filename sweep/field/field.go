@@ -1,5 +1,5 @@
 // Package field is the binary format of a field snapshot: the cell averages
-// of a finished run, a little-endian object
+// of a finished run, in a little-endian object:
 //
 //	"FVF1" | u32 header length | JSON Header | float32 x NV x NX x NY
 //
