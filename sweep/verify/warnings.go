@@ -10,8 +10,9 @@ import (
 // never changes a number; it says why the number may not mean what it seems.
 const (
 	// MinRefinementRatio is the smallest ratio h_coarse/h_fine between
-	// successive grids that Celik et al. 2008 recommend (1.3): on closer
-	// grids the differences are small next to round-off and iteration error.
+	// successive grids that Celik et al. 2008 recommend (1.3, recalled from
+	// memory): on closer grids the differences are small next to round-off
+	// and iteration error.
 	MinRefinementRatio = 1.3
 	// OrderCeiling is the largest plausible observed order whatever the
 	// scheme (common practice: schemes in use are at most about fifth order;
