@@ -287,11 +287,14 @@ func fitWeights(x []float64) []float64 {
 // bestFits makes every fit, unweighted and weighted, records them in u.Fits
 // and returns the better-sigma power fit and the smallest-sigma fixed-order
 // fit with at least one degree of freedom (either nil when none could be
-// made). When no power fit has its minimum inside the orders scanned, edge
+// made). Fits that overflow float64 are left out. When no power fit has its minimum inside the orders scanned, edge
 // says at which end the unweighted one lies (fitBelow or fitAbove).
 func bestFits(x, phi, w []float64, u *Uncertainty) (power, alt *ExpansionFit, edge int) {
 	n := len(x)
 	better := func(best **ExpansionFit, f ExpansionFit) {
+		if !finiteFit(f) {
+			return
+		}
 		u.Fits = append(u.Fits, f)
 		if *best == nil || f.Sigma < (*best).Sigma {
 			*best = &u.Fits[len(u.Fits)-1]
@@ -303,7 +306,7 @@ func bestFits(x, phi, w []float64, u *Uncertainty) (power, alt *ExpansionFit, ed
 		if wt == nil && (pf.status == fitAbove || pf.status == fitBelow) {
 			edge = pf.status
 		}
-		if pf.status != fitOK || math.IsInf(pf.phi0, 0) || math.IsInf(pf.alpha, 0) {
+		if pf.status != fitOK {
 			continue
 		}
 		better(&power, ExpansionFit{Fit: FitPower, Weighted: wt != nil, Extrapolated: pf.phi0,
@@ -324,7 +327,7 @@ func bestFits(x, phi, w []float64, u *Uncertainty) (power, alt *ExpansionFit, ed
 				Sigma: fitSigma(s, n, m, wt != nil), DOF: n - m, exps: e.exps}
 			if n > m {
 				better(&alt, f)
-			} else {
+			} else if finiteFit(f) {
 				u.Fits = append(u.Fits, f)
 			}
 		}
@@ -333,6 +336,12 @@ func bestFits(x, phi, w []float64, u *Uncertainty) (power, alt *ExpansionFit, ed
 		edge = fitOK
 	}
 	return power, alt, edge
+}
+
+// finiteFit reports whether every number of f is finite; a fit that
+// overflows float64 is not used.
+func finiteFit(f ExpansionFit) bool {
+	return allFinite(f.Coef) && allFinite([]float64{f.Extrapolated, f.Sigma}) && (f.Order == nil || allFinite([]float64{*f.Order}))
 }
 
 // fitSigma is the standard deviation of a fit of m parameters to n values
