@@ -14,24 +14,38 @@ import (
 	"text/tabwriter"
 )
 
-const gciUsage = `usage: fvsweep gci --values PHI1,PHI2,... (--cells N1,N2,... --dim D | --h H1,H2,...) [--order P] [--fs F] [--json]
+const gciUsage = `usage: fvsweep gci --values PHI1,PHI2,... (--cells N1,N2,... --dim D | --h H1,H2,...)
+                  [--method celik|lsq] [--order P] [--fs F] [--design P] [--json]
 
-Discretisation-error estimate of a functional computed on several grids, by
-the procedure of Celik et al. 2008 (J. Fluids Eng. 130, 078001): apparent
-order, Richardson extrapolation, relative errors and the grid convergence
-index. The grids may be given in any order; they are sorted by spacing and
-reported finest first. With two grids --order gives the assumed order (for
-example the design order) and the factor of safety becomes 3.
+Discretisation-error estimate of a functional computed on several grids. The
+default method, celik, is the procedure of Celik et al. 2008 (J. Fluids Eng.
+130, 078001): apparent order, Richardson extrapolation, relative errors and
+the grid convergence index of each successive triple. The method lsq is the
+least-squares uncertainty of Eça & Hoekstra 2014 (J. Comput. Phys. 262,
+104-130) over all grids, meant for four or more grids with scatter: the fits,
+the chosen one, the observed order, its standard deviation and the
+uncertainty U of every grid. The grids may be given in any order; they are
+sorted by spacing and reported finest first. With two grids (celik only)
+--order gives the assumed order (for example the design order) and the
+factor of safety becomes 3. Implausible input or results (close grids,
+orders out of range, differences at round-off level, too few grids) are
+printed as warnings under the record, and listed under "warnings" in JSON.
 
 flags (--help or -h alone prints this):
   --values  the functional on each grid, comma separated
   --cells   cell count of each grid (h = (1/N)^(1/dim)); needs --dim
   --dim     space dimension for --cells: 1, 2 or 3
   --h       grid spacing of each grid, instead of --cells
-  --order   assumed order, for two grids only
-  --fs      factor of safety (default 1.25, or 3 for two grids)
-  --json    print JSON: one record for two or three grids, otherwise
-            {"records": [one per successive triple], "least_squares": {...}}
+  --method  celik (default) or lsq (three grids or more)
+  --order   assumed order, for two grids only (celik)
+  --fs      factor of safety (celik; default 1.25, or 3 for two grids)
+  --design  design order of the scheme: an observed order above twice it
+            is warned about, and for lsq the trusted orders become
+            [0.5, design + 0.1) instead of [0.5, 2.1)
+  --json    print JSON. celik: one record for two or three grids, otherwise
+            {"records": [one per successive triple], "least_squares": {...}};
+            lsq: {"uncertainty" (fraction of |phi_1|), "uncertainty_abs",
+            "extrapolated", "order", "fit", "sigma", "u" (every grid), ...}
 `
 
 func init() {
@@ -68,6 +82,8 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 	dim := fs.Int("dim", 0, "")
 	order := fs.Float64("order", 0, "")
 	safety := fs.Float64("fs", 0, "")
+	design := fs.Float64("design", 0, "")
+	method := fs.String("method", "celik", "")
 	asJSON := fs.Bool("json", false, "")
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep gci: "+format+"\n", a...)
@@ -92,6 +108,16 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 	if code != 0 {
 		return code
 	}
+	if set["design"] && !(*design > 0 && !math.IsInf(*design, 1)) {
+		return bad("--design %g: must be a positive number", *design)
+	}
+	switch *method {
+	case "celik":
+	case "lsq":
+		return runGCILeastSquares(values, h, *design, set, *asJSON, stdout, stderr, bad)
+	default:
+		return bad("--method %q: must be celik or lsq", *method)
+	}
 	if set["order"] && !(*order > 0 && !math.IsInf(*order, 1)) {
 		return bad("--order %g: must be a positive number", *order)
 	}
@@ -104,7 +130,7 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 	if set["fs"] && !(*safety > 0 && !math.IsInf(*safety, 1)) {
 		return bad("--fs %g: must be a positive number", *safety)
 	}
-	st, err := verify.GCI(values, h, verify.GCIOptions{SafetyFactor: *safety, AssumedOrder: *order})
+	st, err := verify.GCI(values, h, verify.GCIOptions{SafetyFactor: *safety, AssumedOrder: *order, DesignOrder: *design})
 	if err != nil {
 		return bad("%v", err)
 	}
@@ -113,15 +139,41 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 		if len(st.Phi) <= 3 {
 			v = st.Records[0]
 		}
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(v); err != nil {
-			fmt.Fprintf(stderr, "fvsweep gci: %v\n", err)
-			return 1
-		}
-		return 0
+		return gciEncode(v, stdout, stderr)
 	}
 	writeGCIText(stdout, st)
+	return 0
+}
+
+// runGCILeastSquares is gci --method lsq.
+func runGCILeastSquares(values, h []float64, design float64, set map[string]bool, asJSON bool,
+	stdout, stderr io.Writer, bad func(string, ...any) int) int {
+	for _, f := range []string{"order", "fs"} {
+		if set[f] {
+			return bad("--%s is for --method celik; lsq chooses its own order and factor of safety", f)
+		}
+	}
+	if len(values) < 3 {
+		return bad("--method lsq needs at least 3 grids, have %d", len(values))
+	}
+	u, err := verify.LeastSquaresUncertainty(values, h, verify.UncertaintyOptions{DesignOrder: design})
+	if err != nil {
+		return bad("%v", err)
+	}
+	if asJSON {
+		return gciEncode(u, stdout, stderr)
+	}
+	writeLSQText(stdout, u)
+	return 0
+}
+
+func gciEncode(v any, stdout, stderr io.Writer) int {
+	enc := json.NewEncoder(stdout)
+	enc.SetIndent("", "  ")
+	if err := enc.Encode(v); err != nil {
+		fmt.Fprintf(stderr, "fvsweep gci: %v\n", err)
+		return 1
+	}
 	return 0
 }
 
@@ -178,14 +230,29 @@ func gciDistinct(name string, given, h []float64, bad func(string, ...any) int) 
 	return h, 0
 }
 
-func writeGCIText(w io.Writer, st *verify.GCIStudy) {
+// writeGrids prints the grids, finest first.
+func writeGrids(w io.Writer, h, phi []float64) {
 	fmt.Fprintln(w, "grids, sorted finest first:")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "  grid\th\tphi")
-	for i := range st.H {
-		fmt.Fprintf(tw, "  %d\t%.6g\t%.10g\n", i+1, st.H[i], st.Phi[i])
+	for i := range h {
+		fmt.Fprintf(tw, "  %d\t%.6g\t%.10g\n", i+1, h[i], phi[i])
 	}
 	tw.Flush()
+}
+
+// writeRemarks prints notes and warnings under a record.
+func writeRemarks(w io.Writer, notes, warnings []string) {
+	for _, n := range notes {
+		fmt.Fprintf(w, "  note: %s\n", n)
+	}
+	for _, n := range warnings {
+		fmt.Fprintf(w, "  warning: %s\n", n)
+	}
+}
+
+func writeGCIText(w io.Writer, st *verify.GCIStudy) {
+	writeGrids(w, st.H, st.Phi)
 	for _, r := range st.Records {
 		fmt.Fprintln(w)
 		names := make([]string, len(r.Grids))
@@ -220,18 +287,34 @@ func writeGCIText(w io.Writer, st *verify.GCIStudy) {
 			fmt.Fprintf(tw, "  asymptotic ratio GCI_32/(r21^p GCI_21)\t%s\n", gciNum(r.AsymptoticRatio, "%.4g", 1))
 		}
 		tw.Flush()
-		for _, n := range r.Notes {
-			fmt.Fprintf(w, "  note: %s\n", n)
-		}
+		writeRemarks(w, r.Notes, r.Warnings)
 	}
 	if ls := st.LeastSquares; ls != nil {
 		fmt.Fprintf(w, "\nleast squares over all %d grids, phi = phi_0 + alpha (h/h1)^p:\n", len(st.H))
 		fmt.Fprintf(w, "  order p %s, phi_0 %s, rms residual %.3g\n",
 			gciNum(ls.Order, "%.4g", 1), gciNum(ls.Extrapolated, "%.10g", 1), ls.ResidualRMS)
-		for _, n := range ls.Notes {
-			fmt.Fprintf(w, "  note: %s\n", n)
-		}
+		writeRemarks(w, ls.Notes, ls.Warnings)
 	}
+}
+
+func writeLSQText(w io.Writer, u *verify.Uncertainty) {
+	writeGrids(w, u.H, u.Phi)
+	fmt.Fprintf(w, "\nleast-squares uncertainty over %d grids (Eça & Hoekstra 2014):\n", len(u.H))
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fit := u.Fit
+	if u.Weighted {
+		fit += ", weighted"
+	}
+	fmt.Fprintf(tw, "  fit\t%s\n", fit)
+	fmt.Fprintf(tw, "  observed order p\t%s\n", gciNum(u.Order, "%.4g", 1))
+	fmt.Fprintf(tw, "  extrapolated phi_0\t%s\n", gciNum(u.Extrapolated, "%.10g", 1))
+	fmt.Fprintf(tw, "  standard deviation sigma\t%.3g\n", u.Sigma)
+	fmt.Fprintf(tw, "  data range Delta_M\t%.3g\n", u.DataRange)
+	fmt.Fprintf(tw, "  factor of safety\t%.3g\n", u.SafetyFactor)
+	fmt.Fprintf(tw, "  U of grid 1\t%.3g (%s)\n", u.UncertaintyAbs, gciNum(u.Uncertainty, "%.3g %%", 100))
+	tw.Flush()
+	fmt.Fprintln(w, "  U of every grid:", strings.Trim(fmt.Sprintf("%.3g", u.U), "[]"))
+	writeRemarks(w, u.Notes, u.Warnings)
 }
 
 // gciNum formats *x times scale, or "undefined" when x is nil.

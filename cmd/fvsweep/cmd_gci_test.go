@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -133,6 +134,11 @@ func TestGCICommandBadFlags(t *testing.T) {
 		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--fs", "-1"}, "--fs"},
 		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--bogus"}, "-bogus"},
 		{[]string{"--values", "1,2,3", "--h", "1,2,4", "extra"}, "extra"},
+		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--method", "roache"}, "--method"},
+		{[]string{"--values", "1,2", "--h", "1,2", "--method", "lsq"}, "--method lsq"},
+		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--method", "lsq", "--fs", "2"}, "--fs"},
+		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--method", "lsq", "--order", "2"}, "--order"},
+		{[]string{"--values", "1,2,3", "--h", "1,2,4", "--design", "-1"}, "--design"},
 	}
 	for _, c := range cases {
 		code, out, errs := gciRun(c.args...)
@@ -144,5 +150,71 @@ func TestGCICommandBadFlags(t *testing.T) {
 		if code, out, _ := gciRun(a); code != 0 || !strings.Contains(out, "usage: fvsweep gci") {
 			t.Errorf("%s: exit %d", a, code)
 		}
+	}
+}
+
+// TestGCICommandWarns: the case of issue 12, an apparent order of 34.22 from
+// values that differ by 1e-10, is no longer printed silently.
+func TestGCICommandWarns(t *testing.T) {
+	args := []string{"--values", "1,1.0000000001,3", "--h", "0.1,0.2,0.4"}
+	code, out, errs := gciRun(args...)
+	if code != 0 || !strings.Contains(out, "  warning: observed order 34.22 is above 6") {
+		t.Errorf("exit %d %s:\n%s", code, errs, out)
+	}
+	var m struct{ Warnings []string }
+	gciJSON(t, &m, append(args, "--json")...)
+	if len(m.Warnings) == 0 {
+		t.Errorf("JSON has no warnings")
+	}
+	// Close grids (ratio 1.01, Celik et al. 2008 recommend 1.3) warn too.
+	_, out, _ = gciRun("--values", "0.5012,0.50125,0.5013", "--cells", "102,101,100", "--dim", "1")
+	if !strings.Contains(out, "below 1.3") {
+		t.Errorf("ratio 1.01 without a warning:\n%s", out)
+	}
+	// A clean study carries none.
+	m.Warnings = nil
+	gciJSON(t, &m, "--values", "6.063,5.972,5.863", "--cells", "18000,8000,4500", "--dim", "2", "--json")
+	if len(m.Warnings) != 0 {
+		t.Errorf("Celik et al. 2008 example warns: %q", m.Warnings)
+	}
+}
+
+// TestGCICommandLSQ: --method lsq gives the keys of issue 12, and for an
+// exact power law of order 1.5 its U equals the GCI of Celik et al. 2008
+// with Fs = 1.25 (Eça & Hoekstra 2014, recalled from memory,
+// docs/references.md §14).
+func TestGCICommandLSQ(t *testing.T) {
+	h := []float64{0.025, 0.05, 0.1, 0.2}
+	var vals []string
+	for _, x := range h {
+		vals = append(vals, strconv.FormatFloat(1+0.3*math.Pow(x, 1.5), 'g', -1, 64))
+	}
+	args := []string{"--values", strings.Join(vals, ","), "--h", "0.025,0.05,0.1,0.2"}
+	var u map[string]any
+	gciJSON(t, &u, append(args, "--method", "lsq", "--json")...)
+	for _, k := range []string{"uncertainty", "uncertainty_abs", "extrapolated", "order", "fit", "sigma"} {
+		if _, ok := u[k]; !ok {
+			t.Errorf("lsq JSON lacks %q: %v", k, u)
+		}
+	}
+	var c struct {
+		Records []struct {
+			GCIFine float64 `json:"gci_fine"`
+		}
+	}
+	gciJSON(t, &c, append(args, "--json")...)
+	if got, want := u["uncertainty"].(float64), c.Records[0].GCIFine; u["fit"] != "power" || math.Abs(got-want) > 1e-6*want {
+		t.Errorf("lsq uncertainty %v (fit %v), Celik GCI_fine %v", got, u["fit"], want)
+	}
+	code, out, _ := gciRun(append(args, "--method", "lsq")...)
+	for _, s := range []string{"least-squares uncertainty over 4 grids", "fit", "observed order p", "U of grid 1"} {
+		if code != 0 || !strings.Contains(out, s) {
+			t.Errorf("lsq text lacks %q:\n%s", s, out)
+		}
+	}
+	// Three grids work, with a warning that four are needed to see scatter.
+	code, out, _ = gciRun("--values", "1.01,1.04,1.16", "--h", "1,2,4", "--method", "lsq")
+	if code != 0 || !strings.Contains(out, "warning: three grids") {
+		t.Errorf("three grids: exit %d\n%s", code, out)
 	}
 }

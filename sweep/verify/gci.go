@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 )
 
@@ -28,6 +29,9 @@ type GCIOptions struct {
 	// example the design order of the scheme). It is required then and must
 	// not be set with three or more grids, whose order is observed.
 	AssumedOrder float64
+	// DesignOrder is the formal order of the scheme, 0 when unknown; it only
+	// sharpens the warnings (an observed order above twice it is implausible).
+	DesignOrder float64
 }
 
 // GCIRecord is the discretisation-error estimate from one grid triple (or
@@ -60,6 +64,10 @@ type GCIRecord struct {
 	AsymptoticRatio *float64 `json:"asymptotic_ratio,omitempty"`
 
 	Notes []string `json:"notes,omitempty"`
+	// Warnings says where the record is implausible: close grids, orders out
+	// of range, differences at round-off level, far from asymptotic, too few
+	// grids (see the thresholds in warnings.go).
+	Warnings []string `json:"warnings,omitempty"`
 }
 
 // LeastSquaresOrder is the fit phi_i = phi_0 + alpha (h_i/h_1)^p over all
@@ -72,6 +80,7 @@ type LeastSquaresOrder struct {
 	Alpha        *float64 `json:"alpha,omitempty"`        // with h in units of the finest spacing h_1
 	ResidualRMS  float64  `json:"residual_rms"`
 	Notes        []string `json:"notes,omitempty"`
+	Warnings     []string `json:"warnings,omitempty"` // plausibility, see Warnings
 }
 
 // GCIStudy is the result of GCI: the grids sorted finest first, one record
@@ -87,6 +96,35 @@ type GCIStudy struct {
 // ErrGCIInput is returned (wrapped) by GCI and SpacingsFromCells for input
 // that no estimate can be made from.
 var ErrGCIInput = errors.New("bad GCI input")
+
+// checkGrids checks the input of GCI and LeastSquaresUncertainty and returns
+// copies of h and phi sorted finest first.
+func checkGrids(phi, h []float64, minGrids int) (hs, ps []float64, err error) {
+	if len(phi) != len(h) {
+		return nil, nil, fmt.Errorf("%w: %d values but %d grids", ErrGCIInput, len(phi), len(h))
+	}
+	if len(phi) < minGrids {
+		return nil, nil, fmt.Errorf("%w: need at least %d grids, have %d", ErrGCIInput, minGrids, len(phi))
+	}
+	for i := range phi {
+		if math.IsNaN(phi[i]) || math.IsInf(phi[i], 0) {
+			return nil, nil, fmt.Errorf("%w: value %d is %g, not finite", ErrGCIInput, i+1, phi[i])
+		}
+		if !positive(h[i]) {
+			return nil, nil, fmt.Errorf("%w: spacing %d is %g, not positive and finite", ErrGCIInput, i+1, h[i])
+		}
+	}
+	hs, ps = sortedByH(h, phi)
+	for i := 1; i < len(hs); i++ {
+		if hs[i] == hs[i-1] {
+			return nil, nil, fmt.Errorf("%w: two grids have the same spacing %g", ErrGCIInput, hs[i])
+		}
+		if d := ps[i] - ps[i-1]; math.IsInf(d, 0) {
+			return nil, nil, fmt.Errorf("%w: values %g and %g differ by more than the float64 range", ErrGCIInput, ps[i-1], ps[i])
+		}
+	}
+	return hs, ps, nil
+}
 
 // SpacingsFromCells returns the representative grid spacing of each grid
 // from its cell count: h = (1/N)^(1/dim) (Celik et al. 2008, eq. 1, for a
@@ -156,32 +194,16 @@ func SpacingsFromCells(cells []float64, dim int) ([]float64, error) {
 // not positive, two spacings are equal, two successive values differ by more
 // than the float64 range, or the options do not fit the number of grids.
 func GCI(phi, h []float64, opts GCIOptions) (*GCIStudy, error) {
-	if len(phi) != len(h) {
-		return nil, fmt.Errorf("%w: %d values but %d grids", ErrGCIInput, len(phi), len(h))
-	}
-	if len(phi) < 2 {
-		return nil, fmt.Errorf("%w: need at least 2 grids, have %d", ErrGCIInput, len(phi))
-	}
-	for i := range phi {
-		if math.IsNaN(phi[i]) || math.IsInf(phi[i], 0) {
-			return nil, fmt.Errorf("%w: value %d is %g, not finite", ErrGCIInput, i+1, phi[i])
-		}
-		if !positive(h[i]) {
-			return nil, fmt.Errorf("%w: spacing %d is %g, not positive and finite", ErrGCIInput, i+1, h[i])
-		}
-	}
-	hs, ps := sortedByH(h, phi)
-	for i := 1; i < len(hs); i++ {
-		if hs[i] == hs[i-1] {
-			return nil, fmt.Errorf("%w: two grids have the same spacing %g", ErrGCIInput, hs[i])
-		}
-		if d := ps[i] - ps[i-1]; math.IsInf(d, 0) {
-			return nil, fmt.Errorf("%w: values %g and %g differ by more than the float64 range", ErrGCIInput, ps[i-1], ps[i])
-		}
+	hs, ps, err := checkGrids(phi, h, 2)
+	if err != nil {
+		return nil, err
 	}
 	fs := opts.SafetyFactor
 	if math.IsNaN(fs) || math.IsInf(fs, 0) || fs < 0 {
 		return nil, fmt.Errorf("%w: safety factor %g is not a finite non-negative number", ErrGCIInput, fs)
+	}
+	if d := opts.DesignOrder; math.IsNaN(d) || math.IsInf(d, 0) || d < 0 {
+		return nil, fmt.Errorf("%w: design order %g is not a finite non-negative number", ErrGCIInput, d)
 	}
 	st := &GCIStudy{H: hs, Phi: ps}
 	if len(hs) == 2 {
@@ -192,7 +214,10 @@ func GCI(phi, h []float64, opts GCIOptions) (*GCIStudy, error) {
 		if fs == 0 {
 			fs = SafetyTwoGrids
 		}
-		st.Records = []GCIRecord{pairRecord(hs, ps, p, fs)}
+		r := pairRecord(hs, ps, p, fs)
+		r.Warnings = append([]string{"two grids: fewer than the three the procedure needs to observe the order; it is assumed"},
+			append(ratioWarnings(hs, 1), roundOffWarnings(ps, 1)...)...)
+		st.Records = []GCIRecord{r}
 		return st, nil
 	}
 	if opts.AssumedOrder != 0 {
@@ -204,10 +229,13 @@ func GCI(phi, h []float64, opts GCIOptions) (*GCIStudy, error) {
 	for i := 0; i+2 < len(hs); i++ {
 		r := tripleRecord(hs[i:i+3], ps[i:i+3], fs)
 		r.Grids = []int{i, i + 1, i + 2}
+		r.Warnings = slices.Concat(ratioWarnings(r.H, i+1), roundOffWarnings(r.Phi, i+1),
+			orderWarnings(r.Order, opts.DesignOrder), asymptoticWarnings(r.AsymptoticRatio))
 		st.Records = append(st.Records, r)
 	}
 	if len(hs) >= 4 {
 		st.LeastSquares = leastSquaresOrder(hs, ps)
+		st.LeastSquares.Warnings = orderWarnings(st.LeastSquares.Order, opts.DesignOrder)
 	}
 	return st, nil
 }
@@ -436,65 +464,26 @@ func (r *GCIRecord) sanitise() {
 func fmtG(x float64) string { return strconv.FormatFloat(x, 'g', 4, 64) }
 
 // leastSquaresOrder fits phi_i = phi_0 + alpha x_i^p, x_i = h_i/h_1, by
-// minimising the residual sum of squares S(p) (phi_0 and alpha solved
-// linearly for each p) over p in [pMin, pMax]: a geometric scan, then a
-// golden-section refinement of the best bracket.
+// unweighted least squares (powerFit) and states what the data leave
+// undefined.
 func leastSquaresOrder(h, phi []float64) *LeastSquaresOrder {
-	const pMin, pMax, step = 0.05, 16.0, 1.02
 	ls := &LeastSquaresOrder{}
-	allEqual := true
-	for _, v := range phi[1:] {
-		allEqual = allEqual && v == phi[0]
-	}
-	if allEqual {
+	f := powerFit(scaledSpacings(h), phi, nil)
+	switch f.status {
+	case fitAllEqual:
 		ls.Extrapolated = num(phi[0])
 		ls.Notes = []string{"all values are equal: no grid dependence is visible, the order is undefined"}
 		return ls
-	}
-	x := make([]float64, len(h))
-	for i := range h {
-		x[i] = h[i] / h[0]
-	}
-	var ps []float64
-	for p := pMin; p <= pMax*1.0000001; p *= step {
-		ps = append(ps, p)
-	}
-	best, bestS := 0, math.Inf(1)
-	for k, p := range ps {
-		if s, _, _ := lsResidual(x, phi, p); s < bestS {
-			best, bestS = k, s
-		}
-	}
-	if math.IsInf(bestS, 1) {
+	case fitOverflow:
 		ls.Notes = []string{"the fit overflows float64 for every order in [0.05, 16]"}
 		return ls
-	}
-	if best == 0 || best == len(ps)-1 {
-		ls.Notes = []string{fmt.Sprintf("the residual has no minimum inside p in [%g, %g]: the order is undefined", pMin, pMax)}
-		ls.ResidualRMS = math.Sqrt(bestS / float64(len(x)))
+	case fitBelow, fitAbove:
+		ls.Notes = []string{fmt.Sprintf("the residual has no minimum inside p in [%g, %g]: the order is undefined", powerOrderMin, powerOrderMax)}
+		ls.ResidualRMS = math.Sqrt(f.s / float64(len(h)))
 		return ls
 	}
-	// Golden-section search on [ps[best-1], ps[best+1]].
-	a, b := ps[best-1], ps[best+1]
-	g := (math.Sqrt(5) - 1) / 2
-	c, d := b-g*(b-a), a+g*(b-a)
-	sc, _, _ := lsResidual(x, phi, c)
-	sd, _, _ := lsResidual(x, phi, d)
-	for i := 0; i < 100 && b-a > 1e-12*b; i++ {
-		if sc < sd {
-			b, d, sd = d, c, sc
-			c = b - g*(b-a)
-			sc, _, _ = lsResidual(x, phi, c)
-		} else {
-			a, c, sc = c, d, sd
-			d = a + g*(b-a)
-			sd, _, _ = lsResidual(x, phi, d)
-		}
-	}
-	p := 0.5 * (a + b)
-	s, phi0, alpha := lsResidual(x, phi, p)
-	ls.Order, ls.Extrapolated, ls.Alpha = num(p), num(phi0), num(alpha)
-	ls.ResidualRMS = math.Sqrt(s / float64(len(x)))
+	ls.Order, ls.Extrapolated, ls.Alpha = num(f.p), num(f.phi0), num(f.alpha)
+	ls.ResidualRMS = math.Sqrt(f.s / float64(len(h)))
 	for _, f := range []**float64{&ls.Order, &ls.Extrapolated, &ls.Alpha} {
 		if math.IsNaN(**f) || math.IsInf(**f, 0) {
 			*f = nil
@@ -507,23 +496,117 @@ func leastSquaresOrder(h, phi []float64) *LeastSquaresOrder {
 	return ls
 }
 
-// lsResidual returns the residual sum of squares of the linear least-squares
-// fit phi ≈ phi0 + alpha x^p, and phi0 and alpha; +Inf when it overflows.
-func lsResidual(x, phi []float64, p float64) (s, phi0, alpha float64) {
-	n := float64(len(x))
-	var zbar, fbar float64
-	z := make([]float64, len(x))
-	for i := range x {
-		z[i] = math.Pow(x[i], p)
-		zbar += z[i]
-		fbar += phi[i]
+// scaledSpacings returns x_i = h_i/h_0 for h sorted finest first.
+func scaledSpacings(h []float64) []float64 {
+	x := make([]float64, len(h))
+	for i := range h {
+		x[i] = h[i] / h[0]
 	}
-	zbar /= n
-	fbar /= n
+	return x
+}
+
+// Outcomes of powerFit.
+const (
+	fitOK       = iota
+	fitAllEqual // every value is the same: nothing to fit
+	fitOverflow // the residual overflows for every order
+	fitBelow    // the residual is smallest at the lowest order scanned
+	fitAbove    // the residual is smallest at the highest order scanned
+)
+
+// The orders powerFit scans.
+const powerOrderMin, powerOrderMax = 0.05, 16.0
+
+// powerResult is the least-squares fit phi ≈ phi0 + alpha x^p.
+type powerResult struct {
+	p, phi0, alpha float64
+	s              float64 // (weighted) residual sum of squares
+	status         int
+}
+
+// powerFit fits phi_i ≈ phi_0 + alpha x_i^p by minimising the residual sum
+// of squares S(p) = sum w_i r_i^2 (w nil: all weights 1), phi_0 and alpha
+// solved linearly for each p, over p in [powerOrderMin, powerOrderMax]: a
+// geometric scan, then a golden-section refinement of the best bracket.
+// When the smallest residual of the scan lies at either end, the status
+// says which and p is that end.
+func powerFit(x, phi, w []float64) powerResult {
+	const step = 1.02
+	allEqual := true
+	for _, v := range phi[1:] {
+		allEqual = allEqual && v == phi[0]
+	}
+	if allEqual {
+		return powerResult{phi0: phi[0], status: fitAllEqual}
+	}
+	best, bestS := -1, math.Inf(1)
+	var prevP, bestP, beforeBest float64
+	k := 0
+	for p := powerOrderMin; p <= powerOrderMax*1.0000001; p *= step {
+		if s, _, _ := lsResidual(x, phi, w, p); s < bestS {
+			best, bestS, bestP, beforeBest = k, s, p, prevP
+		}
+		prevP = p
+		k++
+	}
+	n := k
+	switch {
+	case math.IsInf(bestS, 1):
+		return powerResult{status: fitOverflow}
+	case best == 0 || best == n-1:
+		st := fitBelow
+		if best == n-1 {
+			st = fitAbove
+		}
+		_, phi0, alpha := lsResidual(x, phi, w, bestP)
+		return powerResult{p: bestP, phi0: phi0, alpha: alpha, s: bestS, status: st}
+	}
+	// Golden-section search on the scan points either side of the best.
+	a, b := beforeBest, bestP*step
+	g := (math.Sqrt(5) - 1) / 2
+	c, d := b-g*(b-a), a+g*(b-a)
+	sc, _, _ := lsResidual(x, phi, w, c)
+	sd, _, _ := lsResidual(x, phi, w, d)
+	for i := 0; i < 100 && b-a > 1e-12*b; i++ {
+		if sc < sd {
+			b, d, sd = d, c, sc
+			c = b - g*(b-a)
+			sc, _, _ = lsResidual(x, phi, w, c)
+		} else {
+			a, c, sc = c, d, sd
+			d = a + g*(b-a)
+			sd, _, _ = lsResidual(x, phi, w, d)
+		}
+	}
+	p := 0.5 * (a + b)
+	s, phi0, alpha := lsResidual(x, phi, w, p)
+	return powerResult{p: p, phi0: phi0, alpha: alpha, s: s, status: fitOK}
+}
+
+// lsResidual returns the residual sum of squares sum w_i r_i^2 of the
+// weighted linear least-squares fit phi ≈ phi0 + alpha x^p (w nil: all
+// weights 1), and phi0 and alpha; +Inf when it overflows.
+func lsResidual(x, phi, w []float64, p float64) (s, phi0, alpha float64) {
+	var buf [16]float64
+	z := buf[:0]
+	if len(x) > len(buf) {
+		z = make([]float64, 0, len(x))
+	}
+	var sw, zbar, fbar float64
+	for i := range x {
+		wi := weight(w, i)
+		z = append(z, math.Pow(x[i], p))
+		sw += wi
+		zbar += wi * z[i]
+		fbar += wi * phi[i]
+	}
+	zbar /= sw
+	fbar /= sw
 	var szz, szf float64
 	for i := range z {
-		szz += (z[i] - zbar) * (z[i] - zbar)
-		szf += (z[i] - zbar) * (phi[i] - fbar)
+		wi := weight(w, i)
+		szz += wi * (z[i] - zbar) * (z[i] - zbar)
+		szf += wi * (z[i] - zbar) * (phi[i] - fbar)
 	}
 	if !(szz > 0) || math.IsInf(szz, 0) {
 		return math.Inf(1), 0, 0
@@ -532,10 +615,18 @@ func lsResidual(x, phi []float64, p float64) (s, phi0, alpha float64) {
 	phi0 = fbar - alpha*zbar
 	for i := range z {
 		r := phi[i] - phi0 - alpha*z[i]
-		s += r * r
+		s += weight(w, i) * r * r
 	}
 	if math.IsNaN(s) {
 		return math.Inf(1), 0, 0
 	}
 	return s, phi0, alpha
+}
+
+// weight is w[i], or 1 when w is nil.
+func weight(w []float64, i int) float64 {
+	if w == nil {
+		return 1
+	}
+	return w[i]
 }

@@ -274,6 +274,19 @@ func FuzzGCI(f *testing.F) {
 					t.Fatalf("order %g not positive: %+v", *r.Order, r)
 				}
 			}
+			if n < 3 {
+				continue
+			}
+			u, err := LeastSquaresUncertainty(phi, h, UncertaintyOptions{})
+			if err != nil {
+				if !errors.Is(err, ErrGCIInput) {
+					t.Fatalf("error not ErrGCIInput: %v", err)
+				}
+				continue
+			}
+			if _, err := json.Marshal(u); err != nil || !(u.UncertaintyAbs >= 0) {
+				t.Fatalf("least squares not JSON-safe or U < 0: %v %+v", err, u)
+			}
 		}
 	})
 }

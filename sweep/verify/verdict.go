@@ -51,6 +51,9 @@ type OrderVerdict struct {
 	// PreAsymptotic is set when |Finest - Fitted| > Tol: the coarser grids
 	// are not yet in the asymptotic range (the status may still be pass).
 	PreAsymptotic bool `json:"pre_asymptotic"`
+	// Warnings says where the study is implausible: close grids, an order
+	// out of range, errors equal to round-off, too few grids.
+	Warnings []string `json:"warnings,omitempty"`
 }
 
 // Verdict compares the observed order of the study (h_i, e_i) with the design
@@ -99,14 +102,21 @@ func VerdictBand(h, e []float64, design, tol, tolHi float64) OrderVerdict {
 	v.Grids = len(hs)
 	if len(hs) < 2 {
 		v.Summary = fmt.Sprintf("%d usable grid(s) (positive finite h and error); need 2", len(hs))
+		v.Warnings = []string{"fewer than the two usable grids an order needs"}
 		return v
 	}
+	if len(hs) == 2 {
+		v.Warnings = []string{"two grids: fewer than the three needed to see whether the order has settled"}
+	}
+	v.Warnings = append(v.Warnings, ratioWarnings(hs, 1)...)
+	v.Warnings = append(v.Warnings, roundOffWarnings(es, 1)...)
 	fit, err := FitOrder(hs, es)
 	if err != nil {
 		v.Summary = err.Error()
 		return v
 	}
 	v.Finest = pairOrder(hs[0], hs[1], es[0], es[1])
+	v.Warnings = append(v.Warnings, orderWarnings(&v.Finest, design)...)
 	v.Fitted, v.FitSE = fit.Order, fit.OrderSE
 	v.PreAsymptotic = math.Abs(v.Finest-v.Fitted) > tol
 	off := v.Finest - design

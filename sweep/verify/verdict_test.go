@@ -3,6 +3,7 @@ package verify
 import (
 	"fmt"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -90,5 +91,31 @@ func TestVerdictBand(t *testing.T) {
 	e = []float64{1, 1.0 / math.Pow(2, 1.8), 1.0 / math.Pow(2, 3.6)}
 	if v := VerdictBand(h, e, 2, 0.15, 0.6); v.Status != StatusLow {
 		t.Errorf("order 1.8 in band [1.85, 2.6]: %s (%s)", v.Status, v.Summary)
+	}
+}
+
+// TestVerdictWarnings: close grids (Celik et al. 2008: ratio >= 1.3), an
+// order above twice the design order or negative, and two grids only are
+// said out loud; a clean study says nothing.
+func TestVerdictWarnings(t *testing.T) {
+	h := []float64{1.0 / 32, 1.0 / 64, 1.0 / 128}
+	cases := []struct {
+		name string
+		h, e []float64
+		want string
+	}{
+		{"clean second order", h, powerLaw(h, 3, 2), ""},
+		{"ratio 1.01", []float64{1.0 / 100, 1.0 / 101, 1.0 / 102}, powerLaw([]float64{1.0 / 100, 1.0 / 101, 1.0 / 102}, 3, 2), "below 1.3"},
+		{"order 5 of a second-order scheme", h, powerLaw(h, 3, 5), "twice the design order"},
+		{"diverging", h, powerLaw(h, 3, -0.5), "negative"},
+		{"two grids", h[:2], powerLaw(h[:2], 3, 2), "two grids"},
+		{"one grid", h[:1], powerLaw(h[:1], 3, 2), "fewer than"},
+	}
+	for _, c := range cases {
+		v := Verdict(c.h, c.e, 2, 0.15)
+		w := fmt.Sprint(v.Warnings)
+		if (c.want == "") != (len(v.Warnings) == 0) || !strings.Contains(w, c.want) {
+			t.Errorf("%s: warnings %s, want %q", c.name, w, c.want)
+		}
 	}
 }
