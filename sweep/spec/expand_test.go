@@ -261,3 +261,32 @@ func BenchmarkEach(b *testing.B) {
 	}
 	b.ReportMetric(100_000, "jobs/op")
 }
+
+// BenchmarkParse100k checks every run of a 100,000-run spec: Parse resolves
+// each run and estimates its cost.
+func BenchmarkParse100k(b *testing.B) {
+	for b.Loop() {
+		bench100k(b)
+	}
+	b.ReportMetric(100_000, "runs/op")
+}
+
+// BenchmarkParseVortex checks a spec of 3,000 vortex runs, whose cost
+// estimates sample the real case.
+func BenchmarkParseVortex(b *testing.B) {
+	src := []byte(`name = "bench"
+[[study]]
+case = "vortex"
+axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hllc", "hll", "rusanov"], cfl = [0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.85, 0.9, 0.95, 0.99], split = ["strang", "lie"], scheme = ["muscl", "godunov"] }
+refine = { nx = [16, 32, 64, 128, 256] }
+`)
+	for b.Loop() {
+		s, err := Parse("bench.toml", src, DefaultLimits())
+		if err != nil {
+			b.Fatal(err)
+		}
+		if n := s.Count(); n != 2400 {
+			b.Fatal(n)
+		}
+	}
+}
