@@ -82,6 +82,13 @@ type Problem struct {
 	// Errors are computed against exact cell averages of the conserved variables.
 	Exact func(x, y, t float64, w []float64)
 
+	// Breaks, if not nil, returns the lines x = xs[k] and y = ys[k] (any
+	// order) across which Exact(., ., t) or one of its derivatives jumps:
+	// shocks, contacts, fan edges. Exact must be smooth between them; the
+	// exact cell averages are then integrated piece by piece, to round-off
+	// (ExactAverages). The returned slices are not modified.
+	Breaks func(t float64) (xs, ys []float64)
+
 	// Source, if not nil, writes S(x, y, t) for each conserved variable into
 	// s: the right-hand side of U_t + F_x + G_y = S.
 	Source func(x, y, t float64, s []float64)

@@ -163,6 +163,7 @@ func (burgersRiemannCase) Setup(v Values) (*Problem, error) {
 	p := &Problem{Eq: Burgers, X0: 0, X1: 1, Y0: 0, Y1: 1,
 		BC: [4]Boundary{Transmissive, Transmissive, Transmissive, Transmissive}}
 	p.Exact = func(x, _, t float64, u []float64) { u[0] = burgersRiemann(ul, ur, x0, x, t) }
+	p.Breaks = func(t float64) (xs, ys []float64) { return burgersRiemannBreaks(ul, ur, x0, t), nil }
 	p.Initial = func(x, y float64, u []float64) { p.Exact(x, y, 0, u) }
 	p.Functionals = append(burgersFunctionals(), Functional{
 		Name: "front_x", Doc: "where u crosses (u_l + u_r)/2 on the middle row (the shock, or the fan's centre)",
@@ -193,6 +194,19 @@ func burgersRiemann(ul, ur, x0, x, t float64) float64 {
 		return ur
 	}
 	return xi
+}
+
+// burgersRiemannBreaks returns where burgersRiemann is not smooth at time t:
+// the shock x0 + t (u_l + u_r)/2, or the edges x0 + u_l t and x0 + u_r t of
+// the fan (u linear in x between them); x0 for t <= 0.
+func burgersRiemannBreaks(ul, ur, x0, t float64) []float64 {
+	switch {
+	case t <= 0:
+		return []float64{x0}
+	case ul > ur:
+		return []float64{x0 + 0.5*(ul+ur)*t}
+	}
+	return []float64{x0 + ul*t, x0 + ur*t}
 }
 
 // crossing returns the x where the conserved variable 0 on row j first

@@ -122,6 +122,12 @@ func (shocktubeCase) Setup(v Values) (*Problem, error) {
 			r, u, pr := sol.Sample((coord(x, y) - tube.x0) / t)
 			put(r, u, pr, w)
 		}
+		p.Breaks = func(t float64) (xs, ys []float64) {
+			if alongY {
+				return nil, sol.WavePositions(tube.x0, t)
+			}
+			return sol.WavePositions(tube.x0, t), nil
+		}
 	}
 	p.Functionals = []Functional{
 		EntropyFunctional(gamma),

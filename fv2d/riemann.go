@@ -255,6 +255,37 @@ func (s RiemannSolution) Star() (pstar, ustar, rhoStarL, rhoStarR float64) {
 	return s.PStar, s.UStar, s.RhoStarL, s.RhoStarR
 }
 
+// WavePositions returns, for the Riemann problem with its discontinuity at x0
+// at time 0, where its solution is not smooth at time t: x0 + S t for each
+// wave speed S, left to right: the head and tail of a rarefaction (Toro 2009
+// §4.5, eqs. 4.55 and 4.62, head S_H = u_K -+ a_K, tail S_T = u* -+ a*_K),
+// each shock once (eqs. 4.52 and 4.59) and the contact, u* (§4.4). Between
+// two positions the solution is constant or, inside a fan, smooth (eqs.
+// 4.56 and 4.63). For t <= 0 it returns x0 alone.
+func (s RiemannSolution) WavePositions(x0, t float64) []float64 {
+	if t <= 0 {
+		return []float64{x0}
+	}
+	var speeds []float64
+	if s.Left == Shock {
+		speeds = append(speeds, s.LeftHead)
+	} else {
+		speeds = append(speeds, s.LeftHead, s.LeftTail)
+	}
+	if !s.vacuum {
+		speeds = append(speeds, s.UStar)
+	}
+	if s.Right == Shock {
+		speeds = append(speeds, s.RightHead)
+	} else {
+		speeds = append(speeds, s.RightTail, s.RightHead)
+	}
+	for i, v := range speeds {
+		speeds[i] = x0 + v*t
+	}
+	return speeds
+}
+
 // Waves returns the kinds of the left and right waves.
 func (s RiemannSolution) Waves() (left, right WaveKind) { return s.Left, s.Right }
 

@@ -524,9 +524,11 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 }
 
 // ExactAverages returns a state with the layout of like holding the exact
-// cell averages of the conserved variables of p at time like.T, by the
-// tensor Gauss-Legendre rule with quad points per direction. p.Exact must
-// not be nil.
+// cell averages of the conserved variables of p at time like.T. Without
+// p.Breaks they are taken by the tensor Gauss-Legendre rule with quad points
+// per direction; with it each cell is cut at the breaks and each piece
+// integrated to round-off, whatever quad (splitAverages). p.Exact must not
+// be nil.
 func ExactAverages(p *Problem, like *State, quad, threads int) *State {
 	ex := &State{Eq: like.Eq, Gamma: like.Gamma, NX: like.NX, NY: like.NY, G: like.G,
 		X0: like.X0, Y0: like.Y0, DX: like.DX, DY: like.DY, T: like.T, U: make([][]float64, len(like.U))}
@@ -534,6 +536,12 @@ func ExactAverages(p *Problem, like *State, quad, threads int) *State {
 		ex.U[k] = make([]float64, len(like.U[k]))
 	}
 	t := like.T
-	cellAverages(ex, newCellRule(quad, like.DX, like.DY), threads, func(x, y float64, w []float64) { p.Exact(x, y, t, w) })
+	prim := func(x, y float64, w []float64) { p.Exact(x, y, t, w) }
+	if p.Breaks != nil {
+		xs, ys := p.Breaks(t)
+		splitAverages(ex, sortedBreaks(xs), sortedBreaks(ys), quad, threads, prim)
+		return ex
+	}
+	cellAverages(ex, newCellRule(quad, like.DX, like.DY), threads, prim)
 	return ex
 }
