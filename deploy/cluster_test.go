@@ -62,11 +62,19 @@ const (
 	workerSecret = "beef4567"
 )
 
+// nodeSecrets are the environment of the three nodes: one password per
+// role.
+var nodeSecrets = map[string]string{
+	"FVSWEEP_OPERATOR_TOKEN": coordSecret, "FVSWEEP_WORKER_TOKEN": workerSecret,
+	"FVSWEEP_SUBMIT_TOKEN": "5ubm17", "FVSWEEP_READ_TOKEN": "4ead89",
+}
+
 // startNodes runs the three configurations in this process.
 func startNodes(t testing.TB, confs [3]string) []*server.Server {
 	t.Helper()
-	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", coordSecret)
-	t.Setenv("FVSWEEP_WORKER_TOKEN", workerSecret)
+	for k, v := range nodeSecrets {
+		t.Setenv(k, v)
+	}
 	var srvs []*server.Server
 	for _, c := range confs {
 		o, err := server.ProcessConfigFile(c)
@@ -101,10 +109,12 @@ func waitMetaLeader(t testing.TB, nc *nats.Conn) {
 	}
 	deadline := time.Now().Add(30 * time.Second)
 	for {
+		// The operator may not ask for account information; a stream
+		// lookup answers (found or not) once there is a leader.
 		ctx, cancel := context.WithTimeout(context.Background(), time.Second)
-		_, err := js.AccountInfo(ctx)
+		_, err := js.Stream(ctx, wire.Names{}.JobStream())
 		cancel()
-		if err == nil {
+		if err == nil || errors.Is(err, jetstream.ErrStreamNotFound) {
 			return
 		}
 		if time.Now().After(deadline) {
@@ -123,9 +133,9 @@ func urls(nodes [3]Node) string {
 
 // TestClusterConfigRunsASweep runs the deployed node configurations (ports
 // and directories moved to loopback) as three servers, creates the streams
-// with three replicas as the coordinator user, runs a worker as the worker
-// user, and checks that the sweep completes and that the worker user is
-// refused what it must not do.
+// with three replicas as the operator user, runs a worker as the worker
+// user, and checks that the sweep completes without a permissions
+// violation and that the worker user is refused what it must not do.
 func TestClusterConfigRunsASweep(t *testing.T) {
 	dir := t.TempDir()
 	nodes, confs := loopbackNodes(t, dir)
@@ -139,7 +149,8 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 			t.Errorf("%s connection: %v", who, err)
 		})
 	}
-	cnc, err := nats.Connect(url, nats.UserInfo("coordinator", coordSecret), denied("coordinator"))
+	cnc, err := nats.Connect(url, nats.UserInfo("operator", coordSecret), denied("operator"),
+		nats.CustomInboxPrefix(wire.Names{}.Inbox(wire.RoleOperator)))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -166,7 +177,8 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 		}
 	}()
 
-	wnc, err := nats.Connect(url, nats.UserInfo("worker", workerSecret), denied("worker"))
+	wnc, err := nats.Connect(url, nats.UserInfo("worker", workerSecret), denied("worker"),
+		nats.CustomInboxPrefix(wire.Names{}.Inbox(wire.RoleWorker)))
 	if err != nil {
 		t.Fatal(err)
 	}
