@@ -151,18 +151,19 @@ func maxDeliveriesSubject(n wire.Names) string {
 	return fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", n.JobStream(), n.WorkerConsumer())
 }
 
+// secretNames are, per role, the environment variable a cluster node
+// (deploy/nats) reads the role's password from and serve's flag for it.
+var secretNames = map[wire.Role]struct{ env, flag string }{
+	wire.RoleOperator:  {"FVSWEEP_OPERATOR_TOKEN", "token"},
+	wire.RoleSubmitter: {"FVSWEEP_SUBMIT_TOKEN", "submit-token"},
+	wire.RoleReader:    {"FVSWEEP_READ_TOKEN", "read-token"},
+	wire.RoleWorker:    {"FVSWEEP_WORKER_TOKEN", "worker-token"},
+}
+
 // SecretEnv is the environment variable a cluster node (deploy/nats) reads
 // the password of role r's user from; serve reads the submitter's, the
 // reader's and the workers' secrets from the same variables.
-func SecretEnv(r wire.Role) string {
-	switch r {
-	case wire.RoleSubmitter:
-		return "FVSWEEP_SUBMIT_TOKEN"
-	case wire.RoleReader:
-		return "FVSWEEP_READ_TOKEN"
-	}
-	return "FVSWEEP_" + strings.ToUpper(string(r)) + "_TOKEN"
-}
+func SecretEnv(r wire.Role) string { return secretNames[r].env }
 
 // CommonConf is the users-and-rights part of deploy/nats/common.conf for
 // the names n: one permissions block per role and one user per role, named
@@ -228,7 +229,7 @@ func (a Access) check() error {
 	var given []string
 	for _, r := range wire.Roles[1:] {
 		if a.secret(r) != "" && a.Token == "" {
-			return fmt.Errorf("--%s needs --token: the operator's own secret", roleFlag(r))
+			return fmt.Errorf("--%s needs --token: the operator's own secret", secretNames[r].flag)
 		}
 	}
 	for _, r := range wire.Roles {
@@ -242,19 +243,6 @@ func (a Access) check() error {
 		given = append(given, s)
 	}
 	return nil
-}
-
-// roleFlag is the serve flag of role r's secret.
-func roleFlag(r wire.Role) string {
-	switch r {
-	case wire.RoleSubmitter:
-		return "submit-token"
-	case wire.RoleReader:
-		return "read-token"
-	case wire.RoleWorker:
-		return "worker-token"
-	}
-	return "token"
 }
 
 // tokenAuth checks a connecting client's token (or user and password)
