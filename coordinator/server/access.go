@@ -112,6 +112,9 @@ func readRights(n wire.Names) []string {
 		"$JS.API.STREAM.INFO."+obj,
 		"$JS.API.DIRECT.GET."+obj+"."+o+".M.>",
 		"$JS.API.CONSUMER.CREATE."+obj+".*."+o+".C.>",
+		// The read deletes its consumer at the end; the snapshot store
+		// has no consumers but those of reads.
+		"$JS.API.CONSUMER.DELETE."+obj+".*",
 		"$JS.FC."+obj+".>",
 	)
 }
