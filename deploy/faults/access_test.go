@@ -60,11 +60,12 @@ func TestWorkerCredentials(t *testing.T) {
 	}
 	r.env = []string{"FVSWEEP_TOKEN=crew-19c2"}
 	out, errs, code := r.cli("submit", spec, "--nats", url, "--data", r.data)
-	if code == 0 || !strings.Contains(errs, "permissions violation") || !strings.Contains(errs, `"fvsweep.api.submit"`) {
+	// The worker may not even ask whether a coordinator answers.
+	if code == 0 || !strings.Contains(errs, "permissions violation") || !strings.Contains(errs, `"fvsweep.api.ping"`) {
 		t.Fatalf("submit with the worker token: exit %d, want a permissions violation:\n%s%s", code, out, errs)
 	}
 	out, errs, code = r.cli("cancel", name, "--nats", url, "--data", r.data)
-	if code == 0 || !strings.Contains(errs, `"fvsweep.api.cancel"`) {
+	if code == 0 || !strings.Contains(errs, "permissions violation") {
 		t.Errorf("cancel with the worker token: exit %d, want a permissions violation:\n%s%s", code, out, errs)
 	}
 	out, errs, code = r.cli("status", "--nats", url, "--data", r.data)
