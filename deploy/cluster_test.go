@@ -12,7 +12,6 @@ import (
 
 	"github.com/nats-io/nats-server/v2/server"
 	"github.com/nats-io/nats.go"
-	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
@@ -99,30 +98,6 @@ func startNodes(t testing.TB, confs [3]string) []*server.Server {
 	return srvs
 }
 
-// waitMetaLeader waits until the cluster answers JetStream requests (it
-// elects a metadata leader first; a request before that is not answered).
-func waitMetaLeader(t testing.TB, nc *nats.Conn) {
-	t.Helper()
-	js, err := jetstream.New(nc)
-	if err != nil {
-		t.Fatal(err)
-	}
-	deadline := time.Now().Add(30 * time.Second)
-	for {
-		// The operator may not ask for account information; a stream
-		// lookup answers (found or not) once there is a leader.
-		ctx, cancel := context.WithTimeout(context.Background(), time.Second)
-		_, err := js.Stream(ctx, wire.Names{}.JobStream())
-		cancel()
-		if err == nil || errors.Is(err, jetstream.ErrStreamNotFound) {
-			return
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("no JetStream cluster after 30 s: %v", err)
-		}
-	}
-}
-
 func urls(nodes [3]Node) string {
 	var u []string
 	for _, n := range nodes {
@@ -162,7 +137,9 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 	defer db.Close()
 	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
 	defer cancel()
-	waitMetaLeader(t, cnc)
+	if err := WaitJetStream(cnc, 30*time.Second); err != nil {
+		t.Fatal(err)
+	}
 	coord, err := coordinator.New(ctx, cnc, db, coordinator.Config{Delivery: coordinator.Delivery{Replicas: 3, AckWait: 2 * time.Second}})
 	if err != nil {
 		t.Fatal(err)

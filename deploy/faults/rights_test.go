@@ -2,16 +2,14 @@ package faults
 
 import (
 	"context"
-	"errors"
 	"strings"
 	"testing"
 	"time"
 
-	"github.com/nats-io/nats.go/jetstream"
-
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/server"
 	"fvsweep/coordinator/server/probe"
+	"fvsweep/deploy"
 	"fvsweep/sweep/wire"
 )
 
@@ -37,7 +35,16 @@ func TestRightsMatrixCluster(t *testing.T) {
 	if len(secrets) != len(wire.Roles) {
 		t.Fatalf("clusterEnv has secrets for %d roles, want %d", len(secrets), len(wire.Roles))
 	}
-	waitLeader(t, url, secrets[wire.RoleOperator])
+	o := secrets[wire.RoleOperator]
+	o.URL, o.Role, o.Name = url, wire.RoleOperator, "leader wait"
+	nc, err := client.Dial(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer nc.Close()
+	if err := deploy.WaitJetStream(nc, 30*time.Second); err != nil {
+		t.Fatal(err)
+	}
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
 	m, err := probe.Run(ctx, probe.Target{URL: url, Secrets: secrets, Timeout: 5 * time.Second})
@@ -47,30 +54,5 @@ func TestRightsMatrixCluster(t *testing.T) {
 	t.Logf("rights matrix on the deploy/nats cluster:\n%s", m.Markdown())
 	for _, c := range m.Unexpected() {
 		t.Errorf("%s as %s: %s, want %s (%s)", c.Action, c.Role, c.Got, c.Want, c.Detail)
-	}
-}
-
-// waitLeader waits until the cluster answers JetStream requests of the
-// operator (it elects a metadata leader first).
-func waitLeader(t *testing.T, url string, o client.DialOptions) {
-	t.Helper()
-	o.URL, o.Role, o.Name = url, wire.RoleOperator, "leader wait"
-	nc, err := client.Dial(o)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer nc.Close()
-	js, _ := jetstream.New(nc)
-	deadline := time.Now().Add(30 * time.Second)
-	for {
-		ctx, cancel := context.WithTimeout(context.Background(), time.Second)
-		_, err := js.Stream(ctx, wire.Names{}.JobStream())
-		cancel()
-		if err == nil || errors.Is(err, jetstream.ErrStreamNotFound) {
-			return
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("no JetStream leader after 30 s: %v", err)
-		}
 	}
 }
