@@ -112,6 +112,21 @@ func Rows(db *store.DB, name string, running map[string]string) ([]wire.Row, err
 	return out, nil
 }
 
+// inboxOnly serves a request with h only when its reply subject is an
+// inbox (wire.IsInbox). The coordinator may publish on its streams' and
+// the JetStream API's subjects; a reply subject such as
+// "$JS.API.STREAM.DELETE.FVSWEEP_JOBS" would otherwise make it do, for a
+// reader, what the reader may not.
+func (c *Coordinator) inboxOnly(h nats.MsgHandler) nats.MsgHandler {
+	return func(m *nats.Msg) {
+		if !wire.IsInbox(m.Reply) {
+			c.log.Warn("request whose reply subject is not an inbox; not answered", "subject", m.Subject, "reply", m.Reply)
+			return
+		}
+		h(m)
+	}
+}
+
 // reply sends v as the JSON answer to a request.
 func (c *Coordinator) reply(m *nats.Msg, v any) {
 	data, err := json.Marshal(v)

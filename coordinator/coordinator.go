@@ -161,11 +161,11 @@ func (c *Coordinator) Run(ctx context.Context) error {
 	}{
 		{c.cfg.Names.WorkerFilter(), c.onReport},
 		{adv, func(m *nats.Msg) { c.onMaxDeliveries(ctx, m) }},
-		{c.cfg.Names.API(wire.VerbPing), func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) }},
-		{c.cfg.Names.API(wire.VerbStatus), c.onStatus},
-		{c.cfg.Names.API(wire.VerbRows), c.onRows},
-		{c.cfg.Names.API(wire.VerbSubmit), func(m *nats.Msg) { c.onSubmit(ctx, m) }},
-		{c.cfg.Names.API(wire.VerbCancel), func(m *nats.Msg) { c.onCancel(ctx, m) }},
+		{c.cfg.Names.API(wire.VerbPing), c.inboxOnly(func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) })},
+		{c.cfg.Names.API(wire.VerbStatus), c.inboxOnly(c.onStatus)},
+		{c.cfg.Names.API(wire.VerbRows), c.inboxOnly(c.onRows)},
+		{c.cfg.Names.API(wire.VerbSubmit), c.inboxOnly(func(m *nats.Msg) { c.onSubmit(ctx, m) })},
+		{c.cfg.Names.API(wire.VerbCancel), c.inboxOnly(func(m *nats.Msg) { c.onCancel(ctx, m) })},
 	} {
 		if err := sub(s.subject, s.h); err != nil {
 			cc.Stop()

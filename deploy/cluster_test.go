@@ -12,7 +12,6 @@ import (
 
 	"github.com/nats-io/nats-server/v2/server"
 	"github.com/nats-io/nats.go"
-	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/coordinator"
 	"fvsweep/store"
@@ -62,11 +61,19 @@ const (
 	workerSecret = "beef4567"
 )
 
+// nodeSecrets are the environment of the three nodes: one password per
+// role.
+var nodeSecrets = map[string]string{
+	"FVSWEEP_OPERATOR_TOKEN": coordSecret, "FVSWEEP_WORKER_TOKEN": workerSecret,
+	"FVSWEEP_SUBMIT_TOKEN": "5ubm17", "FVSWEEP_READ_TOKEN": "4ead89",
+}
+
 // startNodes runs the three configurations in this process.
 func startNodes(t testing.TB, confs [3]string) []*server.Server {
 	t.Helper()
-	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", coordSecret)
-	t.Setenv("FVSWEEP_WORKER_TOKEN", workerSecret)
+	for k, v := range nodeSecrets {
+		t.Setenv(k, v)
+	}
 	var srvs []*server.Server
 	for _, c := range confs {
 		o, err := server.ProcessConfigFile(c)
@@ -91,28 +98,6 @@ func startNodes(t testing.TB, confs [3]string) []*server.Server {
 	return srvs
 }
 
-// waitMetaLeader waits until the cluster answers JetStream requests (it
-// elects a metadata leader first; a request before that is not answered).
-func waitMetaLeader(t testing.TB, nc *nats.Conn) {
-	t.Helper()
-	js, err := jetstream.New(nc)
-	if err != nil {
-		t.Fatal(err)
-	}
-	deadline := time.Now().Add(30 * time.Second)
-	for {
-		ctx, cancel := context.WithTimeout(context.Background(), time.Second)
-		_, err := js.AccountInfo(ctx)
-		cancel()
-		if err == nil {
-			return
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("no JetStream cluster after 30 s: %v", err)
-		}
-	}
-}
-
 func urls(nodes [3]Node) string {
 	var u []string
 	for _, n := range nodes {
@@ -123,9 +108,9 @@ func urls(nodes [3]Node) string {
 
 // TestClusterConfigRunsASweep runs the deployed node configurations (ports
 // and directories moved to loopback) as three servers, creates the streams
-// with three replicas as the coordinator user, runs a worker as the worker
-// user, and checks that the sweep completes and that the worker user is
-// refused what it must not do.
+// with three replicas as the operator user, runs a worker as the worker
+// user, and checks that the sweep completes without a permissions
+// violation and that the worker user is refused what it must not do.
 func TestClusterConfigRunsASweep(t *testing.T) {
 	dir := t.TempDir()
 	nodes, confs := loopbackNodes(t, dir)
@@ -139,7 +124,8 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 			t.Errorf("%s connection: %v", who, err)
 		})
 	}
-	cnc, err := nats.Connect(url, nats.UserInfo("coordinator", coordSecret), denied("coordinator"))
+	cnc, err := nats.Connect(url, nats.UserInfo("operator", coordSecret), denied("operator"),
+		nats.CustomInboxPrefix(wire.Names{}.Inbox(wire.RoleOperator)))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,7 +137,9 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 	defer db.Close()
 	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
 	defer cancel()
-	waitMetaLeader(t, cnc)
+	if err := WaitJetStream(cnc, 30*time.Second); err != nil {
+		t.Fatal(err)
+	}
 	coord, err := coordinator.New(ctx, cnc, db, coordinator.Config{Delivery: coordinator.Delivery{Replicas: 3, AckWait: 2 * time.Second}})
 	if err != nil {
 		t.Fatal(err)
@@ -166,7 +154,8 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 		}
 	}()
 
-	wnc, err := nats.Connect(url, nats.UserInfo("worker", workerSecret), denied("worker"))
+	wnc, err := nats.Connect(url, nats.UserInfo("worker", workerSecret), denied("worker"),
+		nats.CustomInboxPrefix(wire.Names{}.Inbox(wire.RoleWorker)))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -2,6 +2,7 @@ package deploy
 
 import (
 	"fmt"
+	"os"
 	"slices"
 	"strings"
 	"testing"
@@ -20,7 +21,9 @@ func loadNode(t *testing.T, i int) *server.Options {
 }
 
 func setSecrets(t *testing.T) {
-	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", "c0ffee01")
+	t.Setenv("FVSWEEP_OPERATOR_TOKEN", "c0ffee01")
+	t.Setenv("FVSWEEP_SUBMIT_TOKEN", "5ub0123")
+	t.Setenv("FVSWEEP_READ_TOKEN", "4ead45")
 	t.Setenv("FVSWEEP_WORKER_TOKEN", "deadbeef02")
 }
 
@@ -59,9 +62,12 @@ func TestNodeConfigsFormOneCluster(t *testing.T) {
 // TestNodeConfigRefusesMissingSecrets: without the token variables the
 // server does not start (the configuration does not parse).
 func TestNodeConfigRefusesMissingSecrets(t *testing.T) {
-	t.Setenv("FVSWEEP_COORDINATOR_TOKEN", "c0ffee01")
-	_, err := server.ProcessConfigFile("nats/node-1.conf")
-	if err == nil || !strings.Contains(err.Error(), "FVSWEEP_WORKER_TOKEN") {
-		t.Fatalf("no FVSWEEP_WORKER_TOKEN: err %v, want one naming the variable", err)
+	for _, missing := range []string{"FVSWEEP_OPERATOR_TOKEN", "FVSWEEP_SUBMIT_TOKEN", "FVSWEEP_READ_TOKEN", "FVSWEEP_WORKER_TOKEN"} {
+		setSecrets(t)
+		os.Unsetenv(missing)
+		_, err := server.ProcessConfigFile("nats/node-1.conf")
+		if err == nil || !strings.Contains(err.Error(), missing) {
+			t.Errorf("no %s: err %v, want one naming the variable", missing, err)
+		}
 	}
 }

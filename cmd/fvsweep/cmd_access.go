@@ -15,15 +15,25 @@ import (
 // serverFlags are the flags of the commands that run a coordinator (serve
 // and run): who may use its embedded server and how its streams are made.
 type serverFlags struct {
-	workerToken string
-	replicas    int
-	ackWait     time.Duration
-	maxDeliver  int
+	workerToken, submitToken, readToken string
+	replicas                            int
+	ackWait                             time.Duration
+	maxDeliver                          int
 }
 
-const serverUsage = `  --worker-token T   with the embedded server: a second secret for workers, which
-                     may pull jobs and send results but not submit or cancel
-                     (default $FVSWEEP_WORKER_TOKEN)
+const serverUsage = `  --worker-token-file FILE
+                     with the embedded server: the workers' secret, which may pull
+                     jobs and send outcomes, snapshots and reports, nothing else
+                     (default $FVSWEEP_WORKER_TOKEN_FILE, else $FVSWEEP_WORKER_TOKEN)
+  --submit-token-file FILE
+                     the submitters' secret: submit, cancel, forget and read
+                     (default $FVSWEEP_SUBMIT_TOKEN_FILE, else $FVSWEEP_SUBMIT_TOKEN)
+  --read-token-file FILE
+                     the readers' secret: status, table, export, report, plots and
+                     the status page (default $FVSWEEP_READ_TOKEN_FILE, else
+                     $FVSWEEP_READ_TOKEN). Each role's secret needs --token and
+                     differs from the others; --worker-token T, --submit-token T and
+                     --read-token T work too, with a warning
   --tls-cert FILE, --tls-key FILE
                      with the embedded server: serve clients over TLS; --tls-ca
                      FILE then requires client certificates signed by that CA
@@ -46,7 +56,9 @@ func (f *serverFlags) register(fs *flag.FlagSet) {
 	if r, err := strconv.Atoi(os.Getenv("FVSWEEP_REPLICAS")); err == nil {
 		replicas = r
 	}
-	fs.StringVar(&f.workerToken, "worker-token", os.Getenv("FVSWEEP_WORKER_TOKEN"), "")
+	registerSecret(fs, &f.workerToken, "worker-token", server.SecretEnv(wire.RoleWorker))
+	registerSecret(fs, &f.submitToken, "submit-token", server.SecretEnv(wire.RoleSubmitter))
+	registerSecret(fs, &f.readToken, "read-token", server.SecretEnv(wire.RoleReader))
 	fs.IntVar(&f.replicas, "replicas", replicas, "")
 	fs.DurationVar(&f.ackWait, "ack-wait", 30*time.Second, "")
 	fs.IntVar(&f.maxDeliver, "max-deliver", 3, "")
@@ -71,5 +83,6 @@ func (f *serverFlags) delivery() coordinator.Delivery {
 
 // access is who may use the embedded server.
 func (f *serverFlags) access(c *common) server.Access {
-	return server.Access{Token: c.token, WorkerToken: f.workerToken, Names: wire.Names{}}
+	return server.Access{Token: c.token, WorkerToken: f.workerToken, SubmitToken: f.submitToken,
+		ReadToken: f.readToken, Names: wire.Names{}}
 }

@@ -6,6 +6,7 @@ import (
 	"fmt"
 
 	"fvsweep/coordinator/datadir"
+	"fvsweep/sweep/wire"
 )
 
 const cancelUsage = `usage: fvsweep cancel SWEEP
@@ -29,7 +30,7 @@ func runCancel(args []string) int {
 		return code
 	}
 	name := pos[0]
-	rep, live, err := datadir.Cancel(context.Background(), c.dir(), c.clientOptions(), name)
+	rep, live, err := datadir.Cancel(context.Background(), c.dir(), c.clientOptions(wire.RoleSubmitter), name)
 	if err != nil {
 		return fail("cancel: %v", err)
 	}

@@ -21,6 +21,7 @@ import (
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/datadir"
 	"fvsweep/sweep/spec"
+	"fvsweep/sweep/wire"
 )
 
 // common holds the flags every pipeline command takes.
@@ -48,7 +49,7 @@ func (c *common) register(fs *flag.FlagSet) {
 	}
 	fs.StringVar(&c.data, "data", data, "")
 	fs.StringVar(&c.nats, "nats", os.Getenv("FVSWEEP_NATS"), "")
-	fs.StringVar(&c.token, "token", os.Getenv("FVSWEEP_TOKEN"), "")
+	registerSecret(fs, &c.token, "token", "FVSWEEP_TOKEN")
 	fs.StringVar(&c.user, "user", os.Getenv("FVSWEEP_USER"), "")
 	fs.StringVar(&c.creds, "creds", os.Getenv("FVSWEEP_CREDS"), "")
 	fs.StringVar(&c.nkey, "nkey", os.Getenv("FVSWEEP_NKEY"), "")
@@ -62,11 +63,13 @@ func (c *common) register(fs *flag.FlagSet) {
 const commonUsage = `  --data DIR         data directory: store, embedded NATS files, coordinator.url
                      (default $FVSWEEP_DATA or ./fvsweep-data)
   --nats URL         NATS server or cluster URL(s) (default $FVSWEEP_NATS)
-  --token T          secret for the NATS server (default $FVSWEEP_TOKEN), or with
-                     --user that user's password; for serve and run the secret of
-                     the embedded server, required to --listen beyond loopback
-  --user NAME        NATS user, e.g. worker or coordinator on a cluster set up
-                     from deploy/nats (default $FVSWEEP_USER)
+  --token-file FILE  file whose first line is the secret for the NATS server
+                     (default $FVSWEEP_TOKEN_FILE, else $FVSWEEP_TOKEN), or with
+                     --user that user's password; for serve and run the operator's
+                     secret of the embedded server, required to --listen beyond
+                     loopback. --token T works too, with a warning: ps shows it
+  --user NAME        NATS user: the role, operator, submitter, reader or worker,
+                     on a cluster set up from deploy/nats (default $FVSWEEP_USER)
   --creds FILE       NATS credentials file (default $FVSWEEP_CREDS)
   --nkey FILE        file with an nkey seed (default $FVSWEEP_NKEY)
   --tls-ca FILE      CA that signed the server's certificate (default $FVSWEEP_TLS_CA)
@@ -85,16 +88,16 @@ func (c *common) logger(name string) (hclog.Logger, error) {
 	return hclog.New(&hclog.LoggerOptions{Name: name, Level: level, JSONFormat: c.logJSON, Output: os.Stderr}), nil
 }
 
-// dialOptions are the connection settings from the flags; credentials and
-// TLS settings join them here.
-func (c *common) dialOptions(url, name string) client.DialOptions {
-	return client.DialOptions{URL: url, Name: name, Token: c.token, User: c.user,
+// dialOptions are the connection settings from the flags of a connection
+// acting for role; credentials and TLS settings join them here.
+func (c *common) dialOptions(url, name string, role wire.Role) client.DialOptions {
+	return client.DialOptions{URL: url, Name: name, Role: role, Token: c.token, User: c.user,
 		CredsFile: c.creds, NKeyFile: c.nkey, TLS: c.tls}
 }
 
-// dial connects to the NATS server at url.
-func (c *common) dial(url, name string) (*nats.Conn, error) {
-	return client.Dial(c.dialOptions(url, name))
+// dial connects to the NATS server at url, acting for role.
+func (c *common) dial(url, name string, role wire.Role) (*nats.Conn, error) {
+	return client.Dial(c.dialOptions(url, name, role))
 }
 
 // dir is the data directory, --data.
@@ -105,19 +108,21 @@ func (c *common) dir() datadir.Dir { return datadir.Dir(c.data) }
 func (c *common) coordinatorURL() string { return c.dir().CoordinatorURL(c.nats) }
 
 // clientOptions are the connection settings of a command that asks the
-// running coordinator.
-func (c *common) clientOptions() client.DialOptions { return c.dialOptions(c.nats, "fvsweep client") }
+// running coordinator, acting for role (reader or submitter).
+func (c *common) clientOptions(role wire.Role) client.DialOptions {
+	return c.dialOptions(c.nats, "fvsweep client", role)
+}
 
 // open finds the data: the coordinator when one answers, otherwise the
 // store in --data, read-only (see datadir.Open).
-func (c *common) open(ctx context.Context) (*datadir.Source, error) {
-	return datadir.Open(ctx, c.dir(), c.clientOptions())
+func (c *common) open(ctx context.Context, role wire.Role) (*datadir.Source, error) {
+	return datadir.Open(ctx, c.dir(), c.clientOptions(role))
 }
 
 // openSweep reads sweep name from the coordinator or the store, for
 // table, export, plot and report.
 func openSweep(c *common, name string) (*sweepData, error) {
-	sw, err := datadir.ReadSweep(context.Background(), c.dir(), c.clientOptions(), name)
+	sw, err := datadir.ReadSweep(context.Background(), c.dir(), c.clientOptions(wire.RoleReader), name)
 	if err != nil {
 		return nil, err
 	}
@@ -140,10 +145,11 @@ func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
 			return nil, err
 		}
 		if fs.NArg() == 0 {
-			return pos, nil
+			break
 		}
 		pos, args = append(pos, fs.Arg(0)), fs.Args()[1:]
 	}
+	return pos, resolveSecrets(fs)
 }
 
 // usageErr reports a bad command line: exit code 2.

@@ -12,8 +12,9 @@ const nodeUsage = `usage: fvsweep node --config FILE
 Runs one NATS server (with JetStream) from a NATS configuration file, for a
 cluster of three such nodes: deploy/nats/node-1.conf, node-2.conf and
 node-3.conf are ready-made ones. The secrets the configuration refers to
-come from the environment (FVSWEEP_COORDINATOR_TOKEN, FVSWEEP_WORKER_TOKEN
-for deploy/nats; the server refuses to start without them), and with
+come from the environment (FVSWEEP_OPERATOR_TOKEN, FVSWEEP_SUBMIT_TOKEN,
+FVSWEEP_READ_TOKEN, FVSWEEP_WORKER_TOKEN for deploy/nats; the server
+refuses to start without them), and with
 FVSWEEP_ROUTE_TOKEN set the routes between the nodes authenticate with it.
 A node that serves clients beyond loopback must have users or tokens
 configured. SIGINT or SIGTERM stops it.

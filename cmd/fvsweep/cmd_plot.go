@@ -275,5 +275,5 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 // running coordinator (or --nats), else from the embedded server's files
 // in --data, opened just for this.
 func fetchSnapshot(c *common, ref string) ([]byte, error) {
-	return datadir.Snapshot(context.Background(), c.dir(), c.dialOptions(c.nats, "fvsweep plot"), ref)
+	return datadir.Snapshot(context.Background(), c.dir(), c.dialOptions(c.nats, "fvsweep plot", wire.RoleReader), ref)
 }

@@ -117,7 +117,7 @@ func runRun(args []string) int {
 	defer stopWorkers()
 	var wg sync.WaitGroup
 	for i := 0; i < *nw; i++ {
-		nc, err := s.dial(&c, "fvsweep run worker")
+		nc, err := s.dial(&c, "fvsweep run worker", wire.RoleWorker)
 		if err != nil {
 			return fail("run: %v", err)
 		}

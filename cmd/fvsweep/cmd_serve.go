@@ -17,6 +17,7 @@ import (
 	"fvsweep/coordinator/web"
 	"fvsweep/store"
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL] [--http HOST:PORT]
@@ -48,6 +49,9 @@ type service struct {
 	url   string // client URL
 	log   hclog.Logger
 	web   *web.Server // the status page, if --http
+	// readToken is the readers' secret of the embedded server, which the
+	// status page takes when it has no --http-token.
+	readToken string
 
 	dir  datadir.Dir
 	stop context.CancelFunc
@@ -67,8 +71,8 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	if err != nil {
 		return nil, err
 	}
-	s := &service{db: db, log: log, dir: c.dir()}
-	o := c.dialOptions(c.nats, "fvsweep coordinator")
+	s := &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
+	o := c.dialOptions(c.nats, "fvsweep coordinator", wire.RoleOperator)
 	if c.nats == "" {
 		s.srv, err = server.Start(server.Options{Dir: c.dir().NATS(), Listen: listen, Log: log,
 			Access: sf.access(c), TLS: c.tls})
@@ -111,8 +115,8 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 }
 
 // dial connects a local client (a worker of run) to the service's server.
-func (s *service) dial(c *common, name string) (*nats.Conn, error) {
-	o := c.dialOptions(s.url, name)
+func (s *service) dial(c *common, name string, role wire.Role) (*nats.Conn, error) {
+	o := c.dialOptions(s.url, name, role)
 	if s.srv != nil {
 		o.InProcess, o.TLS = s.srv, client.TLSFiles{}
 	}

@@ -86,7 +86,7 @@ func runStatus(args []string) int {
 // storeStatus asks the running coordinator over NATS, or reads the store
 // (live false).
 func storeStatus(c *common, name string) (rep wire.StatusReply, live bool, err error) {
-	src, err := c.open(context.Background())
+	src, err := c.open(context.Background(), wire.RoleReader)
 	if err != nil {
 		return rep, false, err
 	}

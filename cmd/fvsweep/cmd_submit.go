@@ -41,7 +41,7 @@ func runSubmit(args []string) int {
 	if err != nil {
 		return fail("submit: %v", err)
 	}
-	src, err := c.open(context.Background())
+	src, err := c.open(context.Background(), wire.RoleSubmitter)
 	if err != nil {
 		return fail("submit: %v", err)
 	}

@@ -28,15 +28,16 @@ type webFlags struct {
 const webUsage = `  --http HOST:PORT   serve the live status page and its JSON API there while
                      the coordinator runs (off by default; e.g. 127.0.0.1:8080);
                      an address other than loopback needs a token
-  --http-token T     token the page and the API ask for: send "Authorization:
+  --http-token-file FILE
+                     token the page and the API ask for: send "Authorization:
                      Bearer T", or open http://HOST:PORT/?token=T once in a
-                     browser, which sets a cookie (default $FVSWEEP_HTTP_TOKEN,
-                     else --token)
+                     browser, which sets a cookie (default $FVSWEEP_HTTP_TOKEN_FILE,
+                     $FVSWEEP_HTTP_TOKEN, else the readers' secret, else --token)
 `
 
 func (f *webFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&f.addr, "http", os.Getenv("FVSWEEP_HTTP"), "")
-	fs.StringVar(&f.token, "http-token", os.Getenv("FVSWEEP_HTTP_TOKEN"), "")
+	registerSecret(fs, &f.token, "http-token", "FVSWEEP_HTTP_TOKEN")
 }
 
 // tokenFor is --http-token, else the NATS --token.
@@ -65,7 +66,13 @@ func (f *webFlags) start(s *service, c *common, log hclog.Logger) error {
 	if f.addr == "" {
 		return nil
 	}
-	tok := f.tokenFor(c)
+	tok := f.token
+	if tok == "" {
+		tok = s.readToken
+	}
+	if tok == "" {
+		tok = c.token
+	}
 	w, err := web.Serve(s.coord, web.Options{Addr: f.addr, Token: tok, Log: log.Named("http")})
 	if err != nil {
 		return fmt.Errorf("--http: %w", err)

@@ -6,6 +6,7 @@ import (
 	"runtime"
 	"time"
 
+	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
@@ -46,7 +47,7 @@ func runWorker(args []string) int {
 	if url == "" {
 		return usageErr("worker", "no NATS URL: give --nats URL or set FVSWEEP_NATS")
 	}
-	nc, err := c.dial(url, "fvsweep worker")
+	nc, err := c.dial(url, "fvsweep worker", wire.RoleWorker)
 	if err != nil {
 		return fail("worker: %v", err)
 	}

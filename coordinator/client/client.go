@@ -201,5 +201,5 @@ func deniedSince(nc *nats.Conn, before error, subject string) error {
 	if err == nil || err == before || !errors.Is(err, nats.ErrPermissionViolation) || !strings.Contains(err.Error(), `"`+subject+`"`) {
 		return nil
 	}
-	return fmt.Errorf("not allowed with these credentials (a worker token cannot submit or cancel): %w", err)
+	return fmt.Errorf("not allowed with these credentials (a role may do only its own requests: see docs/access.md): %w", err)
 }

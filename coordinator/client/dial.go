@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"github.com/nats-io/nats.go"
+
+	"fvsweep/sweep/wire"
 )
 
 // DialOptions say how a command, a worker or a coordinator connects to NATS.
@@ -19,6 +21,12 @@ type DialOptions struct {
 	InProcess nats.InProcessConnProvider
 	// Name is the connection name the server shows.
 	Name string
+	// Role is whom the connection acts for; its replies arrive under the
+	// role's inbox prefix Names.Inbox(Role), the only inbox the role may
+	// read. Empty: nats.go's default inbox "_INBOX", for servers without
+	// fvsweep's rights.
+	Role  wire.Role
+	Names wire.Names
 	// Token authenticates with a token, if not empty; with User set it is
 	// that user's password instead.
 	Token string
@@ -54,6 +62,9 @@ func Dial(o DialOptions) (*nats.Conn, error) {
 				fmt.Fprintf(os.Stderr, "fvsweep: %s: %v\n", o.Name, err)
 			}
 		}),
+	}
+	if o.Role != "" {
+		opts = append(opts, nats.CustomInboxPrefix(o.Names.Inbox(o.Role)))
 	}
 	auth, err := o.authOptions()
 	if err != nil {

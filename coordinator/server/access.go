@@ -5,6 +5,8 @@ import (
 	"crypto/tls"
 	"fmt"
 	"net"
+	"slices"
+	"strings"
 
 	natsserver "github.com/nats-io/nats-server/v2/server"
 
@@ -12,57 +14,132 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-// Who may do what on NATS. The same two sets of rights are written out in
-// deploy/nats/common.conf for a cluster (access_test.go holds them equal):
+// Who may do what on NATS: one list per role (wire.Role), scoped to the
+// names of one prefix. The embedded server gives them to the holders of
+// the role's secret (Access); deploy/nats/common.conf is generated from
+// them (CommonConf; access_test.go holds the file equal).
 //
-//   - the coordinator (and the client commands: submit, status, cancel,
-//     table, export) may do everything fvsweep does, nothing outside its
-//     names;
-//   - a worker may pull jobs through the shared consumer and ack them,
-//     publish outcomes, reports and snapshots, watch the cancel marks and
-//     ask for status and rows, but not publish a job, submit or cancel a
-//     sweep, or change a stream or consumer.
+//   - operator: the coordinator. Its own subjects, the JetStream API of its
+//     four streams (jobs, results, the cancel bucket, the snapshot store)
+//     and their consumers, nothing account-wide but reading the account's
+//     figures: no other stream. It answers requests on the submitter's and the
+//     reader's inboxes and may do all a worker does (run starts workers on
+//     the operator's secret).
+//   - submitter: the API verbs submit, cancel and forget, and all a reader
+//     may.
+//   - reader: the API verbs ping, status and rows, and reading snapshots.
+//   - worker: fetch from the workers' consumer and ack, nak or extend its
+//     deliveries; publish outcomes, reports and snapshot objects; watch the
+//     cancel marks. No purge, no delete, no stream or consumer changes, no
+//     API verb, no inbox but its own.
 
-// CoordinatorRights are the NATS permissions of the coordinator user.
-func CoordinatorRights(n wire.Names) *natsserver.Permissions {
+// Rights are the NATS permissions of role r for the names n.
+func Rights(r wire.Role, n wire.Names) *natsserver.Permissions {
+	var pub, sub []string
+	switch r {
+	case wire.RoleOperator:
+		pub, sub = operatorRights(n)
+	case wire.RoleSubmitter:
+		pub = append(apiRights(n, wire.VerbSubmit, wire.VerbCancel, wire.VerbForget), readRights(n)...)
+		sub = []string{inbox(n, wire.RoleSubmitter), inbox(n, wire.RoleReader)}
+	case wire.RoleReader:
+		pub = readRights(n)
+		sub = []string{inbox(n, wire.RoleReader)}
+	case wire.RoleWorker:
+		pub = workerRights(n)
+		sub = []string{inbox(n, wire.RoleWorker)}
+	default:
+		panic("server.Rights: unknown role " + string(r))
+	}
 	return &natsserver.Permissions{
-		Publish: &natsserver.SubjectPermission{Allow: []string{
-			prefix(n) + ".>", "$JS.API.>", "$JS.ACK.>", "$JS.FC.>",
-			"$KV." + n.CancelBucket() + ".>", "$O." + n.FieldBucket() + ".>", "_INBOX.>",
-		}},
-		Subscribe: &natsserver.SubjectPermission{Allow: []string{
-			prefix(n) + ".>", maxDeliveriesSubject(n), "_INBOX.>",
-		}},
+		Publish:   &natsserver.SubjectPermission{Allow: pub},
+		Subscribe: &natsserver.SubjectPermission{Allow: sub},
 	}
 }
 
-// WorkerRights are the NATS permissions of the worker user.
-func WorkerRights(n wire.Names) *natsserver.Permissions {
+// inbox matches every reply subject of role r's connections.
+func inbox(n wire.Names, r wire.Role) string { return n.Inbox(r) + ".>" }
+
+// streams are the four JetStream streams of n: jobs, results, the cancel
+// bucket's and the snapshot store's.
+func streams(n wire.Names) []string {
+	return []string{n.JobStream(), n.ResultStream(), kvStream(n), objStream(n)}
+}
+
+func kvStream(n wire.Names) string  { return "KV_" + n.CancelBucket() }
+func objStream(n wire.Names) string { return "OBJ_" + n.FieldBucket() }
+
+func operatorRights(n wire.Names) (pub, sub []string) {
+	// $JS.API.INFO reads the account's figures (usage and limits, no
+	// names); nats.go asks for them before it creates a key-value bucket.
+	pub = []string{prefix(n) + ".>", "$JS.API.INFO"}
+	for _, s := range streams(n) {
+		pub = append(pub,
+			"$JS.API.STREAM.*."+s,        // info, create, update, delete, purge
+			"$JS.API.STREAM.MSG.*."+s,    // get, delete
+			"$JS.API.DIRECT.GET."+s,      // get by sequence
+			"$JS.API.DIRECT.GET."+s+".>", // last message of a subject
+			"$JS.API.CONSUMER.*."+s+".>", // create, info, delete
+			"$JS.API.CONSUMER.MSG.NEXT."+s+".*",
+			"$JS.ACK."+s+".>",
+			"$JS.FC."+s+".>",
+		)
+	}
+	pub = append(pub, "$KV."+n.CancelBucket()+".>", "$O."+n.FieldBucket()+".>",
+		inbox(n, wire.RoleSubmitter), inbox(n, wire.RoleReader))
+	sub = []string{prefix(n) + ".>", maxDeliveriesSubject(n)}
+	for _, r := range wire.Roles {
+		sub = append(sub, inbox(n, r))
+	}
+	return pub, sub
+}
+
+// apiRights are the request subjects of verbs.
+func apiRights(n wire.Names, verbs ...string) []string {
+	var out []string
+	for _, v := range verbs {
+		out = append(out, n.API(v))
+	}
+	return out
+}
+
+// readRights: status and rows, and a snapshot object read (its meta by a
+// direct get, its chunks through an ordered consumer on the chunk
+// subjects).
+func readRights(n wire.Names) []string {
+	obj, o := objStream(n), "$O."+n.FieldBucket()
+	return append(apiRights(n, wire.VerbPing, wire.VerbStatus, wire.VerbRows),
+		"$JS.API.STREAM.INFO."+obj,
+		"$JS.API.DIRECT.GET."+obj+"."+o+".M.>",
+		"$JS.API.CONSUMER.CREATE."+obj+".*."+o+".C.>",
+		// The read deletes its consumer at the end; the snapshot store
+		// has no consumers but those of reads.
+		"$JS.API.CONSUMER.DELETE."+obj+".*",
+		"$JS.FC."+obj+".>",
+	)
+}
+
+// workerRights: the workers' consumer, the cancel marks' watch, snapshot
+// objects, outcomes and reports.
+func workerRights(n wire.Names) []string {
 	jobs, cons := n.JobStream(), n.WorkerConsumer()
-	kv, obj := "KV_"+n.CancelBucket(), "OBJ_"+n.FieldBucket()
-	return &natsserver.Permissions{
-		Publish: &natsserver.SubjectPermission{
-			Allow: []string{
-				"$JS.API.INFO",
-				"$JS.API.CONSUMER.INFO." + jobs + "." + cons,
-				"$JS.API.CONSUMER.MSG.NEXT." + jobs + "." + cons,
-				"$JS.ACK." + jobs + "." + cons + ".>",
-				"$JS.API.STREAM.INFO." + kv,
-				"$JS.API.CONSUMER.CREATE." + kv + ".>",
-				"$JS.API.CONSUMER.DELETE." + kv + ".>",
-				"$JS.FC." + kv + ".>",
-				"$JS.API.STREAM.INFO." + obj,
-				"$JS.API.STREAM.MSG.GET." + obj,
-				"$JS.API.DIRECT.GET." + obj + ".>",
-				"$JS.API.STREAM.PURGE." + obj,
-				"$O." + n.FieldBucket() + ".>",
-				n.ResultFilter(),
-				n.WorkerFilter(),
-				n.API(wire.VerbPing), n.API(wire.VerbStatus), n.API(wire.VerbRows),
-			},
-			Deny: []string{n.JobFilter(""), n.API(wire.VerbSubmit), n.API(wire.VerbCancel)},
-		},
-		Subscribe: &natsserver.SubjectPermission{Allow: []string{"_INBOX.>"}},
+	kv, obj := kvStream(n), objStream(n)
+	return []string{
+		"$JS.API.CONSUMER.INFO." + jobs + "." + cons,
+		"$JS.API.CONSUMER.MSG.NEXT." + jobs + "." + cons,
+		"$JS.ACK." + jobs + "." + cons + ".>",
+		"$JS.API.STREAM.INFO." + kv,
+		"$JS.API.CONSUMER.CREATE." + kv + ".*.$KV." + n.CancelBucket() + ".>",
+		// A watch deletes its own consumer when it stops; the cancel
+		// bucket has no other consumers, and a watch deleted under another
+		// worker is made again by nats.go's ordered consumer.
+		"$JS.API.CONSUMER.DELETE." + kv + ".*",
+		"$JS.FC." + kv + ".>",
+		"$JS.API.STREAM.INFO." + obj,
+		"$JS.API.DIRECT.GET." + obj + ".$O." + n.FieldBucket() + ".M.>",
+		"$O." + n.FieldBucket() + ".>",
+		n.ResultFilter(),
+		n.WorkerFilter(),
 	}
 }
 
@@ -77,31 +154,113 @@ func maxDeliveriesSubject(n wire.Names) string {
 	return fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", n.JobStream(), n.WorkerConsumer())
 }
 
+// secretNames are, per role, the environment variable a cluster node
+// (deploy/nats) reads the role's password from and serve's flag for it.
+var secretNames = map[wire.Role]struct{ env, flag string }{
+	wire.RoleOperator:  {"FVSWEEP_OPERATOR_TOKEN", "token"},
+	wire.RoleSubmitter: {"FVSWEEP_SUBMIT_TOKEN", "submit-token"},
+	wire.RoleReader:    {"FVSWEEP_READ_TOKEN", "read-token"},
+	wire.RoleWorker:    {"FVSWEEP_WORKER_TOKEN", "worker-token"},
+}
+
+// SecretEnv is the environment variable a cluster node (deploy/nats) reads
+// the password of role r's user from; serve reads the submitter's, the
+// reader's and the workers' secrets from the same variables.
+func SecretEnv(r wire.Role) string { return secretNames[r].env }
+
+// CommonConf is the users-and-rights part of deploy/nats/common.conf for
+// the names n: one permissions block per role and one user per role, named
+// after it, whose password is the environment variable SecretEnv(role).
+func CommonConf(n wire.Names) string {
+	var b strings.Builder
+	list := func(indent, key string, subjects []string) {
+		fmt.Fprintf(&b, "%s%s: [\n", indent, key)
+		for _, s := range subjects {
+			fmt.Fprintf(&b, "%s  %q\n", indent, s)
+		}
+		fmt.Fprintf(&b, "%s]\n", indent)
+	}
+	for _, r := range wire.Roles {
+		p := Rights(r, n)
+		fmt.Fprintf(&b, "%s_rights: {\n", r)
+		list("  ", "publish", p.Publish.Allow)
+		list("  ", "subscribe", p.Subscribe.Allow)
+		b.WriteString("}\n\n")
+	}
+	b.WriteString("authorization {\n  users: [\n")
+	for _, r := range wire.Roles {
+		fmt.Fprintf(&b, "    { user: %s, password: $%s, permissions: $%s_rights }\n", r, SecretEnv(r), r)
+	}
+	b.WriteString("  ]\n}\n")
+	return b.String()
+}
+
 // Access says who may connect to the embedded server. With no Token the
-// server takes anyone (it must then listen on loopback only).
+// server takes anyone, with every right (it must then listen on loopback
+// only).
 type Access struct {
-	// Token is the coordinator's secret: full rights (CoordinatorRights).
-	// A client sends it as a bare token, or as the password of user
-	// "coordinator".
+	// Token is the operator's secret (the coordinator's and the person's
+	// who runs it). A client sends a secret as a bare token, or as the
+	// password of the user named after its role ("operator", "submitter",
+	// "reader", "worker").
 	Token string
-	// WorkerToken, if set, is the workers' secret: WorkerRights only. A
-	// client sends it as a bare token or as the password of user "worker".
-	// Without it, workers use Token.
-	WorkerToken string
+	// SubmitToken, ReadToken and WorkerToken, where set, are the secrets of
+	// the submitter, reader and worker roles. Each needs Token, and all
+	// the secrets given must differ.
+	SubmitToken, ReadToken, WorkerToken string
 	// Names are the names the rights are scoped to.
 	Names wire.Names
 }
 
+// secret is role r's secret in a ("" where the role has none).
+func (a Access) secret(r wire.Role) string {
+	switch r {
+	case wire.RoleOperator:
+		return a.Token
+	case wire.RoleSubmitter:
+		return a.SubmitToken
+	case wire.RoleReader:
+		return a.ReadToken
+	case wire.RoleWorker:
+		return a.WorkerToken
+	}
+	return ""
+}
+
+// check refuses secrets that would give a role the rights of another.
+func (a Access) check() error {
+	var given []string
+	for _, r := range wire.Roles[1:] {
+		if a.secret(r) != "" && a.Token == "" {
+			return fmt.Errorf("--%s needs --token: the operator's own secret", secretNames[r].flag)
+		}
+	}
+	for _, r := range wire.Roles {
+		s := a.secret(r)
+		if s == "" {
+			continue
+		}
+		if slices.Contains(given, s) {
+			return fmt.Errorf("the %s secret equals another role's: each role needs a secret of its own", r)
+		}
+		given = append(given, s)
+	}
+	return nil
+}
+
 // tokenAuth checks a connecting client's token (or user and password)
-// against Access and gives it the matching rights.
+// against Access and gives it the matching role's rights.
 type tokenAuth struct {
-	a     Access
-	coord *natsserver.Permissions
-	work  *natsserver.Permissions
+	a      Access
+	rights map[wire.Role]*natsserver.Permissions
 }
 
 func newTokenAuth(a Access) *tokenAuth {
-	return &tokenAuth{a: a, coord: CoordinatorRights(a.Names), work: WorkerRights(a.Names)}
+	t := &tokenAuth{a: a, rights: map[wire.Role]*natsserver.Permissions{}}
+	for _, r := range wire.Roles {
+		t.rights[r] = Rights(r, a.Names)
+	}
+	return t
 }
 
 func same(a, b string) bool { return b != "" && subtle.ConstantTimeCompare([]byte(a), []byte(b)) == 1 }
@@ -113,15 +272,13 @@ func (t *tokenAuth) Check(c natsserver.ClientAuthentication) bool {
 	if user != "" {
 		secret = o.Password
 	}
-	switch {
-	case (user == "" || user == "coordinator") && same(secret, t.a.Token):
-		c.RegisterUser(&natsserver.User{Username: "coordinator", Permissions: t.coord})
-	case (user == "" || user == "worker") && same(secret, t.a.WorkerToken):
-		c.RegisterUser(&natsserver.User{Username: "worker", Permissions: t.work})
-	default:
-		return false
+	for _, r := range wire.Roles {
+		if (user == "" || user == string(r)) && same(secret, t.a.secret(r)) {
+			c.RegisterUser(&natsserver.User{Username: string(r), Permissions: t.rights[r]})
+			return true
+		}
 	}
-	return true
+	return false
 }
 
 // IsLoopback reports whether host (a name or an address) only ever means

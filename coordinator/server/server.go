@@ -53,13 +53,10 @@ func Start(o Options) (*natsserver.Server, error) {
 		}
 	}
 	if !IsLoopback(host) && o.Access.Token == "" {
-		return nil, fmt.Errorf("listening on %s needs credentials: give --token (and --worker-token for workers), or listen on 127.0.0.1", net.JoinHostPort(host, strconv.Itoa(port)))
+		return nil, fmt.Errorf("listening on %s needs credentials: give --token (and --worker-token, --submit-token, --read-token for the other roles), or listen on 127.0.0.1", net.JoinHostPort(host, strconv.Itoa(port)))
 	}
-	if o.Access.WorkerToken != "" && o.Access.Token == "" {
-		return nil, fmt.Errorf("--worker-token needs --token: the coordinator's own secret")
-	}
-	if o.Access.WorkerToken != "" && o.Access.WorkerToken == o.Access.Token {
-		return nil, fmt.Errorf("--worker-token equals --token: a worker would get the coordinator's rights")
+	if err := o.Access.check(); err != nil {
+		return nil, err
 	}
 	name := o.Name
 	if name == "" {

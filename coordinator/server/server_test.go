@@ -17,7 +17,9 @@ func TestStartRefusesOpenAccess(t *testing.T) {
 		{server.Options{Listen: "0.0.0.0:0"}, "needs credentials"},
 		{server.Options{Listen: "192.0.2.1:4222"}, "needs credentials"},
 		{server.Options{Access: server.Access{WorkerToken: "w"}}, "--worker-token needs --token"},
-		{server.Options{Access: server.Access{Token: "same", WorkerToken: "same"}}, "--worker-token equals --token"},
+		{server.Options{Access: server.Access{ReadToken: "r"}}, "--read-token needs --token"},
+		{server.Options{Access: server.Access{Token: "same", WorkerToken: "same"}}, "the worker secret equals another role's"},
+		{server.Options{Access: server.Access{Token: "t", SubmitToken: "s", ReadToken: "s"}}, "the reader secret equals another role's"},
 		{server.Options{Listen: "127.0.0.1:70000"}, "bad port"},
 	} {
 		c.o.Dir = t.TempDir()

@@ -22,9 +22,9 @@ refine = { nx = [48, 64, 96] }
 `
 
 var (
-	nodeEnv   = []string{"FVSWEEP_COORDINATOR_TOKEN=c0ffee0123", "FVSWEEP_WORKER_TOKEN=beef4567", "FVSWEEP_ROUTE_TOKEN=r0ute89"}
+	nodeEnv   = []string{"FVSWEEP_OPERATOR_TOKEN=c0ffee0123", "FVSWEEP_WORKER_TOKEN=beef4567", "FVSWEEP_ROUTE_TOKEN=r0ute89", "FVSWEEP_SUBMIT_TOKEN=5ubm1701", "FVSWEEP_READ_TOKEN=4ead8902"}
 	natsURLs  = "nats://fvsweep-nats-1:4222,nats://fvsweep-nats-2:4222,nats://fvsweep-nats-3:4222"
-	coordEnv  = []string{"FVSWEEP_NATS=" + natsURLs, "FVSWEEP_USER=coordinator", "FVSWEEP_TOKEN=c0ffee0123"}
+	coordEnv  = []string{"FVSWEEP_NATS=" + natsURLs, "FVSWEEP_USER=operator", "FVSWEEP_TOKEN=c0ffee0123"}
 	workerEnv = []string{"FVSWEEP_NATS=" + natsURLs, "FVSWEEP_USER=worker", "FVSWEEP_TOKEN=beef4567"}
 )
 

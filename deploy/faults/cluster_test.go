@@ -12,6 +12,7 @@ import (
 	"github.com/nats-io/nats.go"
 
 	"fvsweep/deploy"
+	"fvsweep/sweep/wire"
 )
 
 // shortJobs is 60 jobs of 10 to 250 ms: a sweep of a few seconds on two
@@ -90,7 +91,8 @@ func (r *rig) cluster() ([]*proc, string) {
 }
 
 var clusterEnv = []string{
-	"FVSWEEP_COORDINATOR_TOKEN=c0ffee0123", "FVSWEEP_WORKER_TOKEN=beef4567", "FVSWEEP_ROUTE_TOKEN=r0ute89",
+	"FVSWEEP_OPERATOR_TOKEN=c0ffee0123", "FVSWEEP_WORKER_TOKEN=beef4567", "FVSWEEP_ROUTE_TOKEN=r0ute89",
+	"FVSWEEP_SUBMIT_TOKEN=5ubm1701", "FVSWEEP_READ_TOKEN=4ead8902",
 }
 
 // TestClusterLosesANode: three nodes from deploy/nats, streams with three
@@ -100,7 +102,7 @@ func TestClusterLosesANode(t *testing.T) {
 	r := newRig(t, clusterEnv...)
 	spec, name, ids := r.writeSpec(shortJobs)
 	nodes, url := r.cluster()
-	coordEnv := []string{"FVSWEEP_USER=coordinator", "FVSWEEP_TOKEN=c0ffee0123"}
+	coordEnv := []string{"FVSWEEP_USER=operator", "FVSWEEP_TOKEN=c0ffee0123"}
 	r.env = append(clusterEnv, coordEnv...)
 	var coord *proc
 	deadline := time.Now().Add(30 * time.Second)
@@ -113,7 +115,7 @@ func TestClusterLosesANode(t *testing.T) {
 		}
 	}
 	coord.waitOutput("workers join with", time.Second)
-	obs := observe(t, url, nats.UserInfo("coordinator", "c0ffee0123"))
+	obs := observe(t, url, nats.UserInfo("operator", "c0ffee0123"), nats.CustomInboxPrefix(wire.Names{}.Inbox(wire.RoleOperator)))
 	r.submit(spec, url)
 	r.env = append(clusterEnv, "FVSWEEP_USER=worker", "FVSWEEP_TOKEN=beef4567")
 	r.worker("worker-a", url, 1)

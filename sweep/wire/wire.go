@@ -110,10 +110,44 @@ const (
 	VerbRows   = "rows"
 	VerbSubmit = "submit"
 	VerbCancel = "cancel"
+	// VerbForget discards stored outcomes; its rights are in place, the
+	// coordinator does not answer it yet.
+	VerbForget = "forget"
 )
 
 // API is the request subject of verb.
 func (n Names) API(verb string) string { return n.p() + ".api." + verb }
+
+// Role is whom a NATS connection acts for. Each role has a secret of its
+// own and only the rights it needs (coordinator/server/access.go).
+type Role string
+
+const (
+	// RoleOperator runs the coordinator: it owns the streams, consumers and
+	// buckets and may do what every other role may.
+	RoleOperator Role = "operator"
+	// RoleSubmitter submits, cancels and forgets sweeps and reads them.
+	RoleSubmitter Role = "submitter"
+	// RoleReader reads: status, rows (table, export, report) and snapshots.
+	RoleReader Role = "reader"
+	// RoleWorker pulls jobs and sends their outcomes, snapshots and reports.
+	RoleWorker Role = "worker"
+)
+
+// Roles lists every role, the most trusted first.
+var Roles = []Role{RoleOperator, RoleSubmitter, RoleReader, RoleWorker}
+
+// Inbox is the inbox prefix of the connections of role r: replies to
+// their requests arrive on Inbox(r)+".>", which only r (and the operator)
+// may subscribe to.
+func (n Names) Inbox(r Role) string { return "_INBOX_" + n.p() + "_" + string(r) }
+
+// IsInbox reports whether subject is an inbox (of a role, or nats.go's
+// default "_INBOX."): the only subjects the coordinator answers requests on,
+// so that a request cannot make it publish elsewhere.
+func IsInbox(subject string) bool {
+	return strings.HasPrefix(subject, "_INBOX.") || strings.HasPrefix(subject, "_INBOX_")
+}
 
 // SweepToken maps a sweep name to one subject token and key-value key: the
 // name itself when it is made of letters, digits, '-' and '_' (at most 64),
