@@ -29,7 +29,7 @@ func BurgersFluxByName(name string) (BurgersFlux, error) { return burgersFluxes.
 // [ur, ul] otherwise. A transonic rarefaction (ul < 0 < ur) gives f(0) = 0.
 func BurgersGodunov(ul, ur float64) float64 {
 	if ul > ur { // shock: f is convex, so its maximum is at an end point
-		return 0.5 * math.Max(ul*ul, ur*ur)
+		return 0.5 * max(ul*ul, ur*ur)
 	}
 	if ul > 0 {
 		return 0.5 * ul * ul
@@ -43,6 +43,6 @@ func BurgersGodunov(ul, ur float64) float64 {
 // BurgersRusanov is the Rusanov (local Lax-Friedrichs) flux (Rusanov 1961):
 // (f(ul) + f(ur))/2 - max(|ul|, |ur|) (ur - ul)/2.
 func BurgersRusanov(ul, ur float64) float64 {
-	s := math.Max(math.Abs(ul), math.Abs(ur))
+	s := max(math.Abs(ul), math.Abs(ur))
 	return 0.25*(ul*ul+ur*ur) - 0.5*s*(ur-ul)
 }

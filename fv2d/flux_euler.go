@@ -49,7 +49,7 @@ func EulerRusanov(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3
 	g1 := 1 / (gamma - 1)
 	al := math.Sqrt(gamma * pl / rl)
 	ar := math.Sqrt(gamma * pr / rr)
-	s := math.Max(math.Abs(ul)+al, math.Abs(ur)+ar)
+	s := max(math.Abs(ul)+al, math.Abs(ur)+ar)
 	mul, mur := rl*ul, rr*ur
 	el := pl*g1 + 0.5*rl*(ul*ul+vl*vl)
 	er := pr*g1 + 0.5*rr*(ur*ur+vr*vr)
@@ -75,32 +75,44 @@ func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 f
 	return EulerPhysicalFlux(gamma, r, u, v, p)
 }
 
-// roeAverage returns the Roe averages (Roe 1981) of the density,
-// rho~ = sqrt(rho_L rho_R), of the velocities, of the total enthalpy
-// H = (E + p)/rho and the sound speed, with the square roots of the
-// densities as weights, and the left and right enthalpies.
-func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (rho, u, v, h, a, hl, hr float64) {
-	g := gamma / (gamma - 1)
-	hl = g*pl/rl + 0.5*(ul*ul+vl*vl)
-	hr = g*pr/rr + 0.5*(ur*ur+vr*vr)
-	sl, sr := math.Sqrt(rl), math.Sqrt(rr)
-	w := 1 / (sl + sr)
-	u = (sl*ul + sr*ur) * w
-	v = (sl*vl + sr*vr) * w
-	h = (sl*hl + sr*hr) * w
-	a = math.Sqrt((gamma - 1) * (h - 0.5*(u*u+v*v)))
-	return sl * sr, u, v, h, a, hl, hr
+// The Roe averages (Roe 1981) weight the left and right states with the
+// square roots of their densities: x~ = (sqrt(rho_L) x_L + sqrt(rho_R) x_R) /
+// (sqrt(rho_L) + sqrt(rho_R)) for x = u, v and the total enthalpy
+// H = (E + p)/rho, rho~ = sqrt(rho_L rho_R), a~^2 = (gamma-1) (H~ - |u~|^2/2).
+// The pieces below are small enough for the compiler to inline, so that the
+// fluxes that use them make no calls.
+
+// totalEnthalpy is H = g p/rho + (u^2 + v^2)/2 with g = gamma/(gamma-1).
+func totalEnthalpy(g, r, u, v, p float64) float64 { return g*p/r + 0.5*(u*u+v*v) }
+
+// roeWeights returns sqrt(rho_L), sqrt(rho_R) and 1/(sqrt(rho_L) + sqrt(rho_R)).
+func roeWeights(rl, rr float64) (ql, qr, w float64) {
+	ql, qr = math.Sqrt(rl), math.Sqrt(rr)
+	return ql, qr, 1 / (ql + qr)
 }
 
-// einfeldtSpeeds returns the HLLE wave speed estimates of Einfeldt (1988,
-// SIAM J. Numer. Anal. 25): S_L = min(u_L - a_L, u~ - a~) and
-// S_R = max(u_R + a_R, u~ + a~) with Roe averages u~, a~, and the left and
+// roeMean is the Roe average x~ of xl and xr with the weights of roeWeights.
+func roeMean(ql, qr, w, xl, xr float64) float64 { return (ql*xl + qr*xr) * w }
+
+// roeSound is a~ = sqrt((gamma-1) (H~ - (u~^2 + v~^2)/2)).
+func roeSound(gm1, h, u, v float64) float64 { return math.Sqrt(gm1 * (h - 0.5*(u*u+v*v))) }
+
+// roeAverage returns the Roe averages rho~, u~, v~, H~, a~ and the left and
 // right total enthalpies.
-func einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (sl, sr, hl, hr float64) {
-	_, u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
-	al := math.Sqrt(gamma * pl / rl)
-	ar := math.Sqrt(gamma * pr / rr)
-	return math.Min(ul-al, u-a), math.Max(ur+ar, u+a), hl, hr
+func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (rho, u, v, h, a, hl, hr float64) {
+	g := gamma / (gamma - 1)
+	hl, hr = totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
+	ql, qr, w := roeWeights(rl, rr)
+	u, v, h = roeMean(ql, qr, w, ul, ur), roeMean(ql, qr, w, vl, vr), roeMean(ql, qr, w, hl, hr)
+	return ql * qr, u, v, h, roeSound(gamma-1, h, u, v), hl, hr
+}
+
+// einfeldt returns the HLLE wave speed estimates of Einfeldt (1988, SIAM
+// J. Numer. Anal. 25): S_L = min(u_L - a_L, u~ - a~) and
+// S_R = max(u_R + a_R, u~ + a~) with the Roe averages u~, a~.
+func einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, a float64) (sl, sr float64) {
+	al, ar := math.Sqrt(gamma*pl/rl), math.Sqrt(gamma*pr/rr)
+	return min(ul-al, u-a), max(ur+ar, u+a)
 }
 
 // EulerHLL is the HLL flux (Harten, Lax, van Leer 1983; Toro 2009 §10.3)
@@ -109,7 +121,8 @@ func einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (sl, sr, hl, 
 // S_L < 0 < S_R, else the upwind physical flux. Positivity preserving under
 // the CFL condition (Einfeldt, Munz, Roe, Sjögreen 1991).
 func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
-	sl, sr, hl, hr := einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	_, u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	sl, sr := einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, a)
 	if sl >= 0 {
 		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
 	}
@@ -134,7 +147,12 @@ func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 // F*_R = F_R + S_R (U*_R - U_R) (eq. 10.38). A stationary contact (u_L = u_R = 0, p_L = p_R) is
 // resolved exactly.
 func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
-	sl, sr, hl, hr := einfeldtSpeeds(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
+	// roeAverage, written out so that the default flux makes no call
+	g := gamma / (gamma - 1)
+	hl, hr := totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
+	wl, wr, w := roeWeights(rl, rr)
+	u, v, h := roeMean(wl, wr, w, ul, ur), roeMean(wl, wr, w, vl, vr), roeMean(wl, wr, w, hl, hr)
+	sl, sr := einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, roeSound(gamma-1, h, u, v))
 	if sl >= 0 {
 		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
 	}
@@ -143,16 +161,12 @@ func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 fl
 	}
 	ql, qr := rl*(sl-ul), rr*(sr-ur) // mass flux through the outer waves
 	ss := (pr - pl + ul*ql - ur*qr) / (ql - qr)
-	if ss >= 0 {
-		return hllcSide(rl, ul, vl, pl, hl, sl, ss, ql)
+	// The side K of the contact the face lies on: L for S* >= 0, else R.
+	r, u, v, p, h, sk, q := rl, ul, vl, pl, hl, sl, ql
+	if ss < 0 {
+		r, u, v, p, h, sk, q = rr, ur, vr, pr, hr, sr, qr
 	}
-	return hllcSide(rr, ur, vr, pr, hr, sr, ss, qr)
-}
-
-// hllcSide returns F_K + S_K (U*_K - U_K) for the state (r, u, v, p) with
-// total enthalpy h, outer wave speed sk, contact speed ss and q = r (sk - u)
-// (Toro 2009 eqs. 10.38, 10.39).
-func hllcSide(r, u, v, p, h, sk, ss, q float64) (f0, f1, f2, f3 float64) {
+	// F_K + S_K (U*_K - U_K) (Toro 2009 eqs. 10.38, 10.39).
 	m := r * u
 	e := r*h - p
 	// rho*_K = r t; written with t - 1 so that U*_K - U_K vanishes exactly

@@ -2,6 +2,12 @@ package fv2d
 
 import "math"
 
+// The limiters and fluxes use Go's built-in min and max, not math.Min and
+// math.Max: both give the same bits (NaN wins, -0 < +0), but the built-ins
+// compile to branch-free instructions on amd64 where math.Min is a call; a
+// branch on which of two nearly equal slopes or speeds is smaller is
+// mispredicted half the time.
+
 // Limiter is a slope limiter of the MUSCL reconstruction: from the backward
 // difference a = w_i - w_{i-1} and the forward difference b = w_{i+1} - w_i
 // it returns the limited slope (times dx) of cell i. Every limiter here is
@@ -57,7 +63,7 @@ func MonotonizedCentral(a, b float64) float64 {
 		return 0
 	}
 	c := 0.5 * (a + b)
-	m := math.Min(2*math.Abs(a), 2*math.Abs(b))
+	m := min(2*math.Abs(a), 2*math.Abs(b))
 	if math.Abs(c) < m {
 		return c
 	}
@@ -71,5 +77,5 @@ func Superbee(a, b float64) float64 {
 		return 0
 	}
 	aa, bb := math.Abs(a), math.Abs(b)
-	return math.Copysign(math.Max(math.Min(2*aa, bb), math.Min(aa, 2*bb)), a)
+	return math.Copysign(max(min(2*aa, bb), min(aa, 2*bb)), a)
 }

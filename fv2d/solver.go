@@ -78,6 +78,7 @@ type worker struct {
 	b0, b1 int
 	jobs   chan job
 	sp     sweepParams // of the current sweep (a field, so kernels' pointer to it does not escape per call)
+	scr    *lineScratch
 	yb     [4][]float64
 	src    []float64
 	sx, sy float64
@@ -115,6 +116,8 @@ func NewSolver(v Values) (*Solver, error) {
 		s.base.lim = cfg.Limiter
 	}
 	s.base.gamma = p.Gamma
+	s.base.vanLeer = v.Get("limiter") == "vanleer"
+	s.base.godunovB = p.Eq == Burgers && v.Get("flux") == "exact"
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)
@@ -165,6 +168,7 @@ func (s *Solver) startWorkers(threads int) {
 			j0: w * s.ny / threads, j1: (w + 1) * s.ny / threads,
 			b0: w * nb / threads, b1: (w + 1) * nb / threads,
 			src: make([]float64, nv),
+			scr: newLineScratch(max(s.nx, s.ny) + 2*s.g),
 		}
 		for k := 0; k < nv; k++ {
 			wk.yb[k] = make([]float64, blockCols*(s.ny+2*s.g))
@@ -277,7 +281,7 @@ func (s *Solver) dispatch(j job) (bad bool) {
 	if j.sp.speed || j.kind == jobSpeeds {
 		s.sx, s.sy = 0, 0
 		for _, w := range s.workers {
-			s.sx, s.sy = math.Max(s.sx, w.sx), math.Max(s.sy, w.sy)
+			s.sx, s.sy = max(s.sx, w.sx), max(s.sy, w.sy)
 		}
 	}
 	for _, w := range s.workers {
@@ -291,9 +295,11 @@ func (w *worker) do(j job) {
 	switch j.kind {
 	case jobSweepX:
 		w.sp = j.sp
+		w.sp.scr = w.scr
 		w.sweepX(&w.sp)
 	case jobSweepY:
 		w.sp = j.sp
+		w.sp.scr = w.scr
 		w.sweepY(&w.sp)
 	case jobSource:
 		w.source(j.t, j.dt)
@@ -312,7 +318,7 @@ func (res *lineResult) line(kern lineKernel, sp *sweepParams, q [][]float64, lo,
 	} else {
 		r = kern(sp, q[0][lo:hi], q[1][lo:hi], q[2][lo:hi], q[3][lo:hi])
 	}
-	res.sn, res.st = math.Max(res.sn, r.sn), math.Max(res.st, r.st)
+	res.sn, res.st = max(res.sn, r.sn), max(res.st, r.st)
 	res.bad = res.bad || r.bad
 }
 
@@ -498,7 +504,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 	stepWall := time.Since(stepStart).Seconds()
 	res := &Result{
 		Case: v.Case, Params: v.Map(), NX: s.nx, NY: s.ny, Steps: s.steps, TFinal: s.t,
-		Totals: map[string]Total{}, Final: st,
+		Totals: map[string]Total{}, Final: st, Kernel: "portable",
 	}
 	for k, tot := range st.Totals() {
 		res.Totals[vars[k]] = Total{Initial: init[k], Final: tot}

@@ -6,12 +6,14 @@ import "math"
 // finite-volume step in conservative form,
 //   U_i <- U_i - dt/dx (F_{i+1/2} - F_{i-1/2}),
 // line by line. A line kernel gets the conserved variables of one line
-// (ghost values included, G at each end) and updates its interior in place
-// in a single pass: it converts each cell to primitive variables once,
-// reconstructs, evolves the face values, calls the numerical flux at each
-// face and writes each cell as soon as its two face fluxes are known. The
-// cells of the window it still reads lie ahead of the cell it writes, so the
-// in-place update reads only old values.
+// (ghost values included, G at each end) and updates its interior in place.
+// It works in passes over the line, each a simple loop over flat arrays of
+// the worker's scratch: primitive variables of every cell, reconstructed
+// face values, the numerical flux at every face, then the update. Short
+// loops without calls through function values keep the processor busy on
+// several cells at once; the passes for the default limiter and flux are
+// instantiated with the function itself (see sweepParams.slopes), so the
+// compiler calls it directly or inlines it.
 //
 // For Euler the line variables are (rho, m_normal, m_tangential, E): the
 // x sweep passes (rho, mx, my, E), the y sweep (rho, my, mx, E).
@@ -24,6 +26,26 @@ type sweepParams struct {
 	ef    EulerFlux
 	bf    BurgersFlux
 	lim   Limiter
+	// The defaults, which get passes of their own: lim is VanLeer, bf is
+	// BurgersGodunov.
+	vanLeer, godunovB bool
+	scr               *lineScratch // the worker's
+}
+
+// lineScratch is a worker's scratch for the passes over one line, four
+// arrays (one per line variable) of the longest line each: w the primitive
+// variables of the cells, d their slopes and then the left face values, r
+// the right face values, f the fluxes (f_i at face i+1/2).
+type lineScratch struct {
+	w, d, r, f [4][]float64
+}
+
+func newLineScratch(n int) *lineScratch {
+	s := new(lineScratch)
+	for k := range 4 {
+		s.w[k], s.d[k], s.r[k], s.f[k] = make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+	}
+	return s
 }
 
 // lineResult is what a kernel reports about the cells it updated: the
@@ -67,6 +89,73 @@ func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
 	}
 }
 
+// primLine sets w to the primitive variables (rho, u_n, u_t, p) of the
+// cells of the line (rho, mn, mt, en).
+func primLine(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64) {
+	m := len(rho)
+	mn, mt, en = mn[:m], mt[:m], en[:m]
+	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
+	for i, r := range rho {
+		w0[i] = r
+		w1[i], w2[i], w3[i] = cellEuler(gm1, r, mn[i], mt[i], en[i])
+	}
+}
+
+// slopesWith sets d_i = lim(w_i - w_{i-1}, w_{i+1} - w_i) for the cells
+// 1 <= i < len(w)-1. Small enough to be inlined, so that a limiter known at
+// the call is called directly.
+func slopesWith(lim Limiter, w, d []float64) {
+	d = d[:len(w)]
+	for i := 1; i < len(w)-1; i++ {
+		d[i] = lim(w[i]-w[i-1], w[i+1]-w[i])
+	}
+}
+
+// slopes sets the limited slopes d of w with the sweep's limiter.
+func (sp *sweepParams) slopes(w, d []float64) {
+	if sp.vanLeer {
+		slopesWith(VanLeer, w, d)
+		return
+	}
+	slopesWith(sp.lim, w, d)
+}
+
+// eulerFaces sets f_i = flux(r_i, l_{i+1}), the flux at face i+1/2, for
+// lo <= i < hi, from the right face values r of cell i and the left face
+// values l of cell i+1. (A flux is too large to be inlined, so a call
+// through the function value costs no more than a direct one.)
+func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
+	flux, g := sp.ef, sp.gamma
+	r0, r1, r2, r3 := r[0][lo:hi], r[1][lo:hi], r[2][lo:hi], r[3][lo:hi]
+	l0, l1, l2, l3 := l[0][lo+1:hi+1], l[1][lo+1:hi+1], l[2][lo+1:hi+1], l[3][lo+1:hi+1]
+	f0, f1, f2, f3 := f[0][lo:hi], f[1][lo:hi], f[2][lo:hi], f[3][lo:hi]
+	for i := range r0 {
+		f0[i], f1[i], f2[i], f3[i] = flux(g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+	}
+}
+
+// updateEulerLine writes the conservative update
+// U_i -= c (F_{i+1/2} - F_{i-1/2}) of the cells lo <= i < hi, with f_i the
+// flux at face i+1/2, and checks the new states.
+func updateEulerLine(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en []float64, f *[4][]float64, lo, hi int) {
+	rho, mn, mt, en = rho[lo:hi], mn[lo:hi], mt[lo:hi], en[lo:hi]
+	n := len(rho)
+	f0, f1, f2, f3 := f[0][lo-1:hi], f[1][lo-1:hi], f[2][lo-1:hi], f[3][lo-1:hi]
+	f0, f1, f2, f3 = f0[:n+1], f1[:n+1], f2[:n+1], f3[:n+1]
+	for i := range rho {
+		a, b, d, e := rho[i]-c*(f0[i+1]-f0[i]), mn[i]-c*(f1[i+1]-f1[i]), mt[i]-c*(f2[i+1]-f2[i]), en[i]-c*(f3[i+1]-f3[i])
+		rho[i], mn[i], mt[i], en[i] = a, b, d, e
+		if !(a > 0 && 2*e*a > b*b+d*d) { // checkEuler's positivity test
+			res.bad = true
+		}
+	}
+	if speed && !res.bad {
+		for i := range rho {
+			checkEuler(res, true, gamma, rho[i], mn[i], mt[i], en[i])
+		}
+	}
+}
+
 // updateEuler writes the conservative update U_k -= c (F_{k+1/2} - F_{k-1/2})
 // of cell k, given the flux differences d0..d3, and checks the new state.
 func updateEuler(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en []float64, k int, d0, d1, d2, d3 float64) {
@@ -78,23 +167,10 @@ func updateEuler(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en 
 // eulerGodunov is the first-order Godunov-type scheme (Godunov 1959; Toro
 // 2009 §6.2): piecewise-constant data, one ghost cell per side.
 func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
-	m := len(rho)
-	mn, mt, en = mn[:m], mt[:m], en[:m]
-	g, gm1, c := sp.gamma, sp.gamma-1, sp.dtdx
-	flux, speed := sp.ef, sp.speed
-	r0 := rho[0]
-	u0, v0, p0 := cellEuler(gm1, r0, mn[0], mt[0], en[0])
-	var q0, q1, q2, q3 float64 // flux at the previous face
-	for i := 1; i < m; i++ {
-		r1 := rho[i]
-		u1, v1, p1 := cellEuler(gm1, r1, mn[i], mt[i], en[i])
-		f0, f1, f2, f3 := flux(g, r0, u0, v0, p0, r1, u1, v1, p1)
-		if i >= 2 { // both faces of cell i-1 known
-			updateEuler(&res, speed, g, c, rho, mn, mt, en, i-1, f0-q0, f1-q1, f2-q2, f3-q3)
-		}
-		q0, q1, q2, q3 = f0, f1, f2, f3
-		r0, u0, v0, p0 = r1, u1, v1, p1
-	}
+	m, w := len(rho), &sp.scr.w
+	primLine(sp.gamma-1, rho, mn, mt, en, w)
+	sp.eulerFaces(w, w, &sp.scr.f, 0, m-1)
+	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &sp.scr.f, 1, m-1)
 	return res
 }
 
@@ -107,48 +183,43 @@ func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 //
 // then the numerical flux at each face. Two ghost cells per side.
 func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
-	m := len(rho)
-	mn, mt, en = mn[:m], mt[:m], en[:m]
-	g, gm1, c, h := sp.gamma, sp.gamma-1, sp.dtdx, 0.5*sp.dtdx
-	flux, lim, speed := sp.ef, sp.lim, sp.speed
-	r0 := rho[0]
-	u0, v0, p0 := cellEuler(gm1, r0, mn[0], mt[0], en[0])
-	r1 := rho[1]
-	u1, v1, p1 := cellEuler(gm1, r1, mn[1], mt[1], en[1])
-	var (
-		xr, xu, xv, xp float64 // evolved right face value of the previous cell
-		q0, q1, q2, q3 float64 // flux at the previous face
-	)
-	for i := 1; i < m-1; i++ {
-		r2 := rho[i+1]
-		u2, v2, p2 := cellEuler(gm1, r2, mn[i+1], mt[i+1], en[i+1])
-		dr := lim(r1-r0, r2-r1)
-		du := lim(u1-u0, u2-u1)
-		dv := lim(v1-v0, v2-v1)
-		dp := lim(p1-p0, p2-p1)
-		// half-step evolution: W - dt/(2dx) A(W) dW
-		er := h * (u1*dr + r1*du)
-		eu := h * (u1*du + dp/r1)
-		ev := h * (u1 * dv)
-		ep := h * (g*p1*du + u1*dp)
-		lr, lu, lv, lp := r1-0.5*dr-er, u1-0.5*du-eu, v1-0.5*dv-ev, p1-0.5*dp-ep
-		rr, ru, rv, rp := r1+0.5*dr-er, u1+0.5*du-eu, v1+0.5*dv-ev, p1+0.5*dp-ep
-		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
-			lr, lu, lv, lp = r1, u1, v1, p1
-			rr, ru, rv, rp = r1, u1, v1, p1
-		}
-		if i >= 2 { // face i-1/2
-			f0, f1, f2, f3 := flux(g, xr, xu, xv, xp, lr, lu, lv, lp)
-			if i >= 3 { // both faces of cell i-1 known
-				updateEuler(&res, speed, g, c, rho, mn, mt, en, i-1, f0-q0, f1-q1, f2-q2, f3-q3)
-			}
-			q0, q1, q2, q3 = f0, f1, f2, f3
-		}
-		xr, xu, xv, xp = rr, ru, rv, rp
-		r0, u0, v0, p0 = r1, u1, v1, p1
-		r1, u1, v1, p1 = r2, u2, v2, p2
+	m, scr := len(rho), sp.scr
+	primLine(sp.gamma-1, rho, mn, mt, en, &scr.w)
+	for k := range 4 {
+		sp.slopes(scr.w[k][:m], scr.d[k])
 	}
+	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
+	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
+}
+
+// evolvePrim turns the cells 1 <= i < m-1 of primitive values w and slopes
+// d into their face values evolved by the half step h = dt/(2dx) of
+// eulerMUSCLPrim: the left face values replace d, the right ones go to r.
+// A cell whose evolved face density or pressure is not positive falls back
+// to first order (both face values equal to the cell's).
+func evolvePrim(g, h float64, w, d, r *[4][]float64, m int) {
+	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
+	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
+	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
+	for i := 1; i < m-1; i++ {
+		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
+		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
+		// half-step evolution: W - dt/(2dx) A(W) dW
+		er := h * (uc*dr + rc*du)
+		eu := h * (uc*du + dp/rc)
+		ev := h * (uc * dv)
+		ep := h * (g*pc*du + uc*dp)
+		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
+		rr, ru, rv, rp := rc+0.5*dr-er, uc+0.5*du-eu, vc+0.5*dv-ev, pc+0.5*dp-ep
+		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
+			lr, lu, lv, lp = rc, uc, vc, pc
+			rr, ru, rv, rp = rc, uc, vc, pc
+		}
+		d0[i], d1[i], d2[i], d3[i] = lr, lu, lv, lp
+		r0[i], r1[i], r2[i], r3[i] = rr, ru, rv, rp
+	}
 }
 
 // eulerMUSCLCons is the MUSCL-Hancock scheme in conserved variables (Toro

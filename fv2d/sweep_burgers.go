@@ -18,21 +18,46 @@ func checkBurgers(res *lineResult, speed bool, u float64) {
 	}
 }
 
+// burgersFacesWith sets f_i = flux(r_i, l_{i+1}), the flux at face i+1/2,
+// for 0 <= i < len(f). Small enough to be inlined, so that a flux known at
+// the call is called directly (and inlined).
+func burgersFacesWith(flux BurgersFlux, r, l, f []float64) {
+	r, l = r[:len(f)], l[1:len(f)+1]
+	for i := range f {
+		f[i] = flux(r[i], l[i])
+	}
+}
+
+// burgersFaces sets the fluxes f_i at faces i+1/2, lo <= i < hi, with the
+// sweep's flux.
+func (sp *sweepParams) burgersFaces(r, l, f []float64, lo, hi int) {
+	if sp.godunovB {
+		burgersFacesWith(BurgersGodunov, r[lo:], l[lo:], f[lo:hi])
+		return
+	}
+	burgersFacesWith(sp.bf, r[lo:], l[lo:], f[lo:hi])
+}
+
+// updateBurgersLine writes the conservative update
+// u_i -= c (f_{i+1/2} - f_{i-1/2}) of the cells lo <= i < hi, with f_i the
+// flux at face i+1/2, and checks the new values.
+func updateBurgersLine(res *lineResult, speed bool, c float64, u, f []float64, lo, hi int) {
+	u, f = u[lo:hi], f[lo-1:hi]
+	f = f[:len(u)+1]
+	for i := range u {
+		a := u[i] - c*(f[i+1]-f[i])
+		u[i] = a
+		checkBurgers(res, speed, a)
+	}
+	res.st = res.sn
+}
+
 // burgersGodunov is the first-order Godunov-type scheme, one ghost cell per
 // side.
 func burgersGodunov(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
-	c, flux, speed := sp.dtdx, sp.bf, sp.speed
-	var q float64
-	for i := 1; i < len(u); i++ {
-		f := flux(u[i-1], u[i])
-		if i >= 2 {
-			a := u[i-1] - c*(f-q)
-			u[i-1] = a
-			checkBurgers(&res, speed, a)
-		}
-		q = f
-	}
-	res.st = res.sn
+	m, f := len(u), sp.scr.f[0]
+	sp.burgersFaces(u, u, f, 0, m-1)
+	updateBurgersLine(&res, sp.speed, sp.dtdx, u, f, 1, m-1)
 	return res
 }
 
@@ -40,29 +65,15 @@ func burgersGodunov(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
 // slopes, face values u -+ du/2 evolved by -dt/(2dx) (f(u_R) - f(u_L)) =
 // -dt/(2dx) u du, then the numerical flux. Two ghost cells per side.
 func burgersMUSCL(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
-	m := len(u)
-	c, h := sp.dtdx, 0.5*sp.dtdx
-	flux, lim, speed := sp.bf, sp.lim, sp.speed
-	u0, u1 := u[0], u[1]
-	var xr, q float64 // evolved right face value of the previous cell; previous flux
-	for i := 1; i < m-1; i++ {
-		u2 := u[i+1]
-		d := lim(u1-u0, u2-u1)
-		lo, hi := u1-0.5*d, u1+0.5*d
-		e := h * u1 * d // = h (hi^2 - lo^2)/2
-		lo -= e
-		if i >= 2 {
-			f := flux(xr, lo)
-			if i >= 3 {
-				a := u[i-1] - c*(f-q)
-				u[i-1] = a
-				checkBurgers(&res, speed, a)
-			}
-			q = f
-		}
-		xr = hi - e
-		u0, u1 = u1, u2
+	m, h := len(u), 0.5*sp.dtdx
+	d, r, f := sp.scr.d[0][:m], sp.scr.r[0][:m], sp.scr.f[0]
+	sp.slopes(u, d)
+	for i := 1; i < m-1; i++ { // the left face value replaces the slope
+		lo, hi := u[i]-0.5*d[i], u[i]+0.5*d[i]
+		e := h * u[i] * d[i] // = h (hi^2 - lo^2)/2
+		d[i], r[i] = lo-e, hi-e
 	}
-	res.st = res.sn
+	sp.burgersFaces(r, d, f, 1, m-2)
+	updateBurgersLine(&res, sp.speed, sp.dtdx, u, f, 2, m-2)
 	return res
 }

@@ -1,0 +1,97 @@
+package fv2d
+
+import (
+	"context"
+	"encoding/binary"
+	"fmt"
+	"hash/fnv"
+	"math"
+	"os"
+	"strings"
+	"testing"
+)
+
+// The same job must give the same bits whoever runs it: any thread count,
+// any kernel path, any GOAMD64 level (a distributed sweep trusts a result
+// whichever worker computed it). bitsRuns are small runs covering the
+// kernels: schemes, splittings, reconstructions, limiters and fluxes of
+// both laws, with and without a source.
+var bitsRuns = []struct {
+	name string
+	kv   map[string]string
+}{
+	{"vortex", map[string]string{"nx": "24", "ny": "20", "t_end": "0.5"}},
+	{"vortex", map[string]string{"nx": "20", "ny": "20", "t_end": "0.5", "scheme": "godunov", "flux": "rusanov", "split": "lie"}},
+	{"vortex", map[string]string{"nx": "20", "ny": "20", "t_end": "0.5", "recon": "conserved", "flux": "roe", "limiter": "mc", "alternate": "true"}},
+	{"shocktube", map[string]string{"nx": "64", "ny": "3", "flux": "hll", "limiter": "minmod"}},
+	{"shocktube", map[string]string{"nx": "48", "ny": "3", "test": "3", "flux": "exact", "limiter": "superbee", "axis": "y"}},
+	{"shocktube", map[string]string{"nx": "48", "ny": "3", "test": "2", "scheme": "godunov", "split": "lie"}},
+	{"burgers-diagonal", map[string]string{"nx": "32", "ny": "24", "t_end": "0.05"}},
+	{"burgers-diagonal", map[string]string{"nx": "32", "ny": "24", "t_end": "0.05", "scheme": "godunov", "flux": "rusanov", "split": "lie"}},
+	{"burgers-riemann", map[string]string{"nx": "40", "ny": "3", "limiter": "superbee"}},
+	{"euler-mms", map[string]string{"nx": "16", "ny": "16", "t_end": "0.1"}},
+	{"burgers-mms", map[string]string{"nx": "16", "ny": "16", "t_end": "0.1", "limiter": "minmod"}},
+}
+
+// stateHash is the FNV-1a hash of the bits of the interior cells of st,
+// variable by variable, row by row.
+func stateHash(st *State) uint64 {
+	h := fnv.New64a()
+	var b [8]byte
+	for _, q := range st.U {
+		for j := 0; j < st.NY; j++ {
+			for i := 0; i < st.NX; i++ {
+				binary.LittleEndian.PutUint64(b[:], math.Float64bits(q[st.Index(i, j)]))
+				h.Write(b[:])
+			}
+		}
+	}
+	return h.Sum64()
+}
+
+// bitsHashes runs every bitsRuns entry with each thread count and returns
+// one line per run: its index, its hash and the kernel that ran it. It
+// fails t when the thread counts disagree.
+func bitsHashes(t *testing.T, threads ...int) []string {
+	var out []string
+	for k, r := range bitsRuns {
+		var first uint64
+		var kernel string
+		for n, th := range threads {
+			kv := map[string]string{"threads": fmt.Sprint(th)}
+			for key, x := range r.kv {
+				kv[key] = x
+			}
+			v, err := Resolve(r.name, kv)
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := Run(context.Background(), v)
+			if err != nil {
+				t.Fatalf("%s %v: %v", r.name, kv, err)
+			}
+			h := stateHash(res.Final)
+			if n == 0 {
+				first, kernel = h, res.Kernel
+			} else if h != first {
+				t.Errorf("%s %v: threads=%d gives hash %016x, threads=%d %016x", r.name, r.kv, th, h, threads[0], first)
+			}
+		}
+		out = append(out, fmt.Sprintf("%d %016x %s", k, first, kernel))
+	}
+	return out
+}
+
+// TestSameBitsThreads holds the final states of bitsRuns bitwise equal under
+// 1, 2 and 3 threads (3 does not divide the grids evenly).
+func TestSameBitsThreads(t *testing.T) {
+	lines := bitsHashes(t, 1, 2, 3)
+	// FV2D_BITS_OUT names a file for the hashes, to compare them with those
+	// of another build (GOAMD64 level, kernel path) by hand:
+	//   FV2D_BITS_OUT=/tmp/h1 go test -run TestSameBitsThreads ./fv2d
+	if out := os.Getenv("FV2D_BITS_OUT"); out != "" {
+		if err := os.WriteFile(out, []byte(strings.Join(lines, "\n")+"\n"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
