@@ -64,17 +64,20 @@ func enumValue(param string, names []string, name string) (int, error) {
 // typed, with the named flux and limiter looked up. Cases read their own
 // parameters from Values; the solver and Estimate read these.
 type Config struct {
-	Eq        Equation // the case's law: selects the flux table
-	NX, NY    int      // cells
-	Scheme    Scheme
-	Limiter   Limiter // slope limiter of the MUSCL reconstruction
-	Split     Split
-	Alternate bool    // swap the order of the x and y sweeps every step
-	CFL       float64 // Courant number of each 1-D sweep
-	TEnd      float64 // the t_end parameter (a problem's own TEnd overrides it)
-	Threads   int
-	MaxSteps  int // step guard
-	Quad      int // Gauss-Legendre points per direction of cell averages
+	Eq      Equation // the case's law: selects the flux table
+	NX, NY  int      // cells
+	Scheme  Scheme
+	Limiter Limiter // slope limiter of the MUSCL reconstruction
+	// LimiterName and FluxName are the table names of Limiter and of the
+	// flux, for the kernels that compile the defaults in.
+	LimiterName, FluxName string
+	Split                 Split
+	Alternate             bool    // swap the order of the x and y sweeps every step
+	CFL                   float64 // Courant number of each 1-D sweep
+	TEnd                  float64 // the t_end parameter (a problem's own TEnd overrides it)
+	Threads               int
+	MaxSteps              int // step guard
+	Quad                  int // Gauss-Legendre points per direction of cell averages
 
 	EulerFlux   EulerFlux   // Eq == Euler
 	Recon       Recon       // Eq == Euler
@@ -108,7 +111,8 @@ func configFor(v Values, eq Equation) (Config, error) {
 		return Config{}, err
 	}
 	cfg.Scheme, cfg.Split = Scheme(scheme), Split(split)
-	if cfg.Limiter, err = limiters.byName(v.Get("limiter")); err != nil {
+	cfg.LimiterName, cfg.FluxName = v.Get("limiter"), v.Get("flux")
+	if cfg.Limiter, err = limiters.byName(cfg.LimiterName); err != nil {
 		return Config{}, err
 	}
 	if eq == Euler {
@@ -117,12 +121,12 @@ func configFor(v Values, eq Equation) (Config, error) {
 			return Config{}, err
 		}
 		cfg.Recon = Recon(recon)
-		if cfg.EulerFlux, err = eulerFluxes.byName(v.Get("flux")); err != nil {
+		if cfg.EulerFlux, err = eulerFluxes.byName(cfg.FluxName); err != nil {
 			return Config{}, err
 		}
 		return cfg, nil
 	}
-	if cfg.BurgersFlux, err = burgersFluxes.byName(v.Get("flux")); err != nil {
+	if cfg.BurgersFlux, err = burgersFluxes.byName(cfg.FluxName); err != nil {
 		return Config{}, err
 	}
 	return cfg, nil

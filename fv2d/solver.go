@@ -116,8 +116,8 @@ func NewSolver(v Values) (*Solver, error) {
 		s.base.lim = cfg.Limiter
 	}
 	s.base.gamma = p.Gamma
-	s.base.vanLeer = v.Get("limiter") == "vanleer"
-	s.base.godunovB = p.Eq == Burgers && v.Get("flux") == "exact"
+	s.base.vanLeer = cfg.LimiterName == "vanleer"
+	s.base.godunovB = p.Eq == Burgers && cfg.FluxName == "exact"
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)

@@ -40,7 +40,7 @@ func (FV2D) Run(ctx context.Context, jb job.Job) (Result, error) {
 	}
 	r := Result{Outcome: job.Outcome{
 		Status: job.StatusDone, WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal,
-		CellUpdatesPerS: res.CellUpdatesPerS, Errors: outcomeNorms(res.Errors), Functionals: res.Functionals, Totals: outcomeTotals(res.Totals),
+		CellUpdatesPerS: res.CellUpdatesPerS, Kernel: res.Kernel, Errors: outcomeNorms(res.Errors), Functionals: res.Functionals, Totals: outcomeTotals(res.Totals),
 	}}
 	if jb.Snapshot && res.Final != nil {
 		r.Snapshot = SnapshotOf(res.Final)

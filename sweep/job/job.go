@@ -105,4 +105,5 @@ type Outcome struct {
 	Totals          map[string]Total   `json:"totals,omitempty"`
 	Error           string             `json:"error,omitempty"`    // failure reason
 	Snapshot        string             `json:"snapshot,omitempty"` // object-store name of the field
+	Kernel          string             `json:"kernel,omitempty"`   // which solver code path ran it (fv2d: "portable")
 }
