@@ -12,20 +12,23 @@ import (
 	"strings"
 
 	"fvsweep/coordinator/datadir"
-	"fvsweep/fv2d"
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/report"
 	"fvsweep/sweep/wire"
 )
 
-const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field [flags] --out FILE
+const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field|order-map [flags] --out FILE
 
   convergence  error norm against h, log-log, one line per parameter group,
                reference slopes of order 1 and 2, fitted order in the legend
   cost         error norm against CPU seconds (work-precision), log-log
   field        heat map of a job's final field with a colour bar, or with
                --cut a line cut through it against the exact solution
+  order-map    observed order per cell of one group's nested grids (ratio 2),
+               from the snapshots of the finest two grids' errors against
+               the exact solution, or without one from the finest three
+               grids' differences; centred on the design order
 
 The extension of --out (.png or .svg) picks the format. Results come from
 the running coordinator, or from the store in --data opened read-only. A
@@ -44,6 +47,12 @@ flags:
   --var V     variable (default: the study's, else the case's first);
               field: a conserved variable, or u, v, p of an Euler case
   --norm N    l1, l2 or linf (default: the study's, else l1)
+  --group G   order-map: the group, as k=v pairs (commas or spaces between)
+              that its parameters match, or its label in the table
+  --coarse NX order-map: the nx of the map's grid, the coarsest of the grids
+              compared (default: the finest that has the grids it needs)
+  --format F  order-map: png or svg (default: from --out), or csv to write
+              x,y,order per cell (empty order: masked) to --out or stdout
 ` + commonUsage
 
 func init() {
@@ -64,6 +73,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	snapshot := fs.String("snapshot", "", "")
 	cut := fs.String("cut", "", "")
 	at := fs.String("at", "", "")
+	group := fs.String("group", "", "")
+	coarse := fs.Int("coarse", 0, "")
+	format := fs.String("format", "", "")
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep plot: "+format+"\n", a...)
 		return 2
@@ -80,20 +92,38 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return bad("%v (see fvsweep plot -h)", err)
 	}
 	if len(pos) != 2 {
-		return bad("want SWEEP and one of convergence, cost, field (see fvsweep plot -h)")
+		return bad("want SWEEP and one of convergence, cost, field, order-map (see fvsweep plot -h)")
 	}
 	name, kind := pos[0], pos[1]
-	if kind != "convergence" && kind != "cost" && kind != "field" {
-		return bad("unknown plot %q: want convergence, cost or field", kind)
+	if kind != "convergence" && kind != "cost" && kind != "field" && kind != "order-map" {
+		return bad("unknown plot %q: want convergence, cost, field or order-map", kind)
 	}
-	if *out == "" {
+	csv := *format == "csv"
+	switch {
+	case *format != "" && kind != "order-map":
+		return bad("--format is for the order map (other plots take theirs from --out)")
+	case *format != "" && !csv && *format != "png" && *format != "svg":
+		return bad("--format %q: want png, svg or csv", *format)
+	case *out == "" && !csv:
 		return bad("--out FILE is required")
 	}
-	if _, err := plots.FormatOf(*out); err != nil {
-		return bad("--out %v", err)
+	if !csv {
+		f, err := plots.FormatOf(*out)
+		if err != nil {
+			return bad("--out %v", err)
+		}
+		if *format != "" && f != *format {
+			return bad("--format %s but --out %s", *format, *out)
+		}
 	}
 	if kind != "field" && (*jobID != "" || *snapshot != "" || *cut != "" || *at != "") {
 		return bad("--job, --snapshot, --cut and --at are for the field plot")
+	}
+	if kind != "order-map" && (*group != "" || *coarse != 0) {
+		return bad("--group and --coarse are for the order map")
+	}
+	if *coarse < 0 {
+		return bad("--coarse %d: want a grid's nx", *coarse)
 	}
 	if *cut != "" && *cut != "x" && *cut != "y" {
 		return bad("--cut %q: want x or y", *cut)
@@ -110,10 +140,24 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	}
 	var d plots.Drawer
 	var notes []string
-	if kind == "field" {
-		fetch := func(ref string) ([]byte, error) { return fetchSnapshot(&c, ref) }
+	fetch := func(ref string) ([]byte, error) { return fetchSnapshot(&c, ref) }
+	switch kind {
+	case "order-map":
+		m, err := orderMapOf(sd, *studyN, *group, jf.v, *coarse, fetch)
+		if err != nil {
+			return failed(err)
+		}
+		if csv {
+			return writeOrderCSV(m, *out, stdout, stderr)
+		}
+		h, err := m.heat()
+		if err != nil {
+			return failed(err)
+		}
+		d, notes = h, h.Notes
+	case "field":
 		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
-	} else {
+	default:
 		d, notes, err = studyPlot(sd, kind, *studyN, jf.options())
 	}
 	if err != nil {
@@ -212,13 +256,8 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if hdr.JobID != jb.ID {
 		return nil, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, jb.ID)
 	}
-	var prob *fv2d.Problem
 	var notes []string
-	if vals, err := fv2d.Resolve(jb.Case, jb.Params); err == nil {
-		if c, err := fv2d.LookupCase(jb.Case); err == nil {
-			prob, _ = c.Setup(vals)
-		}
-	}
+	prob, _ := problemOf(jb)
 	if prob == nil {
 		notes = append(notes, fmt.Sprintf("case %s could not be set up here: no exact solution drawn", jb.Case))
 	}
@@ -249,6 +288,29 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		return nil, nil, err
 	}
 	return fig, append(notes, fig.Notes...), nil
+}
+
+// writeOrderCSV writes the order map as CSV to the file out, or to stdout
+// when out is "".
+func writeOrderCSV(m *orderMap, out string, stdout, stderr io.Writer) int {
+	if out == "" {
+		if err := m.writeCSV(stdout); err != nil {
+			fmt.Fprintf(stderr, "fvsweep plot: %v\n", err)
+			return 1
+		}
+		return 0
+	}
+	var b strings.Builder
+	err := m.writeCSV(&b)
+	if err == nil {
+		err = os.WriteFile(out, []byte(b.String()), 0o644)
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep plot: %v\n", err)
+		return 1
+	}
+	fmt.Fprintln(stdout, out)
+	return 0
 }
 
 // findJob returns the row whose job ID is id or starts with it, uniquely.

@@ -52,6 +52,11 @@ type Heat struct {
 	Min, Max              float64 // colour range: the finite minimum and maximum of the field
 	NonFinite             int     // cells that are NaN or infinite, drawn in nanColour
 	Notes                 []string
+	// Diverging draws with the diverging colour map, its neutral middle at
+	// (Min + Max) / 2, values beyond the range at its ends, and cells
+	// without a finite value hatched grey on white (masked) rather than
+	// magenta. DivergingHeatMap sets it.
+	Diverging bool
 }
 
 // nanColour marks cells without a finite value: magenta, which the
@@ -93,6 +98,36 @@ func HeatMap(f Field, ax Axes) (*Heat, error) {
 			d = 1
 		}
 		h.Min, h.Max = h.Min-d, h.Max+d
+	}
+	return h, nil
+}
+
+// DivergingHeatMap prepares a heat map of f on the diverging colour map
+// over [centre - span, centre + span], its neutral middle at centre (an
+// order map's design order). Values beyond the range are drawn in the
+// colour of its nearer end and counted in a note; cells without a finite
+// value are masked (hatched grey on white). It is an error when f is
+// malformed, has no finite value, or span is not positive and finite.
+func DivergingHeatMap(f Field, centre, span float64, ax Axes) (*Heat, error) {
+	if err := f.check(); err != nil {
+		return nil, fmt.Errorf("heat map: %w", err)
+	}
+	if !(span > 0) || math.IsInf(span, 0) || math.IsNaN(centre) || math.IsInf(centre, 0) {
+		return nil, fmt.Errorf("heat map: colour range %g ± %g", centre, span)
+	}
+	h, err := HeatMap(f, ax)
+	if err != nil {
+		return nil, err
+	}
+	h.Diverging, h.Min, h.Max, h.Notes = true, centre-span, centre+span, nil
+	beyond := 0
+	for _, v := range f.V {
+		if v < h.Min || v > h.Max {
+			beyond++
+		}
+	}
+	if beyond > 0 {
+		h.Notes = append(h.Notes, fmt.Sprintf("%d cells beyond the colour range [%.3g, %.3g], drawn at its ends", beyond, h.Min, h.Max))
 	}
 	return h, nil
 }

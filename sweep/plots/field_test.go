@@ -1,6 +1,8 @@
 package plots
 
 import (
+	"bytes"
+	"image/color"
 	"math"
 	"strings"
 	"testing"
@@ -134,5 +136,55 @@ func TestFromFloat32(t *testing.T) {
 	f := FromFloat32("rho", 2, 1, 0, 1, 0, 0.5, []float32{0.5, 0.25})
 	if f.V[0] != 0.5 || f.V[1] != 0.25 || f.NX != 2 || f.Y1 != 0.5 {
 		t.Errorf("%+v", f)
+	}
+}
+
+// A diverging heat map spans centre ± span whatever the data, notes the
+// cells beyond it and hatches the cells without a value.
+func TestDivergingHeatMap(t *testing.T) {
+	f := Field{Name: "order", NX: 4, NY: 1, X0: 0, X1: 4, Y0: 0, Y1: 1, V: []float64{2, -1, math.NaN(), 7}}
+	h, err := DivergingHeatMap(f, 2, 2, Axes{Title: "p"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !h.Diverging || h.Min != 0 || h.Max != 4 || len(h.Notes) != 1 || !strings.Contains(h.Notes[0], "2 cells beyond") {
+		t.Fatalf("range [%g, %g], notes %q", h.Min, h.Max, h.Notes)
+	}
+	cm := NewDiverging(h.Min, h.Max)
+	img := h.raster(cm)
+	k := img.Bounds().Dx() / 4
+	for _, tc := range []struct {
+		cell int
+		want color.NRGBA
+	}{{0, cm.colourAt(0.5)}, {1, cm.colourAt(0)}, {3, cm.colourAt(1)}} {
+		if got := img.NRGBAAt(tc.cell*k+k/2, k/2); got != tc.want {
+			t.Errorf("cell %d: %v, want %v", tc.cell, got, tc.want)
+		}
+	}
+	// The masked cell: white with grey diagonals, never magenta.
+	ink, paper := 0, 0
+	for y := range k {
+		for x := 2 * k; x < 3*k; x++ {
+			switch img.NRGBAAt(x, y) {
+			case maskInk:
+				ink++
+			case maskPaper:
+				paper++
+			default:
+				t.Fatalf("masked cell pixel (%d,%d) %v", x, y, img.NRGBAAt(x, y))
+			}
+		}
+	}
+	if ink == 0 || paper < 2*ink {
+		t.Errorf("hatching: %d ink, %d paper pixels", ink, paper)
+	}
+	var buf bytes.Buffer
+	if err := Write(&buf, "png", h); err != nil || buf.Len() == 0 {
+		t.Errorf("png: %d bytes, %v", buf.Len(), err)
+	}
+	for _, span := range []float64{0, -1, math.Inf(1), math.NaN()} {
+		if _, err := DivergingHeatMap(f, 2, span, Axes{}); err == nil {
+			t.Errorf("span %v: no error", span)
+		}
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"image"
+	"image/color"
 	"io"
 	"math"
 	"os"
@@ -14,6 +15,7 @@ import (
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/palette"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
@@ -370,8 +372,17 @@ func (h *Heat) size() (vg.Length, vg.Length) {
 	return w + vg.Points(margin) + barWidth, hh + vg.Points(margin)
 }
 
+// heatColours is a colour map of a heat map.
+type heatColours interface {
+	palette.ColorMap
+	colourAt(t float64) color.NRGBA
+}
+
 func (h *Heat) draw(c draw.Canvas) error {
-	cm := NewSequential(h.Min, h.Max)
+	var cm heatColours = NewSequential(h.Min, h.Max)
+	if h.Diverging {
+		cm = NewDiverging(h.Min, h.Max)
+	}
 	p := plot.New()
 	p.Title.Text = h.Title
 	p.Title.TextStyle.Font.Size = vg.Points(11)
@@ -414,20 +425,41 @@ func (h *Heat) draw(c draw.Canvas) error {
 // cell and cell boundaries stay sharp.
 const rasterMin = 512
 
+// maskInk and maskPaper are the hatching of masked cells of a diverging
+// heat map: thin grey diagonal lines on white, a texture no colour of the
+// map has, in colour or in grey scale.
+var (
+	maskInk   = hex("#8c8c8c")
+	maskPaper = hex("#ffffff")
+)
+
+// maskPeriod is the spacing in pixels of the hatching's diagonals.
+const maskPeriod = 4
+
 // raster paints the field with the colour map, one block of k x k pixels
 // per cell, row 0 of the image at the top (y = Y1).
-func (h *Heat) raster(cm *Sequential) *image.NRGBA {
+func (h *Heat) raster(cm heatColours) *image.NRGBA {
 	f := &h.Field
 	k := max(1, (rasterMin+max(f.NX, f.NY)-1)/max(f.NX, f.NY))
 	img := image.NewNRGBA(image.Rect(0, 0, k*f.NX, k*f.NY))
 	for j := range f.NY {
 		for i := range f.NX {
+			v := f.at(i, j)
+			finite := !math.IsNaN(v) && !math.IsInf(v, 0)
 			c := nanColour
-			if v := f.at(i, j); !math.IsNaN(v) && !math.IsInf(v, 0) {
+			if finite {
 				c = cm.colourAt((v - h.Min) / (h.Max - h.Min))
 			}
 			for y := (f.NY - 1 - j) * k; y < (f.NY-j)*k; y++ {
 				for x := i * k; x < (i+1)*k; x++ {
+					if !finite && h.Diverging {
+						// Hatched by image coordinates, so that the lines run
+						// on across neighbouring masked cells.
+						c = maskPaper
+						if (x+y)%maskPeriod == 0 {
+							c = maskInk
+						}
+					}
 					img.SetNRGBA(x, y, c)
 				}
 			}

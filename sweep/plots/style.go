@@ -102,15 +102,15 @@ var seqControl = []color.NRGBA{
 // values, light for high ones, lightness increasing monotonically. It
 // implements palette.ColorMap.
 type Sequential struct {
-	min, max float64
-	alpha    float64
-	pts      []lab
-	at       []float64 // parameter of each control point in [0, 1]
+	colourRamp
+	pts []lab
+	at  []float64 // parameter of each control point in [0, 1]
 }
 
 // NewSequential returns the colour map over [min, max].
 func NewSequential(min, max float64) *Sequential {
-	s := &Sequential{min: min, max: max, alpha: 1}
+	s := &Sequential{colourRamp: colourRamp{min: min, max: max, alpha: 1}}
+	s.lab = s.labAt
 	for _, c := range seqControl {
 		s.pts = append(s.pts, srgbToLab(c))
 	}
@@ -134,16 +134,24 @@ func (s *Sequential) labAt(t float64) lab {
 	return lab{L: a.L + w*(b.L-a.L), A: a.A + w*(b.A-a.A), B: a.B + w*(b.B-a.B)}
 }
 
+// colourRamp is what the colour maps share: the value range, the alpha and the
+// colour at a parameter t in [0, 1], low values at 0.
+type colourRamp struct {
+	min, max float64
+	alpha    float64
+	lab      func(t float64) lab
+}
+
 // colourAt returns the 8-bit colour at parameter t in [0, 1] (clamped).
-func (s *Sequential) colourAt(t float64) color.NRGBA {
-	c := labToSRGB(s.labAt(t))
+func (s *colourRamp) colourAt(t float64) color.NRGBA {
+	c := labToSRGB(s.lab(t))
 	c.A = uint8(math.Round(255 * s.alpha))
 	return c
 }
 
 // At returns the colour of value v; values outside [min, max] are an error
 // as palette.ColorMap requires.
-func (s *Sequential) At(v float64) (color.Color, error) {
+func (s *colourRamp) At(v float64) (color.Color, error) {
 	switch {
 	case math.IsNaN(v):
 		return nil, fmt.Errorf("plots: colour map: NaN value")
@@ -158,15 +166,16 @@ func (s *Sequential) At(v float64) (color.Color, error) {
 	return s.colourAt((v - s.min) / (s.max - s.min)), nil
 }
 
-func (s *Sequential) Max() float64           { return s.max }
-func (s *Sequential) Min() float64           { return s.min }
-func (s *Sequential) SetMax(v float64)       { s.max = v }
-func (s *Sequential) SetMin(v float64)       { s.min = v }
-func (s *Sequential) Alpha() float64         { return s.alpha }
-func (s *Sequential) SetAlpha(alpha float64) { s.alpha = alpha }
+func (s *colourRamp) Max() float64           { return s.max }
+func (s *colourRamp) Min() float64           { return s.min }
+func (s *colourRamp) SetMax(v float64)       { s.max = v }
+func (s *colourRamp) SetMin(v float64)       { s.min = v }
+func (s *colourRamp) Alpha() float64         { return s.alpha }
+func (s *colourRamp) SetAlpha(alpha float64) { s.alpha = alpha }
 
-// Palette returns n colours evenly spaced from the dark end to the light end.
-func (s *Sequential) Palette(n int) palette.Palette {
+// Palette returns n colours evenly spaced from the low end to the high
+// end (for the sequential map, dark to light).
+func (s *colourRamp) Palette(n int) palette.Palette {
 	cs := make([]color.Color, n)
 	for i := range cs {
 		t := 0.0
@@ -181,3 +190,43 @@ func (s *Sequential) Palette(n int) palette.Palette {
 type colours []color.Color
 
 func (c colours) Colors() []color.Color { return c }
+
+// The diverging colour map of maps around a reference value (an order
+// map's design order), our own control points: a blue arm below the
+// centre and a brick-red arm above it, both ending at CIE L* about 39,
+// meeting at a light neutral grey in the middle. Each arm is interpolated
+// in L*a*b*, so lightness falls linearly and equally on both sides of the
+// centre: the distance from the centre reads the same in grey scale.
+var (
+	divLow    = hex("#2e5aa8")
+	divCentre = hex("#f7f7f7")
+	divHigh   = hex("#a13b2a")
+)
+
+// Diverging is the colour map over [min, max] with its light neutral
+// middle at (min + max) / 2: blue below, brick red above, darker with the
+// distance from the middle. It implements palette.ColorMap.
+type Diverging struct {
+	colourRamp
+	low, mid, high lab
+}
+
+// NewDiverging returns the diverging colour map over [min, max].
+func NewDiverging(min, max float64) *Diverging {
+	d := &Diverging{colourRamp: colourRamp{min: min, max: max, alpha: 1},
+		low: srgbToLab(divLow), mid: srgbToLab(divCentre), high: srgbToLab(divHigh)}
+	d.lab = d.labAt
+	return d
+}
+
+// labAt returns the colour at parameter t in [0, 1] (clamped), the middle
+// at t = 1/2.
+func (d *Diverging) labAt(t float64) lab {
+	t = math.Min(1, math.Max(0, t))
+	end, w := d.high, 2*t-1
+	if t < 0.5 {
+		end, w = d.low, 1-2*t
+	}
+	a := d.mid
+	return lab{L: a.L + w*(end.L-a.L), A: a.A + w*(end.A-a.A), B: a.B + w*(end.B-a.B)}
+}

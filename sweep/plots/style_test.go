@@ -189,3 +189,55 @@ func TestStylesUnique(t *testing.T) {
 		}
 	}
 }
+
+// The diverging map reads the same distance from its centre the same on
+// both sides: (1) L* of the displayable colours falls strictly from the
+// centre towards each end and is equal (within 1) at equal distances, so
+// grey scale keeps the distance; the centre is the lightest and neutral
+// (chroma below 3); (2) the two sides stay apart in hue for normal,
+// protanope and deuteranope vision (Viénot et al. 1999, as above): CIE76
+// ΔE at least 40 between the ends and 15 between the quarter points.
+func TestDivergingSymmetric(t *testing.T) {
+	cm := NewDiverging(0, 4)
+	const n = 2048
+	disp := func(t float64) lab { return linearToLab(labToLinear(cm.labAt(t))) }
+	mid := disp(0.5)
+	if math.Hypot(mid.A, mid.B) > 3 || mid.L < 90 {
+		t.Errorf("centre L*a*b* %+v: want light and neutral", mid)
+	}
+	prevLo, prevHi := mid.L, mid.L
+	for i := 1; i <= n; i++ {
+		d := 0.5 * float64(i) / n
+		lo, hi := disp(0.5-d), disp(0.5+d)
+		if lo.L >= prevLo || hi.L >= prevHi {
+			t.Fatalf("distance %.4f: L* %.3f / %.3f does not fall from %.3f / %.3f", d, lo.L, hi.L, prevLo, prevHi)
+		}
+		if math.Abs(lo.L-hi.L) > 1 {
+			t.Errorf("distance %.4f: L* %.2f below, %.2f above the centre", d, lo.L, hi.L)
+		}
+		prevLo, prevHi = lo.L, hi.L
+	}
+	if prevLo > 45 {
+		t.Errorf("ends at L* %.1f: too light to stand out", prevLo)
+	}
+	for _, kind := range []byte{0, 'p', 'd'} {
+		for _, tc := range []struct{ d, min float64 }{{0.5, 40}, {0.25, 15}} {
+			a, b := cm.colourAt(0.5-tc.d), cm.colourAt(0.5+tc.d)
+			la, lb := srgbToLab(a), srgbToLab(b)
+			if kind != 0 {
+				la, lb = vienot(t, a, kind), vienot(t, b, kind)
+			}
+			if got := deltaE(la, lb); got < tc.min {
+				t.Errorf("vision %q, %.2f either side of the centre: ΔE %.1f < %g", kind, tc.d, got, tc.min)
+			}
+		}
+	}
+	// At() maps the range onto the parameter: the middle value is the centre.
+	c, err := cm.At(2)
+	if err != nil || c != cm.colourAt(0.5) {
+		t.Errorf("At(2) = %v, %v", c, err)
+	}
+	if _, err := cm.At(-0.1); err == nil {
+		t.Error("At(-0.1) on [0,4]: no error")
+	}
+}
