@@ -29,8 +29,8 @@ type Config struct {
 	Batch int
 	Flush time.Duration
 	// ParseSpec turns a submitted spec (file name for messages, TOML text)
-	// into a Spec; submit requests over NATS fail without it.
-	ParseSpec func(file, source string) (*spec.Spec, error)
+	// into a checked Plan; submit requests over NATS fail without it.
+	ParseSpec func(file, source string) (*spec.Plan, error)
 	// OnStored, if set, is called after each batch of outcomes is stored.
 	OnStored func([]job.Outcome)
 	Log      hclog.Logger

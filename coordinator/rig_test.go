@@ -72,8 +72,8 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 	r.stop = cancel
 	r.coord, err = coordinator.New(ctx, r.nc, r.db, coordinator.Config{
 		Names: r.names, Delivery: d, Log: testLog(t, "coordinator"),
-		ParseSpec: func(file, src string) (*spec.Spec, error) {
-			return spec.Parse(file, []byte(src), spec.DefaultLimits())
+		ParseSpec: func(file, src string) (*spec.Plan, error) {
+			return spec.LoadSource(file, []byte(src), spec.DefaultLimits())
 		},
 	})
 	if err != nil {
@@ -154,9 +154,9 @@ func (r *rig) close() {
 	}
 }
 
-func (r *rig) spec(src string) *spec.Spec {
+func (r *rig) spec(src string) *spec.Plan {
 	r.t.Helper()
-	s, err := spec.Parse("test.toml", []byte(src), spec.DefaultLimits())
+	s, err := spec.LoadSource("test.toml", []byte(src), spec.DefaultLimits())
 	if err != nil {
 		r.t.Fatal(err)
 	}

@@ -30,10 +30,10 @@ const submitChunk = 4096
 // spec twice queues nothing new: stored jobs are skipped, and a job still
 // queued or running is refused by the stream (one message per job subject).
 //
-// The expansion is streamed (Spec.Each): jobs are recorded (one
+// The expansion is streamed (Plan.Each): jobs are recorded (one
 // transaction per chunk of submitChunk) and queued a chunk at a time, so
 // that a large sweep is never held in memory whole.
-func (c *Coordinator) Submit(ctx context.Context, sp *spec.Spec, retryFailed bool) (wire.SubmitReply, error) {
+func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed bool) (wire.SubmitReply, error) {
 	rep := wire.SubmitReply{Sweep: sp.Name}
 	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source, Studies: sp.Settings()}
 	defer c.bump()

@@ -174,7 +174,7 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 		}
 	}()
 
-	sp, err := spec.Parse("cluster.toml", []byte(`name = "cluster"
+	sp, err := spec.LoadSource("cluster.toml", []byte(`name = "cluster"
 [[study]]
 case = "burgers-sine"
 fixed = { t_end = 0.05 }

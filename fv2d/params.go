@@ -190,25 +190,26 @@ func Resolve(name string, kv map[string]string) (Values, error) {
 	if err != nil {
 		return Values{}, err
 	}
-	params := ParamsOf(c)
-	byName := make(map[string]Param, len(params))
-	for _, p := range params {
-		byName[p.Name] = p
-	}
-	m := make(map[string]string, len(params))
+	params := caseParams{own: c.Params(), common: &commonTables[c.Equation()]}
+	m := make(map[string]string, len(params.common.list)+len(params.own))
 	for _, k := range sortedKeys(kv) {
-		p, ok := byName[k]
+		p, ok := params.get(k)
 		if !ok {
-			return Values{}, fmt.Errorf("case %s: unknown parameter %q (known: %s)", name, k, strings.Join(paramNames(params), " "))
+			return Values{}, fmt.Errorf("case %s: unknown parameter %q (known: %s)", name, k, strings.Join(paramNames(ParamsOf(c)), " "))
 		}
 		if err := p.Check(kv[k]); err != nil {
 			return Values{}, fmt.Errorf("case %s: %w", name, err)
 		}
 		m[k] = p.Canon(kv[k])
 	}
-	for _, p := range params {
+	for _, p := range params.own {
 		if _, ok := m[p.Name]; !ok {
 			m[p.Name] = p.Canon(p.Default)
+		}
+	}
+	for i, p := range params.common.list {
+		if _, ok := m[p.Name]; !ok {
+			m[p.Name] = params.common.defaults[i]
 		}
 	}
 	v := Values{Case: name, m: m}
@@ -220,7 +221,7 @@ func Resolve(name string, kv map[string]string) (Values, error) {
 	if cc, ok := c.(Completer); ok {
 		set := cc.Complete(v)
 		for _, k := range sortedKeys(set) {
-			p, ok := byName[k]
+			p, ok := params.get(k)
 			if !ok {
 				return Values{}, fmt.Errorf("case %s: completion sets unknown parameter %q", name, k)
 			}
@@ -231,6 +232,52 @@ func Resolve(name string, kv map[string]string) (Values, error) {
 		}
 	}
 	return v, nil
+}
+
+// paramTable is a parameter list with its index by name and the canonical
+// spelling of each default.
+type paramTable struct {
+	list     []Param
+	index    map[string]int
+	defaults []string // defaults[i] is list[i].Canon(list[i].Default)
+}
+
+func newParamTable(ps []Param) paramTable {
+	t := paramTable{list: ps, index: make(map[string]int, len(ps)), defaults: make([]string, len(ps))}
+	for i, p := range ps {
+		t.index[p.Name] = i
+		t.defaults[i] = p.Canon(p.Default)
+	}
+	return t
+}
+
+// commonTables holds CommonParams of each equation, built once when the
+// package is initialised (the limiter and flux tables it names are fixed by
+// then) and only read afterwards: Resolve runs once per run of a sweep, and
+// rebuilding the list there took about a tenth of checking a large spec.
+var commonTables = [...]paramTable{
+	Burgers: newParamTable(CommonParams(Burgers)),
+	Euler:   newParamTable(CommonParams(Euler)),
+}
+
+// caseParams are the parameters of one case as ParamsOf lists them (the
+// common ones of its equation, overridden and extended by the case's own),
+// without building that list.
+type caseParams struct {
+	own    []Param
+	common *paramTable
+}
+
+func (cp caseParams) get(name string) (Param, bool) {
+	for _, p := range cp.own {
+		if p.Name == name {
+			return p, true
+		}
+	}
+	if i, ok := cp.common.index[name]; ok {
+		return cp.common.list[i], true
+	}
+	return Param{}, false
 }
 
 // Completer is a case some of whose parameters follow from others: a preset

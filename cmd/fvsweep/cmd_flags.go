@@ -210,17 +210,17 @@ func (c *common) specLimits() spec.Limits {
 }
 
 // loadSpec reads and checks a spec file against c's limits.
-func (c *common) loadSpec(path string) (*spec.Spec, error) {
+func (c *common) loadSpec(path string) (*spec.Plan, error) {
 	return spec.Load(path, c.specLimits())
 }
 
 // parseSpec is the coordinator's parser of submitted specs, with c's limits.
-func (c *common) parseSpec(file, src string) (*spec.Spec, error) {
-	return spec.Parse(file, []byte(src), c.specLimits())
+func (c *common) parseSpec(file, src string) (*spec.Plan, error) {
+	return spec.LoadSource(file, []byte(src), c.specLimits())
 }
 
 // parseStoredSpec parses a spec already stored, to read its study settings:
 // it was checked when it was submitted, so no limit applies again.
-func parseStoredSpec(file, src string) (*spec.Spec, error) {
-	return spec.Parse(file, []byte(src), spec.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
+func parseStoredSpec(file, src string) (*spec.Plan, error) {
+	return spec.LoadSource(file, []byte(src), spec.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
 }

@@ -55,20 +55,15 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return bad("%v", err)
 	}
-	sp, err := spec.Load(files[0], lim)
-	if err != nil {
-		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
-		return 1
-	}
-	pl, err := sp.Plan()
+	pl, err := spec.Load(files[0], lim)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 		return 1
 	}
 	if *asJSON {
-		err = spec.WritePlanJSON(stdout, sp, pl)
+		err = spec.WritePlanJSON(stdout, pl)
 	} else {
-		err = spec.WritePlan(stdout, sp, pl)
+		err = spec.WritePlan(stdout, pl)
 	}
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)

@@ -35,7 +35,7 @@ snapshot = true
 // file. It returns the data directory, that job's ID and the snapshot path.
 func plotRig(t *testing.T) (dir, jobID, snap string) {
 	t.Helper()
-	sp, err := spec.Parse("pics.toml", []byte(plotTestSpec), spec.Limits{})
+	sp, err := spec.LoadSource("pics.toml", []byte(plotTestSpec), spec.Limits{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -100,7 +100,7 @@ func (r *pageRig) addWorker(conc int, run worker.Runner) {
 
 func (r *pageRig) submit(src string) {
 	r.t.Helper()
-	sp, err := spec.Parse("test.toml", []byte(src), spec.DefaultLimits())
+	sp, err := spec.LoadSource("test.toml", []byte(src), spec.DefaultLimits())
 	if err != nil {
 		r.t.Fatal(err)
 	}

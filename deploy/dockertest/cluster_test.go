@@ -68,7 +68,7 @@ func TestDockerCluster(t *testing.T) {
 	if err != nil || code != 0 {
 		t.Fatalf("submit: exit %d, %v: %s", code, err, out)
 	}
-	sp, err := spec.Parse("spec.toml", []byte(clusterSpec), spec.DefaultLimits())
+	sp, err := spec.LoadSource("spec.toml", []byte(clusterSpec), spec.DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}

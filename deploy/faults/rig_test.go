@@ -215,7 +215,7 @@ func (r *rig) writeSpec(src string) (string, string, map[string]job.Job) {
 	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
 		r.t.Fatal(err)
 	}
-	sp, err := spec.Parse(path, []byte(src), spec.DefaultLimits())
+	sp, err := spec.LoadSource(path, []byte(src), spec.DefaultLimits())
 	if err != nil {
 		r.t.Fatal(err)
 	}

@@ -38,7 +38,7 @@ refine = { nx = [16, 32] }
 // except one failed job and one left pending.
 func fakeOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) {
 	t.Helper()
-	sp, err := spec.Parse("rep.toml", []byte(testSpec), spec.Limits{})
+	sp, err := spec.LoadSource("rep.toml", []byte(testSpec), spec.Limits{})
 	var jobs []job.Job
 	if err == nil {
 		jobs, err = sp.Expand()
@@ -65,7 +65,7 @@ func fakeOutcomes(t *testing.T) (*spec.Spec, []job.Job, map[string]job.Outcome) 
 		}
 		outs[j.ID] = o
 	}
-	return sp, jobs, outs
+	return sp.Spec, jobs, outs
 }
 
 func TestBuildTables(t *testing.T) {

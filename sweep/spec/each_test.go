@@ -52,12 +52,12 @@ func resolveAll(t *testing.T, s *Spec) []job.Job {
 
 // Each (and Expand on it) gives exactly the jobs of the definition, in the
 // same order, for the test specs and every example config; so does a
-// study that Parse did not check (resolved run by run).
+// second Check of the same spec (Check keeps nothing in it).
 func TestEachMatchesResolve(t *testing.T) {
-	specs := map[string]*Spec{
-		"good": mustParse(t, goodSpec, DefaultLimits()),
-		"dup":  mustParse(t, dupSpec, DefaultLimits()),
-		"tube": mustParse(t, tubeSpec, DefaultLimits()),
+	specs := map[string]*Plan{
+		"good": mustLoad(t, goodSpec, DefaultLimits()),
+		"dup":  mustLoad(t, dupSpec, DefaultLimits()),
+		"tube": mustLoad(t, tubeSpec, DefaultLimits()),
 	}
 	files, _ := filepath.Glob("../../configs/*.toml")
 	for _, f := range files {
@@ -68,7 +68,7 @@ func TestEachMatchesResolve(t *testing.T) {
 		specs[f] = s
 	}
 	for name, s := range specs {
-		want := resolveAll(t, s)
+		want := resolveAll(t, s.Spec)
 		got, err := s.Expand()
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
@@ -82,19 +82,47 @@ func TestEachMatchesResolve(t *testing.T) {
 				}
 			}
 		}
-		for i := range s.Studies {
-			s.Studies[i].costs = nil
+		pl, err := Check(s.Spec, DefaultLimits())
+		if err != nil {
+			t.Fatalf("%s: second Check: %v", name, err)
 		}
-		if again, err := s.Expand(); err != nil || !reflect.DeepEqual(again, want) {
-			t.Errorf("%s: unchecked studies: %d jobs, %v", name, len(again), err)
+		if again, err := pl.Expand(); err != nil || !reflect.DeepEqual(again, want) {
+			t.Errorf("%s: second Check: %d jobs, %v", name, len(again), err)
 		}
+	}
+}
+
+// A spec built by hand with values in other spellings than Parse's
+// canonical ones ("0.50", "08") plans the same jobs: Check canonicalises
+// through fv2d.Resolve and trusts nothing of Parse.
+func TestCheckCanonicalises(t *testing.T) {
+	src := study("case = \"spec-test-case\"\naxes = { cfl = [0.5, 0.25] }\ntogether = [{ amp = [0.2, 0.3] }]\nrefine = { nx = [8, 16] }\n")
+	want, err := mustLoad(t, src, DefaultLimits()).Expand()
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := Parse("test.toml", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := &s.Studies[0]
+	st.Axes[0].Values = []string{"0.50", "2.5e-1"}
+	st.Together[0][0].Values = []string{"0.20", " 0.3"}
+	st.Grid[0].Values = []string{"08", "16"}
+	pl, err := Check(s, DefaultLimits())
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := pl.Expand()
+	if err != nil || !reflect.DeepEqual(got, want) {
+		t.Errorf("hand-written values: %d jobs, %v; want the %d jobs of the parsed spec", len(got), err, len(want))
 	}
 }
 
 // Each stops at fn's first error and returns it; a job's Params map is its
 // own.
 func TestEachStops(t *testing.T) {
-	s := mustParse(t, goodSpec, DefaultLimits())
+	s := mustLoad(t, goodSpec, DefaultLimits())
 	stop := errors.New("stop")
 	n := 0
 	err := s.Each(func(j job.Job) error {
@@ -115,17 +143,19 @@ func TestEachStops(t *testing.T) {
 	}
 }
 
-// A study that Parse did not check, with a run that the case refuses,
-// fails with the study and the run named.
-func TestEachUncheckedBadRun(t *testing.T) {
-	s := mustParse(t, study("case = \"spec-test-case\"\naxes = { test = [2, 1], amp = [0.2, 0.9] }\n"), DefaultLimits())
-	st := &s.Studies[0]
-	st.costs = nil
-	st.Axes[0].Values[1] = "3" // test = 3 needs amp <= 0.5
-	err := s.Each(func(job.Job) error { return nil })
-	if err == nil || !strings.Contains(err.Error(), "test 3 needs amp") || !strings.Contains(err.Error(), "study 1") ||
-		!strings.Contains(err.Error(), "amp=0.9 test=3") {
-		t.Fatalf("Each = %v, want the refused run named", err)
+// A spec changed by hand after Parse, with a run that the case refuses,
+// fails Check with the study and the run named.
+func TestCheckBadRun(t *testing.T) {
+	s, err := Parse("test.toml", []byte(study("case = \"spec-test-case\"\naxes = { test = [2, 1], amp = [0.2, 0.9] }\n")))
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.Studies[0].Axes[0].Values[1] = "3" // test = 3 needs amp <= 0.5
+	pl, err := Check(s, DefaultLimits())
+	var se *Error
+	if pl != nil || !errors.As(err, &se) || !strings.Contains(err.Error(), "test 3 needs amp") ||
+		!strings.Contains(err.Error(), "study 1") || !strings.Contains(err.Error(), "amp=0.9 test=3") {
+		t.Fatalf("Check = %v, %v; want a *Error naming the refused run", pl, err)
 	}
 }
 
@@ -149,7 +179,7 @@ refine = { nx = [8, 16] }
 // (configuration's) states and final time, not those of run 0: Toro (2009)
 // ch. 4 tests 1 and 3 (recalled from memory; docs/references.md §1); Lax &
 // Liu (1998) configurations 3 and 6 (recalled from memory; §8 there).
-// The same holds for a study that Parse did not check.
+// The same holds for a second Check of the spec.
 func TestExpandPresetAxis(t *testing.T) {
 	want := map[string]map[string]string{
 		"test=1":   {"rho_l": "1", "p_l": "1", "rho_r": "0.125", "p_r": "0.1", "t_end": "0.25"},
@@ -157,7 +187,7 @@ func TestExpandPresetAxis(t *testing.T) {
 		"config=3": {"rho_sw": "0.138", "p_sw": "0.029", "t_end": "0.3"},
 		"config=6": {"rho_nw": "2", "rho_se": "3", "p_sw": "1", "t_end": "0.3"},
 	}
-	s := mustParse(t, tubeSpec, DefaultLimits())
+	s := mustLoad(t, tubeSpec, DefaultLimits())
 	for pass := range 2 {
 		jobs, err := s.Expand()
 		if err != nil {
@@ -182,8 +212,9 @@ func TestExpandPresetAxis(t *testing.T) {
 		if seen["test=1"] != 4 || seen["test=3"] != 4 || seen["config=3"] != 2 || seen["config=6"] != 2 {
 			t.Errorf("pass %d: jobs per preset %v, want 4 4 2 2", pass, seen)
 		}
-		for i := range s.Studies {
-			s.Studies[i].costs = nil
+		var err2 error
+		if s, err2 = Check(s.Spec, DefaultLimits()); err2 != nil {
+			t.Fatal(err2)
 		}
 	}
 }

@@ -1,7 +1,6 @@
 package spec
 
 import (
-	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
@@ -85,14 +84,13 @@ func (st *Study) isGrid(name string) bool {
 	return false
 }
 
-// Expand returns every job of the spec, one per distinct run: a run that two
-// studies share is kept once, with the first study's identity (its Snapshot
-// is set if any of them asks for one). Jobs are sorted by Cost, largest
-// first, then by ID, so that big runs are dispatched first. It holds every
-// job at once; Each streams them in the same order.
-func (s *Spec) Expand() ([]job.Job, error) {
-	var jobs []job.Job
-	err := s.Each(func(j job.Job) error {
+// Expand returns every job of the plan, one per distinct run (see Check),
+// sorted by cost, largest first, then by ID, so that big runs are
+// dispatched first. It holds every job at once; Each streams them in the
+// same order.
+func (pl *Plan) Expand() ([]job.Job, error) {
+	jobs := make([]job.Job, 0, len(pl.order))
+	err := pl.Each(func(j job.Job) error {
 		jobs = append(jobs, j)
 		return nil
 	})
@@ -103,33 +101,27 @@ func (s *Spec) Expand() ([]job.Job, error) {
 }
 
 // Each calls fn with every job of Expand, in the same order, one at a time,
-// and stops at the first error fn returns (Each returns it). An error in
-// the spec is returned before the first call of fn. Each keeps about 60
-// bytes per distinct run, not the jobs: a first pass computes each run's ID
-// and cost and sorts those, a second builds each job from its run index
-// just before fn gets it. fn owns the job (its Params map is its own).
-func (s *Spec) Each(fn func(job.Job) error) error {
-	tabs := make([]*runTable, len(s.Studies))
-	for i := range s.Studies {
-		t, err := newRunTable(&s.Studies[i])
+// and stops at the first error fn returns (Each returns it). It builds each
+// job from the plan's run index just before fn gets it, keeping none. fn
+// owns the job (its Params map is its own).
+func (pl *Plan) Each(fn func(job.Job) error) error {
+	tabs := make([]*runTable, len(pl.Studies))
+	for i := range pl.Studies {
+		t, err := newRunTable(&pl.Studies[i])
 		if err != nil {
-			return fmt.Errorf("spec %s: %w", s.File, err)
+			return fmt.Errorf("spec %s: %w", pl.File, err)
 		}
 		tabs[i] = t
 	}
-	order, err := s.order(tabs)
-	if err != nil {
-		return err
-	}
 	var idx []int
-	for _, e := range order {
+	for _, e := range pl.order {
 		t := tabs[e.study]
 		idx = t.at(e.run, idx)
 		if err := t.load(idx); err != nil {
-			return fmt.Errorf("spec %s: %w", s.File, err)
+			return fmt.Errorf("spec %s: %w", pl.File, err)
 		}
 		st := t.st
-		j := job.Job{ID: hex.EncodeToString(e.id[:]), Sweep: s.Name, Study: st.Index, Case: st.Case,
+		j := job.Job{ID: hex.EncodeToString(e.id[:]), Sweep: pl.Name, Study: st.Index, Case: st.Case,
 			Params: t.params(idx), Refine: st.Refine, Group: t.group(idx), Cost: e.cost, Snapshot: e.snap}
 		if err := fn(j); err != nil {
 			return err
@@ -138,64 +130,15 @@ func (s *Spec) Each(fn func(job.Job) error) error {
 	return nil
 }
 
-// run is one distinct run in the first pass of Each.
-type run struct {
-	cost  float64
-	id    [16]byte // JobID, undecoded
-	run   int      // index in its study's expansion order
-	study int32    // index into Spec.Studies
-	snap  bool
-}
-
-// order lists the distinct runs of s, largest cost first, then by ID: the
-// first study to have a run gives it its identity, and it is a snapshot if
-// any study asks for one.
-func (s *Spec) order(tabs []*runTable) ([]run, error) {
-	seen := make(map[[16]byte]int, min(s.Count(), 1<<20))
-	var out []run
-	for i, t := range tabs {
-		err := t.walk(func(k int, idx []int) error {
-			id := t.id(idx)
-			if at, dup := seen[id]; dup {
-				out[at].snap = out[at].snap || t.st.Snapshot
-				return nil
-			}
-			c, err := t.cost(k, idx)
-			if err != nil {
-				return err
-			}
-			seen[id] = len(out)
-			out = append(out, run{cost: c.Work(), id: id, run: k, study: int32(i), snap: t.st.Snapshot})
-			return nil
-		})
-		if err != nil {
-			return nil, fmt.Errorf("spec %s: %w", s.File, err)
-		}
-	}
-	slices.SortFunc(out, func(a, b run) int {
-		switch {
-		case a.cost > b.cost:
-			return -1
-		case a.cost < b.cost:
-			return 1
-		}
-		return bytes.Compare(a.id[:], b.id[:]) // the order of the hex IDs
-	})
-	return out, nil
-}
-
 // runTable gives the canonical parameters of any run of a study from its
 // index, without calling fv2d.Resolve per run: a run's values are those of
 // run 0 (fixed values and defaults included) with each dimension's axes at
-// that run's position, each axis value canonicalised once. Parse has
-// resolved and checked every run; a study it did not check (no cost
-// estimates) is resolved run by run as the runs are walked. A case that
+// that run's position, each axis value canonicalised once. A case that
 // completes its values (fv2d.Completer: test=N sets the states) breaks the
 // rule "run 0 plus the axes", so its runs are resolved one by one: load
 // resolves the run at a position, and value then reads that run's values.
 type runTable struct {
 	st       *Study
-	checked  bool
 	complete bool        // the case is an fv2d.Completer: resolve each run
 	cur      fv2d.Values // complete: the run load resolved
 	dims     [][]Axis
@@ -214,7 +157,7 @@ type flatAxis struct {
 }
 
 func newRunTable(st *Study) (*runTable, error) {
-	t := &runTable{st: st, dims: st.dims(), checked: len(st.costs) == st.Count(), complete: fv2d.IsCompleter(st.Case)}
+	t := &runTable{st: st, dims: st.dims(), complete: fv2d.IsCompleter(st.Case)}
 	kv := st.kv(make([]int, len(t.dims)), nil)
 	v0, err := fv2d.Resolve(st.Case, kv)
 	if err != nil {
@@ -228,22 +171,17 @@ func newRunTable(st *Study) (*runTable, error) {
 		t.grid = append(t.grid, st.isGrid(name))
 		t.axis = append(t.axis, -1)
 	}
-	// Parse keeps canonical values. In a study it did not check, the
-	// run with dimension d at position p and the others at 0 canonicalises
-	// the values of d's axes at p.
+	// The run with dimension d at position p and the others at 0
+	// canonicalises the values of d's axes at p.
 	idx := make([]int, len(t.dims))
 	for d, axes := range t.dims {
 		first := len(t.flat)
 		for _, a := range axes {
 			t.axis[pos[a.Name]] = len(t.flat)
-			f := flatAxis{dim: d, values: a.Values}
-			if !t.checked {
-				f.values = make([]string, len(a.Values))
-			}
-			t.flat = append(t.flat, f)
+			t.flat = append(t.flat, flatAxis{dim: d, values: make([]string, len(a.Values))})
 		}
 		for p := range axes[0].Values {
-			if t.checked || t.complete {
+			if t.complete {
 				break
 			}
 			idx[d] = p
@@ -380,87 +318,4 @@ func (t *runTable) params(idx []int) map[string]string {
 		m[name] = t.value(k, idx)
 	}
 	return m
-}
-
-// cost is the estimate of run k at idx: Parse's, or for a study it
-// did not check, from resolving the run now.
-func (t *runTable) cost(k int, idx []int) (fv2d.Cost, error) {
-	if t.checked {
-		return t.st.costs[k], nil
-	}
-	if t.complete {
-		return fv2d.Estimate(t.cur), nil
-	}
-	t.kv = t.st.kv(idx, t.kv)
-	v, err := fv2d.Resolve(t.st.Case, t.kv)
-	if err != nil {
-		return fv2d.Cost{}, fmt.Errorf("study %d: %w (at %s)", t.st.Index, err, t.st.point(t.kv))
-	}
-	return fv2d.Estimate(v), nil
-}
-
-// Plan is the expansion of a spec summarised per study.
-type Plan struct {
-	Sweep   string
-	Studies []StudyPlan
-	Runs    int     // runs of all studies, before deduplication
-	Jobs    int     // distinct runs: what a sweep submits
-	Cost    float64 // estimated cell updates of the distinct runs
-}
-
-// StudyPlan summarises one study's runs.
-type StudyPlan struct {
-	Study *Study
-	Runs  int
-	Cost  float64  // estimated cell updates (cells x steps) of its runs
-	Share float64  // Cost as a fraction of the sum over all studies
-	Grids []string // distinct "NXxNY" grids in expansion order
-}
-
-// Plan expands s and summarises it per study without keeping the jobs.
-func (s *Spec) Plan() (*Plan, error) {
-	pl := &Plan{Sweep: s.Name}
-	seen := map[[16]byte]bool{}
-	sum := 0.0
-	for i := range s.Studies {
-		sp := StudyPlan{Study: &s.Studies[i]}
-		t, err := newRunTable(sp.Study)
-		if err != nil {
-			return nil, fmt.Errorf("spec %s: %w", s.File, err)
-		}
-		nx, _ := slices.BinarySearch(t.keys, "nx")
-		ny, _ := slices.BinarySearch(t.keys, "ny")
-		grids := map[string]bool{}
-		err = t.walk(func(k int, idx []int) error {
-			c, err := t.cost(k, idx)
-			if err != nil {
-				return err
-			}
-			w := c.Work()
-			sp.Runs++
-			sp.Cost += w
-			if g := t.value(nx, idx) + "x" + t.value(ny, idx); !grids[g] {
-				grids[g] = true
-				sp.Grids = append(sp.Grids, g)
-			}
-			if id := t.id(idx); !seen[id] {
-				seen[id] = true
-				pl.Jobs++
-				pl.Cost += w
-			}
-			return nil
-		})
-		if err != nil {
-			return nil, fmt.Errorf("spec %s: %w", s.File, err)
-		}
-		pl.Runs += sp.Runs
-		sum += sp.Cost
-		pl.Studies = append(pl.Studies, sp)
-	}
-	for i := range pl.Studies {
-		if sum > 0 {
-			pl.Studies[i].Share = pl.Studies[i].Cost / sum
-		}
-	}
-	return pl, nil
 }

@@ -11,7 +11,7 @@ import (
 
 func TestExpandCounts(t *testing.T) {
 	// Study 1: 3 limiters x 2 schemes (crossed) x 2 (flux, amp) pairs x 3 grids = 36.
-	s := mustParse(t, goodSpec, DefaultLimits())
+	s := mustLoad(t, goodSpec, DefaultLimits())
 	jobs, err := s.Expand()
 	if err != nil {
 		t.Fatal(err)
@@ -68,7 +68,7 @@ func TestExpandCounts(t *testing.T) {
 }
 
 func TestExpandIDsAndOrder(t *testing.T) {
-	s := mustParse(t, goodSpec, DefaultLimits())
+	s := mustLoad(t, goodSpec, DefaultLimits())
 	jobs, _ := s.Expand()
 	ids := map[string]bool{}
 	for i, j := range jobs {
@@ -95,7 +95,7 @@ func TestExpandIDsAndOrder(t *testing.T) {
 		t.Errorf("first job is on nx=%s, want the largest grid first", jobs[0].Params["nx"])
 	}
 	// The same spec again gives the same jobs in the same order.
-	again, _ := mustParse(t, goodSpec, DefaultLimits()).Expand()
+	again, _ := mustLoad(t, goodSpec, DefaultLimits()).Expand()
 	for i := range jobs {
 		if again[i].ID != jobs[i].ID || again[i].Group != jobs[i].Group {
 			t.Fatalf("second expansion differs at %d: %s vs %s", i, again[i].ID, jobs[i].ID)
@@ -114,7 +114,7 @@ func TestCanonicalIDs(t *testing.T) {
 		ids[job.NewID(v.String())] = true
 	}
 	for _, cfl := range []string{"0.50", "0.5", "5e-1", "0.500_0"} {
-		s := mustParse(t, study("case = \"spec-test-case\"\nfixed = { cfl = "+cfl+" }\n"), DefaultLimits())
+		s := mustLoad(t, study("case = \"spec-test-case\"\nfixed = { cfl = "+cfl+" }\n"), DefaultLimits())
 		jobs, err := s.Expand()
 		if err != nil || len(jobs) != 1 {
 			t.Fatalf("cfl %s: %d jobs, %v", cfl, len(jobs), err)
@@ -142,7 +142,7 @@ fixed = { nx = 16, ny = 16 }
 `
 
 func TestExpandDedup(t *testing.T) {
-	s := mustParse(t, dupSpec, DefaultLimits())
+	s := mustLoad(t, dupSpec, DefaultLimits())
 	jobs, err := s.Expand()
 	if err != nil {
 		t.Fatal(err)
@@ -169,43 +169,35 @@ func TestExpandDedup(t *testing.T) {
 			t.Errorf("unexpected job %v", j.Params)
 		}
 	}
-	pl, err := s.Plan()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if pl.Runs != 4 || pl.Jobs != 3 || pl.Studies[0].Runs != 2 || pl.Studies[1].Runs != 2 {
+	if pl := s; pl.Runs != 4 || pl.Jobs != 3 || pl.Summary[0].Runs != 2 || pl.Summary[1].Runs != 2 {
 		t.Errorf("plan runs %d jobs %d", pl.Runs, pl.Jobs)
 	}
 }
 
 func TestPlan(t *testing.T) {
-	s := mustParse(t, goodSpec, DefaultLimits())
-	pl, err := s.Plan()
-	if err != nil {
-		t.Fatal(err)
-	}
-	jobs, _ := s.Expand()
+	pl := mustLoad(t, goodSpec, DefaultLimits())
+	jobs, _ := pl.Expand()
 	total, share := 0.0, 0.0
 	for _, j := range jobs {
 		total += j.Cost
 	}
-	for _, sp := range pl.Studies {
+	for _, sp := range pl.Summary {
 		share += sp.Share
 	}
 	if pl.Jobs != len(jobs) || pl.Runs != 38 || math.Abs(pl.Cost-total) > 1e-9*total || math.Abs(share-1) > 1e-12 {
 		t.Errorf("plan jobs %d runs %d cost %v share %v; want %d, 38, %v, 1", pl.Jobs, pl.Runs, pl.Cost, share, len(jobs), total)
 	}
-	if got := fmt.Sprint(pl.Studies[0].Grids); got != "[16x16 32x32 64x64]" {
+	if got := fmt.Sprint(pl.Summary[0].Grids); got != "[16x16 32x32 64x64]" {
 		t.Errorf("grids of study 1 = %s", got)
 	}
-	if got := fmt.Sprint(pl.Studies[1].Grids); got != "[8x4 16x4]" {
+	if got := fmt.Sprint(pl.Summary[1].Grids); got != "[8x4 16x4]" {
 		t.Errorf("grids of study 2 = %s", got)
 	}
 }
 
 func TestEachOrder(t *testing.T) {
 	// The grid varies fastest, then together groups, then axes in file order.
-	s := mustParse(t, study("case = \"spec-test-case\"\naxes = { limiter = [\"mc\", \"minmod\"] }\n"+
+	s := mustLoad(t, study("case = \"spec-test-case\"\naxes = { limiter = [\"mc\", \"minmod\"] }\n"+
 		"together = [{ k0 = [1, 2] }]\nrefine = { nx = [8, 16] }\n"), DefaultLimits())
 	var got []string
 	err := s.Studies[0].each(func(kv map[string]string) error {
@@ -218,7 +210,7 @@ func TestEachOrder(t *testing.T) {
 		t.Errorf("each = %v, %v\nwant %v", got, err, want)
 	}
 	// A study with nothing varied has one run.
-	one := mustParse(t, study("case = \"spec-test-case\"\n"), DefaultLimits())
+	one := mustLoad(t, study("case = \"spec-test-case\"\n"), DefaultLimits())
 	if n := one.Count(); n != 1 {
 		t.Errorf("Count = %d, want 1", n)
 	}
@@ -227,10 +219,11 @@ func TestEachOrder(t *testing.T) {
 	}
 }
 
-// bench100k is a study of 10 x 10 x 10 x 10 x 10 = 100,000 runs.
-func bench100k(b *testing.B) *Spec {
+// bench100k is a study of 10 x 10 x 10 x 10 x 10 = 100,000 runs, parsed
+// and checked.
+func bench100k(b *testing.B) *Plan {
 	list := "[0, 1, 2, 3, 4, 5, 6, 7, 8, 9]"
-	s, err := Parse("bench.toml", []byte(study("case = \"spec-test-case\"\naxes = { k0 = "+list+", k1 = "+list+
+	s, err := LoadSource("bench.toml", []byte(study("case = \"spec-test-case\"\naxes = { k0 = "+list+", k1 = "+list+
 		", k2 = "+list+", k3 = "+list+" }\nrefine = { nx = [4, 5, 6, 7, 8, 9, 10, 11, 12, 13] }\n")), DefaultLimits())
 	if err != nil {
 		b.Fatal(err)
@@ -262,8 +255,8 @@ func BenchmarkEach(b *testing.B) {
 	b.ReportMetric(100_000, "jobs/op")
 }
 
-// BenchmarkParse100k checks every run of a 100,000-run spec: Parse resolves
-// each run and estimates its cost.
+// BenchmarkParse100k parses and checks a 100,000-run spec: Check resolves
+// each run, estimates its cost and sorts the distinct runs.
 func BenchmarkParse100k(b *testing.B) {
 	for b.Loop() {
 		bench100k(b)
@@ -271,8 +264,8 @@ func BenchmarkParse100k(b *testing.B) {
 	b.ReportMetric(100_000, "runs/op")
 }
 
-// BenchmarkParseVortex checks a spec of 3,000 vortex runs, whose cost
-// estimates sample the real case.
+// BenchmarkParseVortex parses and checks a spec of 2,400 vortex runs, whose
+// cost estimates sample the real case.
 func BenchmarkParseVortex(b *testing.B) {
 	src := []byte(`name = "bench"
 [[study]]
@@ -281,7 +274,7 @@ axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hllc", "hll
 refine = { nx = [16, 32, 64, 128, 256] }
 `)
 	for b.Loop() {
-		s, err := Parse("bench.toml", src, DefaultLimits())
+		s, err := LoadSource("bench.toml", src, DefaultLimits())
 		if err != nil {
 			b.Fatal(err)
 		}

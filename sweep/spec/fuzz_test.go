@@ -34,7 +34,7 @@ func FuzzParseSpec(f *testing.F) {
 	}
 	lim := Limits{MaxJobs: 200, MaxBytes: 1 << 30}
 	f.Fuzz(func(t *testing.T, src []byte) {
-		s, err := Parse("fuzz.toml", src, lim)
+		s, err := LoadSource("fuzz.toml", src, lim)
 		if err != nil {
 			var se *Error
 			msg := err.Error()

@@ -54,18 +54,18 @@ func planAxes(as []Axis) []planAxis {
 	return out
 }
 
-// WritePlanJSON writes the plan pl of s as one indented JSON document: the
+// WritePlanJSON writes the plan pl as one indented JSON document: the
 // sweep, its file, the runs, jobs and cost, and per study its settings,
 // axes, grids, runs, cost and share.
-func WritePlanJSON(w io.Writer, s *Spec, pl *Plan) error {
+func WritePlanJSON(w io.Writer, pl *Plan) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
-	return enc.Encode(planJSON(s, pl))
+	return enc.Encode(planJSON(pl))
 }
 
-func planJSON(sp *Spec, pl *Plan) planDoc {
-	doc := planDoc{Sweep: pl.Sweep, File: sp.File, Runs: pl.Runs, Jobs: pl.Jobs, Cost: pl.Cost}
-	for _, sp := range pl.Studies {
+func planJSON(pl *Plan) planDoc {
+	doc := planDoc{Sweep: pl.Name, File: pl.File, Runs: pl.Runs, Jobs: pl.Jobs, Cost: pl.Cost}
+	for _, sp := range pl.Summary {
 		st := sp.Study
 		ps := planStudy{Index: st.Index, Label: st.Label, Case: st.Case, Fixed: st.Fixed, Axes: planAxes(st.Axes),
 			Together: [][]planAxis{}, Refine: st.Refine, Grid: planAxes(st.Grid), Grids: sp.Grids, Runs: sp.Runs,
@@ -82,16 +82,16 @@ func planJSON(sp *Spec, pl *Plan) planDoc {
 	return doc
 }
 
-// WritePlan prints the plan pl of s for a person: one block per study (fixed
+// WritePlan prints the plan pl for a person: one block per study (fixed
 // values, crossed and zipped axes, grids, how it is judged, runs and cost),
 // then a summary table.
-func WritePlan(w io.Writer, sp *Spec, pl *Plan) error {
-	fmt.Fprintf(w, "sweep %s (%s): %d studies, %d jobs, %.3g cell updates estimated\n", pl.Sweep, sp.File,
-		len(pl.Studies), pl.Jobs, pl.Cost)
-	if sp.Description != "" {
-		fmt.Fprintf(w, "  %s\n", sp.Description)
+func WritePlan(w io.Writer, pl *Plan) error {
+	fmt.Fprintf(w, "sweep %s (%s): %d studies, %d jobs, %.3g cell updates estimated\n", pl.Name, pl.File,
+		len(pl.Summary), pl.Jobs, pl.Cost)
+	if pl.Description != "" {
+		fmt.Fprintf(w, "  %s\n", pl.Description)
 	}
-	for _, sp := range pl.Studies {
+	for _, sp := range pl.Summary {
 		st := sp.Study
 		fmt.Fprintf(w, "\nstudy %d  %s  (case %s)\n", st.Index, st.Label, st.Case)
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
@@ -115,7 +115,7 @@ func WritePlan(w io.Writer, sp *Spec, pl *Plan) error {
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "study\tlabel\tcase\t  runs\t     cost\t  share")
-	for _, sp := range pl.Studies {
+	for _, sp := range pl.Summary {
 		fmt.Fprintf(tw, "%d\t%s\t%s\t%6d\t%9.3g\t%5.1f %%\n", sp.Study.Index, sp.Study.Label, sp.Study.Case, sp.Runs, sp.Cost, 100*sp.Share)
 	}
 	fmt.Fprintf(tw, "total\t\t\t%6d\t%9.3g\t\n", pl.Jobs, pl.Cost)

@@ -1,10 +1,6 @@
 package spec
 
-import (
-	"math"
-
-	"fvsweep/sweep/job"
-)
+import "fvsweep/sweep/job"
 
 // Settings are the resolved settings of every study of s, in order, as the
 // sweep record keeps them.
@@ -19,13 +15,14 @@ func (s *Spec) Settings() []job.StudySettings {
 }
 
 // StoredSettings are the study settings of a spec source stored before
-// sweep records kept them: the source parsed without limits, nil when it
-// does not parse (the tables then judge by the defaults).
+// sweep records kept them: the source parsed (it was checked when it was
+// submitted; the settings need no run resolved), nil when it does not parse
+// (the tables then judge by the defaults).
 func StoredSettings(file, src string) []job.StudySettings {
 	if src == "" {
 		return nil
 	}
-	sp, err := Parse(file, []byte(src), Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
+	sp, err := Parse(file, []byte(src))
 	if err != nil {
 		return nil
 	}

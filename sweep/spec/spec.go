@@ -4,17 +4,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"maps"
 	"math"
 	"os"
 	"regexp"
-	"runtime"
 	"slices"
 	"sort"
 	"strconv"
 	"strings"
-	"sync"
-	"sync/atomic"
 	"unicode"
 
 	"github.com/pelletier/go-toml/v2"
@@ -51,8 +47,9 @@ func (l Limits) orDefault() Limits {
 	return l
 }
 
-// Spec is a parsed, validated sweep spec. Treat it as read-only: Parse
-// keeps each run's cost estimate for Expand and Plan.
+// Spec is a parsed sweep spec: every key is known and every value is one
+// its parameter accepts, but its runs are not resolved yet (Check does
+// that). A Plan refers to its Spec: do not change a Spec once checked.
 type Spec struct {
 	Name        string // sweep name: letters, digits, '-' and '_'
 	Description string
@@ -93,8 +90,8 @@ type Study struct {
 	Norm        string            // l1, l2 or linf
 	Functional  string            // functional for the GCI, "" if none
 
-	origin map[string]origin // parameter -> where the spec sets it
-	costs  []fv2d.Cost       // Estimate of each run in expansion order, from Parse
+	origin         map[string]origin // parameter -> where the spec sets it
+	functionalLine int               // line of the functional key, 0 if none
 }
 
 type origin struct {
@@ -130,8 +127,9 @@ func (e *Error) Error() string {
 	return b.String()
 }
 
-// Load reads and parses the spec file at path; see Parse.
-func Load(path string, lim Limits) (*Spec, error) {
+// Load reads the spec file at path, parses it and checks it against lim:
+// Check(Parse(path, contents), lim).
+func Load(path string, lim Limits) (*Plan, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
@@ -144,16 +142,25 @@ func Load(path string, lim Limits) (*Spec, error) {
 	if len(src) > MaxSpecBytes {
 		return nil, &Error{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxSpecBytes)}
 	}
-	return Parse(path, src, lim)
+	return LoadSource(path, src, lim)
 }
 
-// Parse parses the TOML spec src (file names it in errors), checks every
-// key and value against the cases' parameters, refuses specs that expand to
-// more than lim.MaxJobs runs or hold a run whose memory estimate exceeds
-// lim.MaxBytes, and returns the spec. Every error is a *Error naming the
-// file, line and key.
-func Parse(file string, src []byte, lim Limits) (*Spec, error) {
-	p := &parser{file: file, lim: lim.orDefault()}
+// LoadSource parses the spec src (file names it in errors) and checks it
+// against lim: Check(Parse(file, src), lim).
+func LoadSource(file string, src []byte, lim Limits) (*Plan, error) {
+	s, err := Parse(file, src)
+	if err != nil {
+		return nil, err
+	}
+	return Check(s, lim)
+}
+
+// Parse parses the TOML spec src (file names it in errors) and checks every
+// key and value against the cases' parameters, one value at a time; it
+// neither resolves the runs nor applies limits (see Check). Every error is
+// a *Error naming the file, line and key.
+func Parse(file string, src []byte) (*Spec, error) {
+	p := &parser{file: file}
 	var doc map[string]any
 	if err := toml.Unmarshal(src, &doc); err != nil {
 		e := &Error{File: file, Msg: "malformed TOML: " + strings.TrimPrefix(err.Error(), "toml: ")}
@@ -169,20 +176,11 @@ func Parse(file string, src []byte, lim Limits) (*Spec, error) {
 		return nil, err
 	}
 	s.Source = string(src)
-	if err := p.checkCount(s); err != nil {
-		return nil, err
-	}
-	for i := range s.Studies {
-		if err := p.checkRuns(&s.Studies[i]); err != nil {
-			return nil, err
-		}
-	}
 	return s, nil
 }
 
 type parser struct {
 	file  string
-	lim   Limits
 	lines keyLines
 }
 
@@ -549,7 +547,7 @@ func (sp *studyParser) options(m map[string]any) error {
 			}
 			st.Norm = s
 		case "functional":
-			st.Functional = s
+			st.Functional, st.functionalLine = s, sp.lines.at(sub(sp.path, key))
 		}
 	}
 	if st.Label == "" {
@@ -672,139 +670,6 @@ func typeName(v any) string {
 		return "a table"
 	}
 	return "a date or time"
-}
-
-// checkCount refuses a spec that expands to more than MaxJobs runs, without
-// expanding it.
-func (p *parser) checkCount(s *Spec) error {
-	total, big := 0, 0
-	for i := range s.Studies {
-		n := s.Studies[i].Count()
-		total = satAdd(total, n)
-		if n > s.Studies[big].Count() {
-			big = i
-		}
-	}
-	if total <= p.lim.MaxJobs {
-		return nil
-	}
-	st := &s.Studies[big]
-	return &Error{File: p.file, Line: st.Line, Study: st.Index,
-		Msg: fmt.Sprintf("the spec expands to %s jobs (this study %s), over the job limit of %d",
-			countString(total), countString(st.Count()), p.lim.MaxJobs)}
-}
-
-// checkRuns resolves every run of st, checks its memory estimate and keeps
-// the estimates for Expand. fv2d.Estimate sets up the case and samples its
-// initial state (about 0.3 ms a run for the vortex), so it runs once per
-// run, on all cores, in batches. The error reported is that of the first
-// bad run in expansion order.
-func (p *parser) checkRuns(st *Study) error {
-	const size = 64
-	n := st.Count()
-	st.costs = make([]fv2d.Cost, n)
-	type batch struct {
-		first int
-		kvs   []map[string]string
-	}
-	var (
-		mu      sync.Mutex
-		bad     = n
-		badErr  error
-		stopped atomic.Bool
-		wg      sync.WaitGroup
-	)
-	work := make(chan batch)
-	for w := 0; w < min(runtime.GOMAXPROCS(0), (n+size-1)/size); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for b := range work {
-				for k, kv := range b.kvs {
-					c, err := p.checkRun(st, kv)
-					if err != nil {
-						mu.Lock()
-						if b.first+k < bad {
-							bad, badErr = b.first+k, err
-						}
-						mu.Unlock()
-						stopped.Store(true)
-						break
-					}
-					st.costs[b.first+k] = c
-				}
-			}
-		}()
-	}
-	b, i := batch{}, 0
-	errStop := errors.New("stop")
-	st.each(func(kv map[string]string) error {
-		if stopped.Load() {
-			return errStop
-		}
-		b.kvs = append(b.kvs, maps.Clone(kv))
-		if i++; len(b.kvs) == size {
-			work <- b
-			b = batch{first: i}
-		}
-		return nil
-	})
-	if len(b.kvs) > 0 && !stopped.Load() {
-		work <- b
-	}
-	close(work)
-	wg.Wait()
-	if badErr != nil {
-		return badErr
-	}
-	if st.Functional == "" {
-		return nil
-	}
-	var first fv2d.Values
-	st.each(func(kv map[string]string) error {
-		first, _ = fv2d.Resolve(st.Case, kv)
-		return errStop
-	})
-	return p.checkFunctional(st, first)
-}
-
-// checkRun resolves the run kv of st and returns its cost estimate.
-func (p *parser) checkRun(st *Study, kv map[string]string) (fv2d.Cost, error) {
-	v, err := fv2d.Resolve(st.Case, kv)
-	if err != nil {
-		return fv2d.Cost{}, &Error{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("%v (at %s)", err, st.point(kv))}
-	}
-	c := fv2d.Estimate(v)
-	if c.Bytes > p.lim.MaxBytes {
-		o := st.origin["nx"]
-		if o.line == 0 {
-			o = origin{line: st.Line}
-		}
-		return c, &Error{File: p.file, Line: o.line, Study: st.Index, Key: o.key,
-			Msg: fmt.Sprintf("grid %sx%s (at %s) needs an estimated %s, over the per-job limit of %s",
-				v.Get("nx"), v.Get("ny"), st.point(kv), byteString(c.Bytes), byteString(p.lim.MaxBytes))}
-	}
-	return c, nil
-}
-
-func (p *parser) checkFunctional(st *Study, v fv2d.Values) error {
-	c, err := fv2d.LookupCase(st.Case)
-	if err != nil {
-		return err
-	}
-	prob, err := c.Setup(v)
-	if err != nil {
-		return &Error{File: p.file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("case %s: %v", st.Case, err)}
-	}
-	var names []string
-	for _, f := range prob.Functionals {
-		if f.Name == st.Functional {
-			return nil
-		}
-		names = append(names, f.Name)
-	}
-	return p.fail(st.Index, []string{"study", strconv.Itoa(st.Index - 1), "functional"}, "functional",
-		"case %s has no functional %q (it has: %s)", st.Case, st.Functional, strings.Join(names, " "))
 }
 
 // point names the varied values of a run, for error messages.

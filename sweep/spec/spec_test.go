@@ -77,17 +77,21 @@ nx = [
 ]
 `
 
-func mustParse(t *testing.T, src string, lim Limits) *Spec {
+// mustLoad parses and checks src against lim.
+func mustLoad(t *testing.T, src string, lim Limits) *Plan {
 	t.Helper()
-	s, err := Parse("test.toml", []byte(src), lim)
+	pl, err := LoadSource("test.toml", []byte(src), lim)
 	if err != nil {
-		t.Fatalf("Parse: %v", err)
+		t.Fatalf("LoadSource: %v", err)
 	}
-	return s
+	return pl
 }
 
 func TestParseSpecGood(t *testing.T) {
-	s := mustParse(t, goodSpec, DefaultLimits())
+	s, err := Parse("test.toml", []byte(goodSpec))
+	if err != nil {
+		t.Fatal(err)
+	}
 	if s.Name != "good-one" || s.Description != "a spec that parses" || len(s.Studies) != 2 || s.Source != goodSpec {
 		t.Fatalf("spec = %+v", s)
 	}
@@ -202,9 +206,17 @@ func TestParseSpecErrors(t *testing.T) {
 			"out of range"},
 		{"dotted key", study("case = \"spec-test-case\"\nfixed.cfl = 2.0\n"), 5, "fixed.cfl", "out of range"},
 	}
+	// Parse refuses all but these, which only resolving the runs finds.
+	byCheck := map[string]bool{"functional": true, "combination": true}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := Parse("test.toml", []byte(tc.src), DefaultLimits())
+			s, err := Parse("test.toml", []byte(tc.src))
+			if byCheck[tc.name] {
+				if err != nil {
+					t.Fatalf("Parse = %v, want it left to Check", err)
+				}
+				_, err = Check(s, DefaultLimits())
+			}
 			t.Log(err)
 			var se *Error
 			if !errors.As(err, &se) {
@@ -224,7 +236,7 @@ func TestParseSpecErrors(t *testing.T) {
 
 func TestErrorNamesStudy(t *testing.T) {
 	src := study("case = \"spec-test-case\"\n[[study]]\ncase = \"spec-test-case\"\naxes = { limiter = [\"x\"] }\n")
-	_, err := Parse("configs/x.toml", []byte(src), DefaultLimits())
+	_, err := Parse("configs/x.toml", []byte(src))
 	want := `spec configs/x.toml:7: study 2: axes.limiter: "x" is not one of minmod, vanleer, mc, superbee`
 	if err == nil || err.Error() != want {
 		t.Errorf("err = %v\nwant  %s", err, want)
@@ -239,7 +251,11 @@ func TestJobLimit(t *testing.T) {
 	}
 	list := "[" + strings.Join(vals, ", ") + "]"
 	src := study("case = \"spec-test-case\"\naxes = { k0 = " + list + ", k1 = " + list + ", k2 = " + list + " }\n")
-	_, err := Parse("big.toml", []byte(src), DefaultLimits())
+	s, err := Parse("big.toml", []byte(src))
+	if err != nil {
+		t.Fatalf("Parse = %v: the count is Check's", err)
+	}
+	_, err = Check(s, DefaultLimits())
 	var se *Error
 	if !errors.As(err, &se) || se.Line != 3 || se.Study != 1 || !strings.Contains(se.Msg, "1000000 jobs") ||
 		!strings.Contains(se.Msg, "limit of 200000") {
@@ -251,15 +267,15 @@ func TestJobLimit(t *testing.T) {
 		axes = append(axes, fmt.Sprintf("k%d = %s", i, list))
 	}
 	src = study("case = \"spec-test-case\"\naxes = { " + strings.Join(axes, ", ") + " }\n")
-	if _, err := Parse("huge.toml", []byte(src), DefaultLimits()); err == nil || !strings.Contains(err.Error(), "more than 9.2e18") {
+	if _, err := LoadSource("huge.toml", []byte(src), DefaultLimits()); err == nil || !strings.Contains(err.Error(), "more than 9.2e18") {
 		t.Errorf("err = %v, want a refusal of an overflowing count", err)
 	}
 	// A configured limit: the good spec has 3*2*2*3 + 2 = 38 runs.
-	if _, err := Parse("good.toml", []byte(goodSpec), Limits{MaxJobs: 37}); err == nil ||
+	if _, err := LoadSource("good.toml", []byte(goodSpec), Limits{MaxJobs: 37}); err == nil ||
 		!strings.Contains(err.Error(), "expands to 38 jobs (this study 36), over the job limit of 37") {
 		t.Errorf("err = %v, want a refusal with the count 38", err)
 	}
-	if s := mustParse(t, goodSpec, Limits{MaxJobs: 38}); s.Count() != 38 {
+	if s := mustLoad(t, goodSpec, Limits{MaxJobs: 38}); s.Count() != 38 {
 		t.Errorf("Count = %d, want 38", s.Count())
 	}
 }
@@ -268,7 +284,7 @@ func TestMemoryLimit(t *testing.T) {
 	// 100000^2 cells hold 4 conserved variables of 8 bytes: at least 320 GB
 	// for the state alone, over 8 GiB by any estimate.
 	src := study("case = \"spec-test-case\"\naxes = { limiter = [\"mc\"] }\nrefine = { nx = [64, 100000] }\n")
-	_, err := Parse("mem.toml", []byte(src), DefaultLimits())
+	_, err := LoadSource("mem.toml", []byte(src), DefaultLimits())
 	var se *Error
 	if !errors.As(err, &se) || se.Line != 6 || se.Key != "refine.nx" ||
 		!strings.Contains(se.Msg, "grid 100000x100000 (at limiter=mc nx=100000 ny=100000)") || !strings.Contains(se.Msg, "per-job limit of 8 GiB") {
@@ -281,10 +297,10 @@ func TestMemoryLimit(t *testing.T) {
 	}
 	b := fv2d.Estimate(v).Bytes
 	src = study("case = \"spec-test-case\"\nfixed = { nx = 64 }\n")
-	if _, err := Parse("mem.toml", []byte(src), Limits{MaxBytes: b - 1}); err == nil || !strings.Contains(err.Error(), "mem.toml:5: study 1: fixed.nx:") {
+	if _, err := LoadSource("mem.toml", []byte(src), Limits{MaxBytes: b - 1}); err == nil || !strings.Contains(err.Error(), "mem.toml:5: study 1: fixed.nx:") {
 		t.Errorf("err = %v, want a refusal at fixed.nx with MaxBytes = estimate - 1", err)
 	}
-	mustParse(t, src, Limits{MaxBytes: b})
+	mustLoad(t, src, Limits{MaxBytes: b})
 }
 
 func TestParseBytes(t *testing.T) {
@@ -363,7 +379,7 @@ func TestReadmeExample(t *testing.T) {
 	if !ok || !ok2 || !ok3 {
 		t.Fatal("docs/spec.md has no toml example under \"# Sweep specs\"")
 	}
-	s, err := Parse("docs/spec.md", []byte(block), DefaultLimits())
+	s, err := LoadSource("docs/spec.md", []byte(block), DefaultLimits())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -372,22 +388,20 @@ func TestReadmeExample(t *testing.T) {
 	}
 }
 
-// TestFirstErrorInOrder checks that the runs checked in parallel batches
-// report the first bad run in expansion order, whichever batch ends first.
+// TestFirstErrorInOrder checks that Check reports the first bad run in
+// expansion order.
 func TestFirstErrorInOrder(t *testing.T) {
 	vals := make([]string, 300)
 	for i := range vals {
 		vals[i] = fmt.Sprint(i)
 	}
 	k0 := "k0 = [" + strings.Join(vals, ", ") + "]"
-	for i := 0; i < 5; i++ {
-		_, err := Parse("o.toml", []byte(study("case = \"spec-test-case\"\nfixed = { test = 3 }\naxes = { amp = [0.1, 0.9], "+k0+" }\n")), DefaultLimits())
-		if err == nil || !strings.HasSuffix(err.Error(), "(at amp=0.9 k0=0)") {
-			t.Fatalf("err = %v, want the run amp=0.9 k0=0", err)
-		}
-		_, err = Parse("o.toml", []byte(study("case = \"spec-test-case\"\naxes = { "+k0+" }\nrefine = { nx = [64, 70000, 80000] }\n")), DefaultLimits())
-		if err == nil || !strings.Contains(err.Error(), "grid 70000x70000 (at k0=0 nx=70000 ny=70000)") {
-			t.Fatalf("err = %v, want the run k0=0 nx=70000", err)
-		}
+	_, err := LoadSource("o.toml", []byte(study("case = \"spec-test-case\"\nfixed = { test = 3 }\naxes = { amp = [0.1, 0.9], "+k0+" }\n")), DefaultLimits())
+	if err == nil || !strings.HasSuffix(err.Error(), "(at amp=0.9 k0=0)") {
+		t.Fatalf("err = %v, want the run amp=0.9 k0=0", err)
+	}
+	_, err = LoadSource("o.toml", []byte(study("case = \"spec-test-case\"\naxes = { "+k0+" }\nrefine = { nx = [64, 70000, 80000] }\n")), DefaultLimits())
+	if err == nil || !strings.Contains(err.Error(), "grid 70000x70000 (at k0=0 nx=70000 ny=70000)") {
+		t.Fatalf("err = %v, want the run k0=0 nx=70000", err)
 	}
 }

@@ -315,7 +315,7 @@ func TestWriteTablesGCI(t *testing.T) {
 // parseExpand parses the spec src and expands it into its jobs.
 func parseExpand(t *testing.T, file, src string) (*spec.Spec, []job.Job) {
 	t.Helper()
-	sp, err := spec.Parse(file, []byte(src), spec.Limits{})
+	sp, err := spec.LoadSource(file, []byte(src), spec.Limits{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -323,5 +323,5 @@ func parseExpand(t *testing.T, file, src string) (*spec.Spec, []job.Job) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return sp, jobs
+	return sp.Spec, jobs
 }
