@@ -265,7 +265,7 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, fetch func(re
 		}
 	}
 	m.design, m.caseStr = design, st.Case
-	if g.Label != "" {
+	if g.Label != "" && g.Label != st.Case { // a group of its own is labelled by its case
 		m.caseStr += " " + g.Label
 	}
 	return m, nil
