@@ -132,7 +132,7 @@ func (r *Runner) runIn(ctx context.Context, dir string, run *outside.Run, p *fv2
 		return worker.Result{}, worker.Permanent(err)
 	}
 	argv[0] = r.program
-	env := []string{"PATH=" + os.Getenv("PATH"), "HOME=" + dir, "TMPDIR=" + dir, "LC_ALL=C", "OMP_NUM_THREADS=1"}
+	env := []string{"PATH=" + os.Getenv("PATH"), "HOME=" + dir, "TMPDIR=" + dir, "LC_ALL=C", "OMP_NUM_THREADS=1", "OPENBLAS_NUM_THREADS=1"}
 	ex, err := execute(ctx, argv, dir, env, m.Timeout, m.Memory)
 	if err != nil {
 		return worker.Result{}, err
