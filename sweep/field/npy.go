@@ -64,10 +64,11 @@ func ReadNPY(r io.Reader, names []string, nx, ny int) (*Cells, error) {
 	nv := len(names)
 	n := nx * ny * nv
 	limit := int64(maxNPYHeader) + 12 + 8*int64(n)
-	b, err := io.ReadAll(io.LimitReader(r, limit+1))
-	if err != nil {
+	buf := bytes.NewBuffer(make([]byte, 0, min(limit+1, 1<<30)))
+	if _, err := buf.ReadFrom(io.LimitReader(r, limit+1)); err != nil {
 		return nil, fmt.Errorf("npy: %w", err)
 	}
+	b := buf.Bytes()
 	if int64(len(b)) > limit {
 		return nil, fmt.Errorf("npy: larger than a (%d, %d, %d) float64 array", ny, nx, nv)
 	}
