@@ -90,16 +90,9 @@ type worker struct {
 // cell averages (Gauss-Legendre of order quad), the scheme and the workers.
 // The initial state must be physical (positive density and pressure).
 func NewSolver(v Values) (*Solver, error) {
-	c, err := LookupCase(v.Case)
+	p, err := SetUp(v)
 	if err != nil {
 		return nil, err
-	}
-	p, err := c.Setup(v)
-	if err != nil {
-		return nil, fmt.Errorf("case %s: %w", v.Case, err)
-	}
-	if !(p.X1 > p.X0) || !(p.Y1 > p.Y0) {
-		return nil, fmt.Errorf("case %s: empty domain [%g,%g]x[%g,%g]", v.Case, p.X0, p.X1, p.Y0, p.Y1)
 	}
 	cfg, err := configFor(v, p.Eq)
 	if err != nil {
@@ -502,25 +495,10 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 		}
 	}
 	stepWall := time.Since(stepStart).Seconds()
+	a := Assess(s.prob, init, st, s.cfg.Quad, s.cfg.Threads)
 	res := &Result{
 		Case: v.Case, Params: v.Map(), NX: s.nx, NY: s.ny, Steps: s.steps, TFinal: s.t,
-		Totals: map[string]Total{}, Final: st, Kernel: "portable",
-	}
-	for k, tot := range st.Totals() {
-		res.Totals[vars[k]] = Total{Initial: init[k], Final: tot}
-	}
-	if s.prob.Exact != nil {
-		ex := ExactAverages(s.prob, st, s.cfg.Quad, s.cfg.Threads)
-		res.Errors = map[string]Norms{}
-		for k, n := range errorNorms(st, ex) {
-			res.Errors[vars[k]] = n
-		}
-	}
-	if len(s.prob.Functionals) > 0 {
-		res.Functionals = map[string]float64{}
-		for _, f := range s.prob.Functionals {
-			res.Functionals[f.Name] = f.Eval(st)
-		}
+		Totals: a.Totals, Errors: a.Errors, Functionals: a.Functionals, Final: st, Kernel: "portable",
 	}
 	if stepWall > 0 {
 		res.CellUpdatesPerS = float64(s.nx*s.ny) * float64(s.steps) / stepWall

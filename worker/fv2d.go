@@ -40,7 +40,7 @@ func (FV2D) Run(ctx context.Context, jb job.Job) (Result, error) {
 	}
 	r := Result{Outcome: job.Outcome{
 		Status: job.StatusDone, WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal,
-		CellUpdatesPerS: res.CellUpdatesPerS, Kernel: res.Kernel, Errors: outcomeNorms(res.Errors), Functionals: res.Functionals, Totals: outcomeTotals(res.Totals),
+		CellUpdatesPerS: res.CellUpdatesPerS, Kernel: res.Kernel, Errors: OutcomeNorms(res.Errors), Functionals: res.Functionals, Totals: OutcomeTotals(res.Totals),
 	}}
 	if jb.Snapshot && res.Final != nil {
 		r.Snapshot = SnapshotOf(res.Final)
@@ -68,8 +68,8 @@ func SnapshotOf(s *fv2d.State) *Snapshot {
 	return &Snapshot{Header: h, Data: out}
 }
 
-// outcomeNorms copies a run's error norms into the outcome's type.
-func outcomeNorms(m map[string]fv2d.Norms) map[string]job.Norms {
+// OutcomeNorms copies a run's error norms into the outcome's type.
+func OutcomeNorms(m map[string]fv2d.Norms) map[string]job.Norms {
 	if m == nil {
 		return nil
 	}
@@ -80,8 +80,8 @@ func outcomeNorms(m map[string]fv2d.Norms) map[string]job.Norms {
 	return out
 }
 
-// outcomeTotals copies a run's conserved totals into the outcome's type.
-func outcomeTotals(m map[string]fv2d.Total) map[string]job.Total {
+// OutcomeTotals copies a run's conserved totals into the outcome's type.
+func OutcomeTotals(m map[string]fv2d.Total) map[string]job.Total {
 	if m == nil {
 		return nil
 	}
