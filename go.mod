@@ -10,6 +10,7 @@ require (
 	github.com/nats-io/nuid v1.0.1
 	github.com/pelletier/go-toml/v2 v2.4.3
 	go.etcd.io/bbolt v1.5.0
+	golang.org/x/sys v0.50.0
 	golang.org/x/term v0.48.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/plot v0.17.0
@@ -35,7 +36,6 @@ require (
 	github.com/nats-io/nkeys v0.4.16 // indirect
 	golang.org/x/crypto v0.58.0 // indirect
 	golang.org/x/image v0.30.0 // indirect
-	golang.org/x/sys v0.50.0 // indirect
 	golang.org/x/text v0.43.0 // indirect
 	golang.org/x/time v0.16.0 // indirect
 	golang.org/x/tools v0.51.0 // indirect

@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -22,7 +23,9 @@ const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field|order-map [f
 
   convergence  error norm against h, log-log, one line per parameter group,
                reference slopes of order 1 and 2, fitted order in the legend
-  cost         error norm against CPU seconds (work-precision), log-log
+  cost         error norm against cost (work-precision), log-log: the CPU
+               seconds of the solving threads, or with --x work the cells
+               updated (nx x ny x steps), the same on any machine
   field        heat map of a job's final field with a colour bar, or with
                --cut a line cut through it against the exact solution
   order-map    observed order per cell of one group's nested grids (ratio 2),
@@ -44,6 +47,7 @@ flags:
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V
               (--cut x) or x = V (--cut y); default: the middle
+  --x A       cost: the x axis, cpu (default) or work
   --var V     variable (default: the study's, else the case's first);
               field: a conserved variable, or u, v, p of an Euler case
   --norm N    l1, l2 or linf (default: the study's, else l1)
@@ -76,6 +80,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	group := fs.String("group", "", "")
 	coarse := fs.Int("coarse", 0, "")
 	format := fs.String("format", "", "")
+	costX := fs.String("x", "", "")
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep plot: "+format+"\n", a...)
 		return 2
@@ -119,6 +124,15 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	if kind != "field" && (*jobID != "" || *snapshot != "" || *cut != "" || *at != "") {
 		return bad("--job, --snapshot, --cut and --at are for the field plot")
 	}
+	axis := report.CostCPU
+	switch {
+	case *costX != "" && kind != "cost":
+		return bad("--x is for the cost plot")
+	case *costX != "" && !slices.Contains(report.CostAxes, report.CostAxis(*costX)):
+		return bad("--x %q: want cpu or work", *costX)
+	case *costX != "":
+		axis = report.CostAxis(*costX)
+	}
 	if kind != "order-map" && (*group != "" || *coarse != 0) {
 		return bad("--group and --coarse are for the order map")
 	}
@@ -158,7 +172,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case "field":
 		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
 	default:
-		d, notes, err = studyPlot(sd, kind, *studyN, jf.options())
+		d, notes, err = studyPlot(sd, kind, *studyN, jf.options(), axis)
 	}
 	if err != nil {
 		return failed(err)
@@ -174,7 +188,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 // studyPlot prepares the convergence or cost plot of one study.
-func studyPlot(sd *sweepData, kind string, n int, o table.Options) (plots.Drawer, []string, error) {
+func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
 	set, err := sd.tables(o)
 	studies := set.Studies
 	if err != nil {
@@ -212,7 +226,7 @@ func studyPlot(sd *sweepData, kind string, n int, o table.Options) (plots.Drawer
 	if kind == "convergence" {
 		f, err = report.ConvergenceFigure(*st)
 	} else {
-		f, err = report.CostFigure(*st)
+		f, err = report.CostFigure(*st, axis)
 	}
 	if err != nil {
 		return nil, nil, err
