@@ -14,6 +14,7 @@ import (
 
 	"fvsweep/coordinator/datadir"
 	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/report"
 	"fvsweep/sweep/wire"
@@ -282,7 +283,21 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if err != nil {
 		return nil, nil, err
 	}
+	if cut != "" && !math.IsNaN(at) {
+		// --cut x runs along x at a height y = at; --cut y at x = at.
+		name, lo, hi := "y", hdr.Y0, hdr.Y0+float64(hdr.NY)*hdr.DY
+		if cut == "y" {
+			name, lo, hi = "x", hdr.X0, hdr.X0+float64(hdr.NX)*hdr.DX
+		}
+		if at < lo || at > hi {
+			return nil, nil, fmt.Errorf("--at %g: the cut along %s passes at %s = %g, outside the domain's %s range [%g, %g]", at, cut, name, at, name, lo, hi)
+		}
+	}
+	tell := sd.differingParams(jb)
 	title := fmt.Sprintf("%s, nx=%s, t=%.4g", jb.Case, jb.Params["nx"], hdr.T)
+	if tell != "" {
+		title = fmt.Sprintf("%s %s, t=%.4g", jb.Case, tell, hdr.T)
+	}
 	if cut == "" {
 		h, err := plots.HeatMap(f, plots.Axes{Title: v + ": " + title})
 		if err != nil {
@@ -297,11 +312,36 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if l := jb.Params["limiter"]; l != "" && label == "muscl" {
 		label += " " + l
 	}
-	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label + ", nx=" + jb.Params["nx"]})
+	label += ", nx=" + jb.Params["nx"]
+	if tell != "" {
+		label = tell
+	}
+	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label})
 	if err != nil {
 		return nil, nil, err
 	}
+	fig.Title += ": " + title
 	return fig, append(notes, fig.Notes...), nil
+}
+
+// differingParams is "k=v ..." of the parameters of jb whose values differ
+// among the jobs of its study: what tells it apart from the others.
+func (sd *sweepData) differingParams(jb job.Job) string {
+	var keys []string
+	for k, v := range jb.Params {
+		for _, r := range sd.rows {
+			if r.Job.Study == jb.Study && r.Job.Params[k] != v {
+				keys = append(keys, k)
+				break
+			}
+		}
+	}
+	slices.Sort(keys)
+	parts := make([]string, len(keys))
+	for i, k := range keys {
+		parts[i] = k + "=" + jb.Params[k]
+	}
+	return strings.Join(parts, " ")
 }
 
 // writeOrderCSV writes the order map as CSV to the file out, or to stdout

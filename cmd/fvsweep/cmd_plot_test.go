@@ -114,6 +114,9 @@ func TestPlotCommands(t *testing.T) {
 	}{
 		{"convergence.png", []string{"pics", "convergence"}},
 		{"convergence.svg", []string{"pics", "convergence", "--norm", "linf"}},
+		// The titles name what tells the job apart within its study.
+		{"heat.svg", []string{"pics", "field", "--job", id, "--snapshot", snap}},
+		{"cut.svg", []string{"pics", "field", "--job", id, "--snapshot", snap, "--cut", "y"}},
 		{"cost.png", []string{"pics", "cost"}},
 		{"work.png", []string{"pics", "cost", "--x", "work"}},
 		{"heat.png", []string{"pics", "field", "--job", id[:8], "--snapshot", snap}},
@@ -132,14 +135,16 @@ func TestPlotCommands(t *testing.T) {
 		}
 		if strings.HasSuffix(out, ".png") {
 			checkPNG(t, out)
-		} else if b, _ := os.ReadFile(out); !bytes.Contains(b, []byte("<svg")) || !bytes.Contains(b, []byte("Linf(rho)")) {
-			t.Errorf("%s: not an SVG with the Linf axis label", out)
+		} else if b, _ := os.ReadFile(out); !bytes.Contains(b, []byte("<svg")) {
+			t.Errorf("%s: not an SVG", out)
+		} else if want := map[bool]string{true: "Linf(rho)", false: "limiter=mc nx=64"}[tc.args[1] == "convergence"]; !bytes.Contains(b, []byte(want)) {
+			t.Errorf("%s lacks %q", out, want)
 		}
 	}
 }
 
 func TestPlotErrors(t *testing.T) {
-	dir, id, _ := plotRig(t)
+	dir, id, snap := plotRig(t)
 	out := filepath.Join(t.TempDir(), "x.png")
 	for _, tc := range []struct {
 		args []string
@@ -160,6 +165,9 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
 		{[]string{"pics", "field", "--out", out, "--job", "ffff"}, 1, "no such job"},
 		{[]string{"pics", "field", "--out", out, "--job", id}, 1, "pass it with --snapshot FILE"},
+		// The vortex lives on [0, 10]^2: a cut outside it is refused, not clamped.
+		{[]string{"pics", "field", "--out", out, "--job", id, "--snapshot", snap, "--cut", "x", "--at", "50"}, 1, "--at 50: the cut along x passes at y = 50, outside the domain's y range [0, 10]"},
+		{[]string{"pics", "field", "--out", out, "--job", id, "--snapshot", snap, "--cut", "y", "--at", "-1"}, 1, "outside the domain's x range [0, 10]"},
 	} {
 		var stdout, stderr bytes.Buffer
 		args := append(tc.args, "--data", dir)
