@@ -43,7 +43,8 @@ else from the server files in --data/nats.
 flags:
   --out       output file (.png or .svg), required
   --study N   the study to plot (default: the only one with errors to show)
-  --job ID    field: the job (its ID, or a unique prefix of it)
+  --job ID    field: the job: its ID, a unique prefix of it, or k=v pairs
+              (commas between; case=NAME too) that only its parameters match
   --snapshot FILE  field: read the snapshot from this file instead
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V
@@ -367,8 +368,13 @@ func writeOrderCSV(m *orderMap, out string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// findJob returns the row whose job ID is id or starts with it, uniquely.
+// findJob returns the row whose job ID is id or starts with it, uniquely;
+// or, when id holds k=v pairs (separated by commas or spaces), the one job
+// whose parameters (and case, as case=NAME) match them all.
 func findJob(rows []wire.Row, id string) (wire.Row, error) {
+	if strings.Contains(id, "=") {
+		return selectJob(rows, id)
+	}
 	var found []wire.Row
 	for _, r := range rows {
 		if r.Job.ID == id {
@@ -385,6 +391,36 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 		return found[0], nil
 	}
 	return wire.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
+}
+
+// selectJob returns the one row whose job matches every k=v of sel.
+func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
+	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	var found []wire.Row
+	for _, r := range rows {
+		match := true
+		for _, p := range pairs {
+			k, v, ok := strings.Cut(p, "=")
+			got, has := r.Job.Params[k]
+			if k == "case" {
+				got, has = r.Job.Case, true
+			}
+			if !ok || !has || got != v {
+				match = false
+				break
+			}
+		}
+		if match {
+			found = append(found, r)
+		}
+	}
+	switch len(found) {
+	case 0:
+		return wire.Row{}, fmt.Errorf("--job %s: no job of the sweep has these parameters", sel)
+	case 1:
+		return found[0], nil
+	}
+	return wire.Row{}, fmt.Errorf("--job %s: %d jobs match; add k=v pairs (case=NAME, nx=N, ...) until one does", sel, len(found))
 }
 
 // fetchSnapshot reads a stored snapshot: through the NATS server of the
