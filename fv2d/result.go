@@ -19,13 +19,17 @@ type Total struct {
 
 // Result is the outcome of one successful run.
 type Result struct {
-	Case            string             `json:"case"`
-	Params          map[string]string  `json:"params"`
-	NX              int                `json:"nx"`
-	NY              int                `json:"ny"`
-	Steps           int                `json:"steps"`
-	TFinal          float64            `json:"t_final"`
-	WallS           float64            `json:"wall_s"`
+	Case   string            `json:"case"`
+	Params map[string]string `json:"params"`
+	NX     int               `json:"nx"`
+	NY     int               `json:"ny"`
+	Steps  int               `json:"steps"`
+	TFinal float64           `json:"t_final"`
+	WallS  float64           `json:"wall_s"`
+	// CPUS is the CPU time of the solving threads while time stepping (the
+	// sum of their per-thread CPU clocks, Linux only; 0 where not measured):
+	// the run's own work, whatever else the machine runs at the time.
+	CPUS            float64            `json:"cpu_s,omitempty"`
 	CellUpdatesPerS float64            `json:"cell_updates_per_s"`
 	Totals          map[string]Total   `json:"totals"`
 	Errors          map[string]Norms   `json:"errors,omitempty"`

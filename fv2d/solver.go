@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"runtime"
 	"sync"
 	"time"
 )
@@ -44,6 +45,9 @@ type Solver struct {
 
 	workers []*worker
 	wg      sync.WaitGroup
+	exited  sync.WaitGroup // the goroutines of workers[1:], until Close
+	cpu     time.Duration  // CPU time of the closed workers' threads (see Close)
+	cpuOK   bool           // every closed worker read its thread's CPU clock
 
 	sx, sy float64 // largest |u|+a and |v|+a (Burgers: |u|) of the current state
 	t      float64
@@ -83,6 +87,8 @@ type worker struct {
 	src    []float64
 	sx, sy float64
 	bad    bool
+	cpu    time.Duration // CPU time of its thread, set when serve ends
+	cpuOK  bool
 	_      [64]byte // keep neighbouring workers' results off one cache line
 }
 
@@ -169,20 +175,42 @@ func (s *Solver) startWorkers(threads int) {
 		s.workers[w] = wk
 		if w > 0 {
 			wk.jobs = make(chan job)
-			go func() {
-				for j := range wk.jobs {
-					wk.do(j)
-					s.wg.Done()
-				}
-			}()
+			s.exited.Add(1)
+			go wk.serve()
 		}
 	}
 }
 
-// Close stops the solver's goroutines. The state stays valid.
+// serve runs the jobs of a worker other than worker 0 until its channel
+// closes, locked to one OS thread so that the thread's CPU clock measures
+// its work alone; it records that CPU time in w.cpu.
+func (w *worker) serve() {
+	defer w.s.exited.Done()
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	c0, ok0 := threadCPU()
+	for j := range w.jobs {
+		w.do(j)
+		w.s.wg.Done()
+	}
+	c1, ok1 := threadCPU()
+	w.cpu, w.cpuOK = c1-c0, ok0 && ok1
+}
+
+// Close stops the solver's goroutines and waits for them to end. The
+// state stays valid.
 func (s *Solver) Close() {
+	if len(s.workers) <= 1 {
+		return
+	}
 	for _, w := range s.workers[1:] {
 		close(w.jobs)
+	}
+	s.exited.Wait()
+	s.cpuOK = true
+	for _, w := range s.workers[1:] {
+		s.cpu += w.cpu
+		s.cpuOK = s.cpuOK && w.cpuOK
 	}
 	s.workers = s.workers[:1]
 }
@@ -466,6 +494,11 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 	st := s.st
 	vars := st.Eq.Vars()
 	init := st.Totals()
+	// Worker 0 is this goroutine: held on its thread while it steps, so
+	// that the thread's CPU clock measures the stepping alone.
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	cpu0, cpuOK := threadCPU()
 	stepStart := time.Now()
 	for s.t < s.tEnd {
 		if err := ctx.Err(); err != nil {
@@ -495,10 +528,16 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 		}
 	}
 	stepWall := time.Since(stepStart).Seconds()
+	cpu1, ok := threadCPU()
+	s.Close()
+	var cpuS float64
+	if cpuOK && ok && (s.cpuOK || len(s.workers) == 1) {
+		cpuS = (cpu1 - cpu0 + s.cpu).Seconds()
+	}
 	a := Assess(s.prob, init, st, s.cfg.Quad, s.cfg.Threads)
 	res := &Result{
 		Case: v.Case, Params: v.Map(), NX: s.nx, NY: s.ny, Steps: s.steps, TFinal: s.t,
-		Totals: a.Totals, Errors: a.Errors, Functionals: a.Functionals, Final: st, Kernel: "portable",
+		Totals: a.Totals, Errors: a.Errors, Functionals: a.Functionals, Final: st, Kernel: "portable", CPUS: cpuS,
 	}
 	if stepWall > 0 {
 		res.CellUpdatesPerS = float64(s.nx*s.ny) * float64(s.steps) / stepWall

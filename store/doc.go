@@ -29,6 +29,7 @@
 //     group, cost, snapshot.
 //   - job.Outcome: job_id, sweep, status ("done" or "failed"), worker,
 //     attempts, wall_s, steps, t_final, cell_updates_per_s, and when present
+//     cpu_s (CPU seconds of the solving threads), kernel (the code path),
 //     errors (variable -> {l1, l2, linf}), functionals (name -> number),
 //     totals (variable -> {initial, final}), error (failure reason), snapshot
 //     (object-store name).

@@ -39,7 +39,7 @@ func (FV2D) Run(ctx context.Context, jb job.Job) (Result, error) {
 		return Result{}, Permanent(err)
 	}
 	r := Result{Outcome: job.Outcome{
-		Status: job.StatusDone, WallS: res.WallS, Steps: res.Steps, TFinal: res.TFinal,
+		Status: job.StatusDone, WallS: res.WallS, CPUS: res.CPUS, Steps: res.Steps, TFinal: res.TFinal,
 		CellUpdatesPerS: res.CellUpdatesPerS, Kernel: res.Kernel, Errors: OutcomeNorms(res.Errors), Functionals: res.Functionals, Totals: OutcomeTotals(res.Totals),
 	}}
 	if jb.Snapshot && res.Final != nil {

@@ -8,11 +8,13 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 
 	"fvsweep/coordinator/datadir"
 	"fvsweep/sweep/field"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/report"
 	"fvsweep/sweep/wire"
@@ -22,7 +24,9 @@ const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field|order-map [f
 
   convergence  error norm against h, log-log, one line per parameter group,
                reference slopes of order 1 and 2, fitted order in the legend
-  cost         error norm against CPU seconds (work-precision), log-log
+  cost         error norm against cost (work-precision), log-log: the CPU
+               seconds of the solving threads, or with --x work the cells
+               updated (nx x ny x steps), the same on any machine
   field        heat map of a job's final field with a colour bar, or with
                --cut a line cut through it against the exact solution
   order-map    observed order per cell of one group's nested grids (ratio 2),
@@ -39,11 +43,13 @@ else from the server files in --data/nats.
 flags:
   --out       output file (.png or .svg), required
   --study N   the study to plot (default: the only one with errors to show)
-  --job ID    field: the job (its ID, or a unique prefix of it)
+  --job ID    field: the job: its ID, a unique prefix of it, or k=v pairs
+              (commas between; case=NAME too) that only its parameters match
   --snapshot FILE  field: read the snapshot from this file instead
   --cut x|y   field: a line cut along x or y instead of the heat map
   --at V      field: the cut passes through the cells nearest to y = V
               (--cut x) or x = V (--cut y); default: the middle
+  --x A       cost: the x axis, cpu (default) or work
   --var V     variable (default: the study's, else the case's first);
               field: a conserved variable, or u, v, p of an Euler case
   --norm N    l1, l2 or linf (default: the study's, else l1)
@@ -76,6 +82,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	group := fs.String("group", "", "")
 	coarse := fs.Int("coarse", 0, "")
 	format := fs.String("format", "", "")
+	costX := fs.String("x", "", "")
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep plot: "+format+"\n", a...)
 		return 2
@@ -119,6 +126,15 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	if kind != "field" && (*jobID != "" || *snapshot != "" || *cut != "" || *at != "") {
 		return bad("--job, --snapshot, --cut and --at are for the field plot")
 	}
+	axis := report.CostCPU
+	switch {
+	case *costX != "" && kind != "cost":
+		return bad("--x is for the cost plot")
+	case *costX != "" && !slices.Contains(report.CostAxes, report.CostAxis(*costX)):
+		return bad("--x %q: want cpu or work", *costX)
+	case *costX != "":
+		axis = report.CostAxis(*costX)
+	}
 	if kind != "order-map" && (*group != "" || *coarse != 0) {
 		return bad("--group and --coarse are for the order map")
 	}
@@ -158,7 +174,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case "field":
 		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
 	default:
-		d, notes, err = studyPlot(sd, kind, *studyN, jf.options())
+		d, notes, err = studyPlot(sd, kind, *studyN, jf.options(), axis)
 	}
 	if err != nil {
 		return failed(err)
@@ -174,7 +190,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 // studyPlot prepares the convergence or cost plot of one study.
-func studyPlot(sd *sweepData, kind string, n int, o table.Options) (plots.Drawer, []string, error) {
+func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
 	set, err := sd.tables(o)
 	studies := set.Studies
 	if err != nil {
@@ -212,7 +228,7 @@ func studyPlot(sd *sweepData, kind string, n int, o table.Options) (plots.Drawer
 	if kind == "convergence" {
 		f, err = report.ConvergenceFigure(*st)
 	} else {
-		f, err = report.CostFigure(*st)
+		f, err = report.CostFigure(*st, axis)
 	}
 	if err != nil {
 		return nil, nil, err
@@ -268,7 +284,21 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if err != nil {
 		return nil, nil, err
 	}
+	if cut != "" && !math.IsNaN(at) {
+		// --cut x runs along x at a height y = at; --cut y at x = at.
+		name, lo, hi := "y", hdr.Y0, hdr.Y0+float64(hdr.NY)*hdr.DY
+		if cut == "y" {
+			name, lo, hi = "x", hdr.X0, hdr.X0+float64(hdr.NX)*hdr.DX
+		}
+		if at < lo || at > hi {
+			return nil, nil, fmt.Errorf("--at %g: the cut along %s passes at %s = %g, outside the domain's %s range [%g, %g]", at, cut, name, at, name, lo, hi)
+		}
+	}
+	tell := sd.differingParams(jb)
 	title := fmt.Sprintf("%s, nx=%s, t=%.4g", jb.Case, jb.Params["nx"], hdr.T)
+	if tell != "" {
+		title = fmt.Sprintf("%s %s, t=%.4g", jb.Case, tell, hdr.T)
+	}
 	if cut == "" {
 		h, err := plots.HeatMap(f, plots.Axes{Title: v + ": " + title})
 		if err != nil {
@@ -283,11 +313,36 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 	if l := jb.Params["limiter"]; l != "" && label == "muscl" {
 		label += " " + l
 	}
-	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label + ", nx=" + jb.Params["nx"]})
+	label += ", nx=" + jb.Params["nx"]
+	if tell != "" {
+		label = tell
+	}
+	fig, err := plots.Cut(f, plots.CutOptions{Axis: cut, At: at, Exact: exact, Label: label})
 	if err != nil {
 		return nil, nil, err
 	}
+	fig.Title += ": " + title
 	return fig, append(notes, fig.Notes...), nil
+}
+
+// differingParams is "k=v ..." of the parameters of jb whose values differ
+// among the jobs of its study: what tells it apart from the others.
+func (sd *sweepData) differingParams(jb job.Job) string {
+	var keys []string
+	for k, v := range jb.Params {
+		for _, r := range sd.rows {
+			if r.Job.Study == jb.Study && r.Job.Params[k] != v {
+				keys = append(keys, k)
+				break
+			}
+		}
+	}
+	slices.Sort(keys)
+	parts := make([]string, len(keys))
+	for i, k := range keys {
+		parts[i] = k + "=" + jb.Params[k]
+	}
+	return strings.Join(parts, " ")
 }
 
 // writeOrderCSV writes the order map as CSV to the file out, or to stdout
@@ -313,8 +368,13 @@ func writeOrderCSV(m *orderMap, out string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// findJob returns the row whose job ID is id or starts with it, uniquely.
+// findJob returns the row whose job ID is id or starts with it, uniquely;
+// or, when id holds k=v pairs (separated by commas or spaces), the one job
+// whose parameters (and case, as case=NAME) match them all.
 func findJob(rows []wire.Row, id string) (wire.Row, error) {
+	if strings.Contains(id, "=") {
+		return selectJob(rows, id)
+	}
 	var found []wire.Row
 	for _, r := range rows {
 		if r.Job.ID == id {
@@ -331,6 +391,36 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 		return found[0], nil
 	}
 	return wire.Row{}, fmt.Errorf("--job %s: %d jobs start with it; give more of the ID", id, len(found))
+}
+
+// selectJob returns the one row whose job matches every k=v of sel.
+func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
+	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	var found []wire.Row
+	for _, r := range rows {
+		match := true
+		for _, p := range pairs {
+			k, v, ok := strings.Cut(p, "=")
+			got, has := r.Job.Params[k]
+			if k == "case" {
+				got, has = r.Job.Case, true
+			}
+			if !ok || !has || got != v {
+				match = false
+				break
+			}
+		}
+		if match {
+			found = append(found, r)
+		}
+	}
+	switch len(found) {
+	case 0:
+		return wire.Row{}, fmt.Errorf("--job %s: no job of the sweep has these parameters", sel)
+	case 1:
+		return found[0], nil
+	}
+	return wire.Row{}, fmt.Errorf("--job %s: %d jobs match; add k=v pairs (case=NAME, nx=N, ...) until one does", sel, len(found))
 }
 
 // fetchSnapshot reads a stored snapshot: through the NATS server of the

@@ -6,6 +6,7 @@ import (
 	"image/png"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -62,6 +63,9 @@ func plotRig(t *testing.T) (dir, jobID, snap string) {
 		if err != nil || o.Status != job.StatusDone {
 			t.Fatal(o.Error, err)
 		}
+		if runtime.GOOS == "linux" && !(o.CPUS > 0) {
+			t.Fatalf("job %s: cpu_s %g: the runner did not record the solving threads' CPU time", j.ID, o.CPUS)
+		}
 		o.JobID, o.Sweep, o.Attempts, o.Worker = j.ID, sp.Name, 1, "test"
 		if snapped {
 			data, err := field.Encode(res.Snapshot.Header, res.Snapshot.Data)
@@ -110,7 +114,11 @@ func TestPlotCommands(t *testing.T) {
 	}{
 		{"convergence.png", []string{"pics", "convergence"}},
 		{"convergence.svg", []string{"pics", "convergence", "--norm", "linf"}},
+		// The titles name what tells the job apart within its study.
+		{"heat.svg", []string{"pics", "field", "--job", id, "--snapshot", snap}},
+		{"cut.svg", []string{"pics", "field", "--job", id, "--snapshot", snap, "--cut", "y"}},
 		{"cost.png", []string{"pics", "cost"}},
+		{"work.png", []string{"pics", "cost", "--x", "work"}},
 		{"heat.png", []string{"pics", "field", "--job", id[:8], "--snapshot", snap}},
 		{"heat-p.png", []string{"pics", "field", "--job", id, "--snapshot", snap, "--var", "p"}},
 		{"cut.png", []string{"pics", "field", "--job", id, "--snapshot", snap, "--cut", "x", "--at", "5"}},
@@ -127,14 +135,16 @@ func TestPlotCommands(t *testing.T) {
 		}
 		if strings.HasSuffix(out, ".png") {
 			checkPNG(t, out)
-		} else if b, _ := os.ReadFile(out); !bytes.Contains(b, []byte("<svg")) || !bytes.Contains(b, []byte("Linf(rho)")) {
-			t.Errorf("%s: not an SVG with the Linf axis label", out)
+		} else if b, _ := os.ReadFile(out); !bytes.Contains(b, []byte("<svg")) {
+			t.Errorf("%s: not an SVG", out)
+		} else if want := map[bool]string{true: "Linf(rho)", false: "limiter=mc nx=64"}[tc.args[1] == "convergence"]; !bytes.Contains(b, []byte(want)) {
+			t.Errorf("%s lacks %q", out, want)
 		}
 	}
 }
 
 func TestPlotErrors(t *testing.T) {
-	dir, id, _ := plotRig(t)
+	dir, id, snap := plotRig(t)
 	out := filepath.Join(t.TempDir(), "x.png")
 	for _, tc := range []struct {
 		args []string
@@ -147,12 +157,17 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "convergence", "--out", "x.gif"}, 2, `unknown image format ".gif"`},
 		{[]string{"pics", "convergence", "--out", out, "--cut", "x"}, 2, "are for the field plot"},
 		{[]string{"pics", "field", "--out", out, "--cut", "z"}, 2, `--cut "z"`},
+		{[]string{"pics", "convergence", "--out", out, "--x", "work"}, 2, "--x is for the cost plot"},
+		{[]string{"pics", "cost", "--out", out, "--x", "wall"}, 2, `--x "wall": want cpu or work`},
 		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 1, `norm "l7"`},
 		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
 		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
 		{[]string{"pics", "field", "--out", out, "--job", "ffff"}, 1, "no such job"},
 		{[]string{"pics", "field", "--out", out, "--job", id}, 1, "pass it with --snapshot FILE"},
+		// The vortex lives on [0, 10]^2: a cut outside it is refused, not clamped.
+		{[]string{"pics", "field", "--out", out, "--job", id, "--snapshot", snap, "--cut", "x", "--at", "50"}, 1, "--at 50: the cut along x passes at y = 50, outside the domain's y range [0, 10]"},
+		{[]string{"pics", "field", "--out", out, "--job", id, "--snapshot", snap, "--cut", "y", "--at", "-1"}, 1, "outside the domain's x range [0, 10]"},
 	} {
 		var stdout, stderr bytes.Buffer
 		args := append(tc.args, "--data", dir)
@@ -188,8 +203,8 @@ func TestReportCommand(t *testing.T) {
 			t.Errorf("report lacks %q", want)
 		}
 	}
-	if n := strings.Count(html, "<svg"); n != 2 {
-		t.Errorf("%d plots, want 2 (convergence and cost)", n)
+	if n := strings.Count(html, "<svg"); n != 3 {
+		t.Errorf("%d plots, want 3 (convergence, cost in CPU seconds and in cell updates)", n)
 	}
 	for _, tc := range []struct {
 		args []string

@@ -32,8 +32,8 @@ what status, table, export and cancel take.
 
 Ctrl-C stops cleanly: running jobs go back to the queue, stored outcomes
 stay, and running the same command again resumes where it stopped. Other
-terminals can watch with 'fvsweep status' (a browser with --http)
-meanwhile, or add workers with 'fvsweep worker --nats URL' (the URL is in
+terminals can watch with 'fvsweep status' (a browser with --http, whose
+page stays up after the sweep ends until Ctrl-C) meanwhile, or add workers with 'fvsweep worker --nats URL' (the URL is in
 DIR/coordinator.url).
 
 flags:
@@ -168,6 +168,10 @@ func runRun(args []string) int {
 		if err := printTables(os.Stdout, d, table.Options{}, *format); err != nil {
 			return fail("run: tables: %v", err)
 		}
+	}
+	if s.web != nil {
+		fmt.Printf("sweep %s finished; the status page stays up at %s until Ctrl-C\n", rep.Sweep, s.web.URL())
+		<-ctx.Done()
 	}
 	return 0
 }

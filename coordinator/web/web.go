@@ -6,9 +6,13 @@
 //	GET /api/sweeps                     wire.StatusReply: every sweep and the live workers
 //	GET /api/sweeps/{name}/status       SweepView: one sweep and the live workers
 //	GET /api/sweeps/{name}/tables       table.Set: convergence tables and failures so far,
-//	                                    the JSON of 'fvsweep table --format json'
+//	                                    the JSON of 'fvsweep table --format json', but that a
+//	                                    grid still to come is running, queued or canceled
+//	                                    rather than pending
 //	GET /api/sweeps/{name}/tables.html  the same tables as an HTML fragment (table.WriteHTML)
-//	GET /api/workers                    WorkersView: live workers, when each was last heard from
+//	GET /api/sweeps/{name}/progress     Progress: elapsed time, throughput, ETA, jobs running
+//	GET /api/workers                    WorkersView: live workers, when each was last heard from,
+//	                                    how busy over the last minute, what each runs
 //
 // The first two are what 'fvsweep status --json' prints.
 package web
@@ -23,6 +27,7 @@ import (
 	"fmt"
 	"net"
 	"net/http"
+	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -143,6 +148,11 @@ type WorkerView struct {
 	wire.WorkerReport
 	LastSeen time.Time `json:"last_seen"`
 	SeenAgoS float64   `json:"seen_ago_s"`
+	// BusyRecent is the fraction of its slot-time busy over the last
+	// minute of its reports (Busy is since it started, finished jobs only).
+	BusyRecent float64 `json:"busy_recent"`
+	// Jobs are its running jobs with their case, group and grid.
+	Jobs []RunningView `json:"jobs"`
 }
 
 // WorkersView is GET /api/workers; Now is the coordinator's clock, against
@@ -158,6 +168,8 @@ type webHandler struct {
 	token string
 	mux   *http.ServeMux
 
+	live *tracker
+
 	mu       sync.Mutex // serialises table builds
 	tables   map[string]builtTables
 	settings map[string][]job.StudySettings // of sweeps whose record lacks them, parsed once
@@ -169,6 +181,8 @@ type builtTables struct {
 	gen  uint64
 	at   time.Time
 	took time.Duration
+	set  table.Set
+	run  string // the running jobs and cancel mark the statuses show
 	json []byte
 	html []byte
 	etag string
@@ -198,12 +212,13 @@ func (b builtTables) send(w http.ResponseWriter, r *http.Request, html bool) {
 // (see WebOptions.Token).
 func Handler(c *coordinator.Coordinator, token string) http.Handler {
 	h := &webHandler{c: c, token: token, mux: http.NewServeMux(), tables: map[string]builtTables{},
-		settings: map[string][]job.StudySettings{}}
+		settings: map[string][]job.StudySettings{}, live: newTracker()}
 	h.mux.Handle("GET /", http.FileServerFS(assets))
 	h.mux.HandleFunc("GET /api/sweeps", h.sweeps)
 	h.mux.HandleFunc("GET /api/sweeps/{name}/status", h.sweepStatus)
 	h.mux.HandleFunc("GET /api/sweeps/{name}/tables", h.sweepTables)
 	h.mux.HandleFunc("GET /api/sweeps/{name}/tables.html", h.sweepTables)
+	h.mux.HandleFunc("GET /api/sweeps/{name}/progress", h.sweepProgress)
 	h.mux.HandleFunc("GET /api/workers", h.workers)
 	return h
 }
@@ -303,11 +318,51 @@ func (h *webHandler) workers(w http.ResponseWriter, r *http.Request) {
 	live := h.c.Workers()
 	seen := h.c.LastSeen()
 	v := WorkersView{Now: now, Workers: make([]WorkerView, len(live))}
+	totals := map[string]int{}
+	if st, err := h.c.Status(""); err == nil {
+		for _, s := range st {
+			totals[s.Sweep] = s.JobsTotal
+		}
+	}
 	for i, rep := range live {
 		at := seen[rep.ID]
-		v.Workers[i] = WorkerView{WorkerReport: rep, LastSeen: at, SeenAgoS: now.Sub(at).Seconds()}
+		h.live.mu.Lock()
+		jobs := h.live.running(h.c.Store(), []wire.WorkerReport{rep}, totals, "", now)
+		h.live.mu.Unlock()
+		v.Workers[i] = WorkerView{WorkerReport: rep, LastSeen: at, SeenAgoS: now.Sub(at).Seconds(),
+			BusyRecent: h.live.busyRecent(rep), Jobs: jobs}
 	}
 	writeJSON(w, v, nil)
+}
+
+func (h *webHandler) sweepProgress(w http.ResponseWriter, r *http.Request) {
+	st, err := h.c.Status(r.PathValue("name"))
+	if err != nil {
+		writeJSON(w, nil, err)
+		return
+	}
+	writeJSON(w, h.live.progress(h.c.Store(), st[0], h.c.Workers(), h.c.LastSeen(), time.Now()), nil)
+}
+
+// runMark names the jobs of sweep name running now and whether it is
+// canceled: what the statuses of its tables' grids still to come show.
+func (h *webHandler) runMark(name string) (map[string]bool, bool, string) {
+	running := map[string]bool{}
+	var ids []string
+	for _, w := range h.c.Workers() {
+		for _, c := range w.Current {
+			if c.Sweep == name {
+				running[c.JobID] = true
+				ids = append(ids, c.JobID)
+			}
+		}
+	}
+	slices.Sort(ids)
+	canceled := false
+	if st, err := h.c.Status(name); err == nil {
+		canceled = st[0].Canceled
+	}
+	return running, canceled, fmt.Sprint(canceled, ids)
 }
 
 // sweepTables answers the tables of a sweep, as JSON or (at tables.html)
@@ -321,15 +376,24 @@ func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 	defer h.mu.Unlock()
 	gen := h.c.Generation()
 	now := time.Now()
-	if b, ok := h.tables[name]; ok && (b.gen == gen || now.Sub(b.at) < max(time.Second, 4*b.took)) {
+	running, canceled, mark := h.runMark(name)
+	b, ok := h.tables[name]
+	fresh := ok && (b.gen == gen || now.Sub(b.at) < max(time.Second, 4*b.took))
+	if fresh && b.run == mark {
 		b.send(w, r, html)
 		return
 	}
-	set, err := h.build(name)
-	if err != nil {
-		writeJSON(w, nil, err)
-		return
+	set := b.set
+	if !fresh {
+		var err error
+		if set, err = h.build(name); err != nil {
+			writeJSON(w, nil, err)
+			return
+		}
+		b = builtTables{gen: gen, at: now, set: set}
 	}
+	b.run = mark
+	set = refined(set, running, canceled)
 	body, err := json.Marshal(set)
 	if err != nil {
 		writeJSON(w, nil, err)
@@ -340,8 +404,10 @@ func (h *webHandler) sweepTables(w http.ResponseWriter, r *http.Request) {
 		writeJSON(w, nil, err)
 		return
 	}
-	b := builtTables{gen: gen, at: now, took: time.Since(now), json: body, html: frag.Bytes(),
-		etag: fmt.Sprintf(`"%d-%d"`, gen, now.UnixNano())}
+	if !fresh {
+		b.took = time.Since(now)
+	}
+	b.json, b.html, b.etag = body, frag.Bytes(), fmt.Sprintf(`"%d-%d"`, b.gen, time.Now().UnixNano())
 	h.tables[name] = b
 	b.send(w, r, html)
 }

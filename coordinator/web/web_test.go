@@ -11,10 +11,13 @@ import (
 	"os/exec"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 	"time"
 
+	"github.com/chromedp/cdproto/cdp"
+	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/chromedp"
 
 	"fvsweep/coordinator/web"
@@ -95,15 +98,47 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	if one.Sweep != "live" || one.JobsTotal != 4 || one.Running != 2 || one.Queued != 2 || len(one.Workers) != 1 {
 		t.Fatalf("status while held: %+v", one)
 	}
-	var tv tablesJSON
-	get(t, h, host, "/api/sweeps/live/tables", &tv)
-	if len(tv.Studies) != 2 || tv.Studies[0].Groups[0].Rows[0].Status != "pending" || tv.Studies[0].Groups[0].Rows[0].L1 != nil {
-		t.Fatalf("tables while held: %+v", tv.Studies)
-	}
 	var ws web.WorkersView
 	get(t, h, host, "/api/workers", &ws)
 	if len(ws.Workers) != 1 || len(ws.Workers[0].Current) != 2 || ws.Workers[0].SeenAgoS > 1 {
 		t.Fatalf("workers: %+v", ws)
+	}
+	// Both slots busy is 100 % busy; each running job comes with its case
+	// and grid.
+	wk := ws.Workers[0]
+	if wk.BusyRecent < 0.9 || len(wk.Jobs) != 2 {
+		t.Errorf("worker with both slots running: busy %.2f, jobs %+v", wk.BusyRecent, wk.Jobs)
+	}
+	running := map[string]bool{}
+	for _, j := range wk.Jobs {
+		running[j.JobID] = true
+		if j.Case != "burgers-sine" || j.NX == 0 || j.Sweep != "live" || j.Worker != wk.ID {
+			t.Errorf("running job %+v", j)
+		}
+	}
+	// A grid still to come is running (a worker has it) or queued, never
+	// "pending"; the group without results waits.
+	var tv tablesJSON
+	get(t, h, host, "/api/sweeps/live/tables", &tv)
+	if len(tv.Studies) != 2 || tv.Studies[0].Groups[0].Rows[0].L1 != nil {
+		t.Fatalf("tables while held: %+v", tv.Studies)
+	}
+	states := map[string]int{}
+	for _, st := range tv.Studies {
+		for _, row := range st.Groups[0].Rows {
+			states[row.Status]++
+			if (row.Status == "running") != running[row.JobID] {
+				t.Errorf("grid %s: %s, running on the worker: %v", row.JobID, row.Status, running[row.JobID])
+			}
+		}
+	}
+	if states["running"] != 2 || states["queued"] != 2 {
+		t.Errorf("grid statuses while held: %v", states)
+	}
+	var pr web.Progress
+	get(t, h, host, "/api/sweeps/live/progress", &pr)
+	if pr.Sweep != "live" || len(pr.Running) != 2 || !(pr.CostTotal > 0) || pr.CostDone != 0 || pr.Canceled != 0 || pr.LastChange.Before(one.Created) {
+		t.Errorf("progress while held: %+v", pr)
 	}
 
 	close(release)
@@ -147,6 +182,16 @@ func TestWebAPIMatchesCoordinator(t *testing.T) {
 	}
 	if !strings.Contains(tv.Failures[0].Reason, "step guard") {
 		t.Errorf("failure reason %q", tv.Failures[0].Reason)
+	}
+	// Every job has an outcome: the cost is all done, nothing runs, and
+	// the last change is an outcome's arrival, after the submission. The
+	// failed job is alone in its study: no parameter tells it apart.
+	get(t, h, host, "/api/sweeps/live/progress", &pr)
+	if pr.CostDone != pr.CostTotal || len(pr.Running) != 0 || pr.ETAS != nil || !pr.LastChange.After(one.Created) {
+		t.Errorf("progress when finished: %+v", pr)
+	}
+	if p, ok := pr.FailureParams[tv.Failures[0].JobID]; !ok || p != "" {
+		t.Errorf("failure params %q (present %v), want none that differ", p, ok)
 	}
 	g := tv.Studies[0].Groups[0]
 	if len(g.Rows) != 3 || g.Order == nil || g.Rows[2].L1 == nil || g.Rows[2].Order == nil {
@@ -315,7 +360,7 @@ func TestWebPageInBrowser(t *testing.T) {
 	defer w.Close()
 
 	start := time.Now()
-	if err := chromedp.Do(ctx, chromedp.Navigate(w.URL()+"?token="+tok)); err != nil {
+	if err := chromedp.Do(ctx, watchPaint(), chromedp.Navigate(w.URL()+"?token="+tok)); err != nil {
 		t.Fatal(err)
 	}
 	sweepRow := `document.querySelector('#sweeps [data-sweep="live"]')`
@@ -330,9 +375,35 @@ func TestWebPageInBrowser(t *testing.T) {
 	if err := waitFor(ctx, "the worker's jobs", `document.querySelectorAll('#workers tbody .job').length === 2`, 5*time.Second); err != nil {
 		t.Error(err)
 	}
+	// Running now: case, grid and time, not a hash; both slots busy is
+	// 100 % busy.
+	err = waitFor(ctx, "the running jobs' case and grid", `(() => { const c = document.querySelector('#workers tbody .running-now');
+		return !!c && c.textContent.includes('burgers-sine') && /nx=\d+|\d+×\d+/.test(c.textContent); })()`, 5*time.Second)
 	workers = text(ctx, "#workers tbody")
-	if !strings.Contains(workers, "live/") || strings.Contains(workers, "No worker") {
-		t.Errorf("workers while held: %q", workers)
+	if err != nil || strings.Contains(workers, "No worker") {
+		t.Errorf("%v; workers while held: %q", err, workers)
+	}
+	if busy := text(ctx, "#workers tbody .busy"); !strings.Contains(busy, "100 %") {
+		t.Errorf("busy with both slots running: %q", busy)
+	}
+	// The grids held show running, the others queued; the groups without a
+	// result wait, neutral; the sweep row gives elapsed time, an ETA (or
+	// that it is estimating one) and the last change.
+	err = waitFor(ctx, "running and queued grids", `(() => { const t = document.querySelector('#tables')?.textContent || '';
+		return t.includes('running') && t.includes('queued') && t.includes('not run yet'); })()`, 5*time.Second)
+	tables := text(ctx, "#tables")
+	if err != nil || strings.Contains(tables, "insufficient-data") {
+		t.Errorf("%v; tables while held:\n%s", err, tables)
+	}
+	statuses, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`[...document.querySelectorAll('#tables td[data-label="status"]')].map(td => td.textContent)`))
+	if err != nil || len(statuses) != 4 || slices.Contains(statuses, "pending") {
+		t.Errorf("grid statuses while held: %q (%v)", statuses, err)
+	}
+	if err := waitFor(ctx, "the pace line", `!!document.querySelector('#sweeps .pace .eta')`, 5*time.Second); err != nil {
+		t.Error(err)
+	}
+	if pace := text(ctx, "#sweeps .pace"); !strings.Contains(pace, "elapsed") || !strings.Contains(pace, "ETA") || !strings.Contains(pace, "last change") {
+		t.Errorf("pace while held: %q", pace)
 	}
 	t.Logf("running sweep shown after %v", time.Since(start).Round(time.Millisecond))
 	shot(t, ctx, "running")
@@ -363,8 +434,97 @@ func TestWebPageInBrowser(t *testing.T) {
 	if !strings.Contains(fails, "1 failed job") {
 		t.Errorf("failures: %q", fails)
 	}
+	// The failed job is alone in its study: no parameter to list (the
+	// page listed all of them, cfl and the rest).
+	if params := text(ctx, "#failures td.params"); params != "–" {
+		t.Errorf("failure parameters %q, want only those that differ: none", params)
+	}
+	if err := waitFor(ctx, "the throughput", `(document.querySelector('#sweeps .pace')?.textContent || '').includes('jobs/s')`, 5*time.Second); err != nil {
+		t.Error(err, text(ctx, "#sweeps .pace"))
+	}
+	if pace := text(ctx, "#sweeps .pace"); !strings.Contains(pace, "took") || !strings.Contains(pace, "cell updates/s") || strings.Contains(pace, "ETA") {
+		t.Errorf("pace when finished: %q", pace)
+	}
+	if stale, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`window.__staleStatus === true`)); err != nil || stale {
+		t.Errorf("the page showed data while its status line said it was connecting (%v)", err)
+	}
 	t.Logf("finished tables shown %v after the start", time.Since(start).Round(time.Millisecond))
 	shot(t, ctx, "finished")
+
+	// At 420 px wide nothing scrolls sideways: the tables become labelled
+	// cards.
+	if err := chromedp.Do(ctx, chromedp.EmulateViewport(420, 900)); err != nil {
+		t.Fatal(err)
+	}
+	err = waitFor(ctx, "a layout 420 px wide", `document.documentElement.scrollWidth <= window.innerWidth &&
+		getComputedStyle(document.querySelector('#tables td')).display !== 'table-cell'`, 5*time.Second)
+	if err != nil {
+		wide, _ := chromedp.Run(ctx, chromedp.Evaluate[int](`document.documentElement.scrollWidth`))
+		t.Errorf("%v: the page is %d px wide", err, wide)
+	}
+	shot(t, ctx, "narrow")
+}
+
+// A canceled sweep shows the jobs it dropped as canceled, not queued: in
+// its counts, its bar, its tables and its pace line.
+func TestWebPageCanceled(t *testing.T) {
+	ctx := browser(t)
+	r := newRig(t)
+	release := make(chan struct{})
+	defer close(release)
+	r.addWorker(1, gated(release))
+	r.submit(webSpec)
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+		st, err := r.coord.Status("live")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if st[0].Running == 1 {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("no job running: %+v", st[0])
+		}
+	}
+	if _, err := r.coord.Cancel(context.Background(), "live"); err != nil {
+		t.Fatal(err)
+	}
+	w, err := web.Serve(r.coord, web.Options{Addr: "127.0.0.1:0"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer w.Close()
+	if err := chromedp.Do(ctx, chromedp.Navigate(w.URL())); err != nil {
+		t.Fatal(err)
+	}
+	err = waitFor(ctx, "the canceled sweep", `(() => { const t = document.querySelector('#tables')?.textContent || '';
+		return t.includes('canceled') && !!document.querySelector('#sweeps .n-canceled') && !!document.querySelector('#sweeps .pace .eta'); })()`, 10*time.Second)
+	row, tables := text(ctx, "#sweeps"), text(ctx, "#tables")
+	if err != nil {
+		t.Fatalf("%v\nsweeps: %s\ntables: %s", err, row, tables)
+	}
+	if strings.Contains(row, "queued") || strings.Contains(tables, "queued") || !strings.Contains(row, "will not run") {
+		t.Errorf("canceled sweep shows queued jobs:\n%s\n%s", row, tables)
+	}
+	if n := text(ctx, "#sweeps .n-canceled"); n != "3" && n != "4" {
+		t.Errorf("%s canceled, want the 3 queued (and the running one, if the worker dropped it)", n)
+	}
+	shot(t, ctx, "canceled")
+}
+
+// watchPaint makes the page record, before its own script runs, whether
+// it ever shows a sweep or a worker while its status line still says it is
+// connecting (window.__staleStatus).
+func watchPaint() chromedp.Action[chromedp.Void] {
+	const src = `window.__staleStatus = false;
+new MutationObserver(() => {
+  const p = document.getElementById('pulse');
+  if (p && p.textContent.includes('connecting') && document.querySelector('#sweeps [data-sweep], #workers [data-worker]')) window.__staleStatus = true;
+}).observe(document, { subtree: true, childList: true, characterData: true });`
+	return func(ctx context.Context, t *chromedp.Target) (chromedp.Void, error) {
+		_, err := cdp.Call(ctx, t, page.AddScriptToEvaluateOnNewDocument, page.AddScriptToEvaluateOnNewDocumentParams{Source: src})
+		return chromedp.Void{}, err
+	}
 }
 
 // tablesJSON is what the page reads of the tables JSON.
@@ -373,6 +533,7 @@ type tablesJSON struct {
 		Groups []struct {
 			Order *float64 `json:"fitted_order"`
 			Rows  []struct {
+				JobID  string   `json:"job_id"`
 				Status string   `json:"status"`
 				L1     *float64 `json:"l1"`
 				Order  *float64 `json:"order"`

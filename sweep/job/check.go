@@ -65,8 +65,8 @@ func (o Outcome) check(message bool) error {
 		return fmt.Errorf("job %s: status %q is neither %q nor %q", o.JobID, o.Status, StatusDone, StatusFailed)
 	case message && o.Status == StatusFailed && o.Error == "":
 		return fmt.Errorf("job %s: failed without a reason", o.JobID)
-	case o.Attempts < 0 || o.Steps < 0:
-		return fmt.Errorf("job %s: negative attempts or steps", o.JobID)
+	case o.Attempts < 0 || o.Steps < 0 || o.CPUS < 0:
+		return fmt.Errorf("job %s: negative attempts, steps or cpu_s", o.JobID)
 	}
 	check := func(what string, v float64) error {
 		if err := checkFinite(what, v); err != nil {
@@ -77,7 +77,7 @@ func (o Outcome) check(message bool) error {
 	for _, f := range []struct {
 		name string
 		v    float64
-	}{{"wall_s", o.WallS}, {"t_final", o.TFinal}, {"cell_updates_per_s", o.CellUpdatesPerS}} {
+	}{{"wall_s", o.WallS}, {"cpu_s", o.CPUS}, {"t_final", o.TFinal}, {"cell_updates_per_s", o.CellUpdatesPerS}} {
 		if err := check(f.name, f.v); err != nil {
 			return err
 		}

@@ -97,6 +97,7 @@ type Outcome struct {
 	Worker          string             `json:"worker"`
 	Attempts        int                `json:"attempts"`
 	WallS           float64            `json:"wall_s"`
+	CPUS            float64            `json:"cpu_s,omitempty"` // CPU time of the solving threads (0: not measured)
 	Steps           int                `json:"steps"`
 	TFinal          float64            `json:"t_final"`
 	CellUpdatesPerS float64            `json:"cell_updates_per_s"`

@@ -300,9 +300,10 @@ func logTickSet(min, max float64, levels []int) []plot.Tick {
 	var ticks []plot.Tick
 	exp := false
 	for e := math.Floor(math.Log10(min)); e <= math.Ceil(math.Log10(max)); e++ {
-		base := math.Pow(10, e)
 		for m := 1; m < 10; m++ {
-			v := float64(m) * base
+			// The nearest double to m x 10^e (5 * 1e-6 is not: it prints as
+			// 4.9999999999999996e-06).
+			v, _ := strconv.ParseFloat(strconv.Itoa(m)+"e"+strconv.Itoa(int(e)), 64)
 			if v < min*(1-1e-9) || v > max*(1+1e-9) {
 				continue
 			}
@@ -343,8 +344,11 @@ func tickLabel(v float64, exp bool) string {
 		}
 		return s
 	}
-	s := strconv.FormatFloat(v, 'e', -1, 64) // "1e-04"
+	s := strconv.FormatFloat(v, 'e', 2, 64) // "2.50e-04"
 	mant, e, _ := strings.Cut(s, "e")
+	if strings.Contains(mant, ".") {
+		mant = strings.TrimSuffix(strings.TrimRight(mant, "0"), ".")
+	}
 	n, _ := strconv.Atoi(e)
 	return mant + "e" + strconv.Itoa(n)
 }

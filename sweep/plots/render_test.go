@@ -144,6 +144,16 @@ func TestSaveBadFormat(t *testing.T) {
 	}
 }
 
+// Tick labels are short: at most three significant digits, whatever the
+// rounding of the tick value (a label once read 4.9999999999999996e-6).
+func TestTickLabels(t *testing.T) {
+	for v, want := range map[float64]string{5 * 1e-6: "5e-6", 2.5e-4: "2.5e-4", 1e4: "1e4", 3 * 1e-7: "3e-7", 1.2345e-5: "1.23e-5"} {
+		if got := tickLabel(v, true); got != want {
+			t.Errorf("tickLabel(%v): %q, want %q", v, got, want)
+		}
+	}
+}
+
 func TestLogTicks(t *testing.T) {
 	labels := func(min, max float64) []string {
 		var out []string
@@ -163,6 +173,8 @@ func TestLogTicks(t *testing.T) {
 		{3e-4, 0.2, "5e-4 1e-3 2e-3 5e-3 1e-2 2e-2 5e-2 1e-1 2e-1"}, // one label below 1e-3: all in exponent form
 		{0.15, 0.65, "0.2 0.3 0.4 0.5 0.6"},                         // 1-2-5 gives two labels: every multiple
 		{1, 1000, "1 10 100 1000"},                                  // three decades: powers of ten
+		{3e-6, 4e-5, "5e-6 1e-5 2e-5"},                              // 5 x 1e-6 in floating point is 4.9999999999999996e-06
+		{2.5e-7, 9e-6, "5e-7 1e-6 2e-6 5e-6"},
 	} {
 		if got := strings.Join(labels(tc.min, tc.max), " "); got != tc.want {
 			t.Errorf("ticks [%g, %g]: %q, want %q", tc.min, tc.max, got, tc.want)

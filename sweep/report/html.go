@@ -133,7 +133,10 @@ func (r *Report) AddFigures() {
 			fn            func(table.Study) (*plots.Figure, error)
 		}{
 			{"convergence", y + " against the grid spacing h, log-log, one line per group; dashed grey: slopes of order 1 and 2; legend: least-squares order ± its standard error.", ConvergenceFigure},
-			{"cost", y + " against CPU seconds (wall x threads), coarse grid first: the line lower left reaches an error for less work.", CostFigure},
+			{"cost", y + " against the CPU seconds of the solving threads (their own CPU clocks, not the wall time), coarse grid first: the line lower left reaches an error for less work.",
+				func(st table.Study) (*plots.Figure, error) { return CostFigure(st, CostCPU) }},
+			{"work", y + " against the cells updated (nx x ny x steps), coarse grid first: the cost of each scheme apart from the machine and its load.",
+				func(st table.Study) (*plots.Figure, error) { return CostFigure(st, CostWork) }},
 		} {
 			f, err := mk.fn(sr.Study)
 			if err != nil {

@@ -155,7 +155,7 @@ func TestSeries(t *testing.T) {
 	sp, jobs, outs := fakeOutcomes(t)
 	studies, _, _ := table.Build(sp.Settings(), jobs, outs, table.Options{})
 	conv := ConvergenceSeries(studies[0])
-	cost := CostSeries(studies[0])
+	cost := CostSeries(studies[0], CostCPU)
 	if len(conv) != 2 || len(cost) != 2 {
 		t.Fatalf("%d and %d series", len(conv), len(cost))
 	}
@@ -170,6 +170,30 @@ func TestSeries(t *testing.T) {
 	}
 	if x := cost[0].X[0]; x != outs[studies[0].Groups[0].Rows[0].JobID].WallS {
 		t.Errorf("cost x %g", x)
+	}
+	f, err := CostFigure(studies[0], CostCPU)
+	if err != nil || len(f.Notes) == 0 || !strings.Contains(f.Notes[0], "no measured CPU time") {
+		t.Errorf("cost figure of outcomes without cpu_s: notes %v, %v", f.Notes, err)
+	}
+
+	// With cpu_s stored, the CPU axis is that (not wall x threads); the
+	// work axis is nx x ny x steps whatever the times.
+	for id, o := range outs {
+		o.CPUS, o.Steps = o.WallS/4, 10
+		outs[id] = o
+	}
+	studies, _, _ = table.Build(sp.Settings(), jobs, outs, table.Options{})
+	r0 := studies[0].Groups[0].Rows[0]
+	cost = CostSeries(studies[0], CostCPU)
+	work := CostSeries(studies[0], CostWork)
+	if x := cost[0].X[0]; x != outs[r0.JobID].WallS/4 {
+		t.Errorf("cost x %g with cpu_s %g", x, outs[r0.JobID].CPUS)
+	}
+	if x, want := work[0].X[0], float64(r0.NX*max(1, r0.NY)*10); x != want {
+		t.Errorf("work x %g, want nx*ny*steps = %g", x, want)
+	}
+	if f, err := CostFigure(studies[0], CostWork); err != nil || len(f.Notes) != 0 || !strings.Contains(f.XLabel, "cell updates") {
+		t.Errorf("work figure: %+v, %v", f, err)
 	}
 }
 

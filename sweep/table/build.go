@@ -46,7 +46,13 @@ type GridRow struct {
 	// Phi holds the value of each of Study.Functionals on this grid.
 	Phi   []float64
 	WallS float64
-	CPUS  float64 // wall seconds x threads
+	// CPUS is the CPU time of the solving threads (the outcome's cpu_s);
+	// for an outcome that lacks it, wall seconds x threads, and CPUFromWall
+	// says so.
+	CPUS        float64
+	CPUFromWall bool
+	// Work is the cells updated, nx x ny x steps: the deterministic cost.
+	Work float64
 
 	hRep float64 // representative spacing of the GCI (see gciSpacing)
 }
@@ -226,7 +232,11 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 			}
 			if out, ok := outcomes[j.ID]; ok {
 				r.Status, r.WallS = string(out.Status), out.WallS
-				r.CPUS = out.WallS * math.Max(1, float64(atoi(j.Params["threads"])))
+				r.CPUS = out.CPUS
+				if r.CPUS == 0 {
+					r.CPUS, r.CPUFromWall = out.WallS*math.Max(1, float64(atoi(j.Params["threads"]))), true
+				}
+				r.Work = float64(r.NX) * float64(max(1, r.NY)) * float64(out.Steps)
 				if out.Status == job.StatusDone {
 					if n, ok := out.Errors[st.Var]; ok {
 						r.L1, r.L2, r.Linf = n.L1, n.L2, n.Linf

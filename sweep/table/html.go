@@ -6,6 +6,9 @@ import (
 	"io"
 	"strconv"
 	"strings"
+
+	"fvsweep/sweep/job"
+	"fvsweep/sweep/verify"
 )
 
 // WriteHTML writes the convergence tables of the studies as an HTML
@@ -32,6 +35,23 @@ func execute(name string, st Study) (template.HTML, error) {
 		return "", err
 	}
 	return template.HTML(b.String()), nil // #nosec: html/template output, escaped
+}
+
+// Finished counts the grids of g that have an outcome (done or failed).
+func (g Group) Finished() int {
+	n := 0
+	for _, r := range g.Rows {
+		if r.Status == string(job.StatusDone) || r.Status == string(job.StatusFailed) {
+			n++
+		}
+	}
+	return n
+}
+
+// Waiting reports whether g's verdict is insufficient-data only because
+// grids are still to come: the data may yet decide it, so it is no finding.
+func (g Group) Waiting() bool {
+	return g.Verdict.Status == verify.StatusInsufficient && g.Finished() < len(g.Rows)
 }
 
 // NormLabel is the symbol of a norm of a variable: "L1(rho)".
@@ -75,7 +95,7 @@ const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Ind
 {{range .Rows}}<tr><td>{{.NX}}</td><td>{{.NY}}</td><td>{{num .H}}</td>{{if $st.Exact}}<td>{{num .Err}}</td><td>{{order .Order}}</td>{{end}}{{range .Phi}}<td>{{phi .}}</td>{{end}}<td>{{secs .WallS}}</td><td class="t">{{.Status}}</td></tr>
 {{end}}</table>
 {{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
-<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}</p>
+{{if .Waiting}}<span class="waiting">{{if .Finished}}waiting for more grids{{else}}not run yet{{end}}</span> — {{.Finished}} of {{len .Rows}} grids have a result{{else}}<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}{{end}}</p>
 {{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
 {{with .GCICells}}<table>
 <tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>

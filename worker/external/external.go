@@ -162,7 +162,7 @@ func (r *Runner) runIn(ctx context.Context, dir string, run *outside.Run, p *fv2
 		}
 		a.Functionals[k] = v
 	}
-	out := worker.Result{Outcome: job.Outcome{Status: job.StatusDone, TFinal: tEnd,
+	out := worker.Result{Outcome: job.Outcome{Status: job.StatusDone, TFinal: tEnd, CPUS: ex.cpuS,
 		Errors: worker.OutcomeNorms(a.Errors), Totals: worker.OutcomeTotals(a.Totals), Functionals: a.Functionals}}
 	if snapshot {
 		out.Snapshot = worker.SnapshotOf(final)

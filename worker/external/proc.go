@@ -40,10 +40,11 @@ const (
 
 // exit is how a run of the program ended.
 type exit struct {
-	err      error  // nil: exit status 0
-	timedOut bool   // killed at the timeout
-	overMem  int64  // > 0: killed over the memory limit, resident bytes seen
-	stderr   string // last lines of its standard error
+	err      error   // nil: exit status 0
+	timedOut bool    // killed at the timeout
+	overMem  int64   // > 0: killed over the memory limit, resident bytes seen
+	stderr   string  // last lines of its standard error
+	cpuS     float64 // user and system CPU seconds of the program's own process
 }
 
 // reason describes a failed exit in one line, or "" for success.
@@ -100,6 +101,9 @@ func execute(ctx context.Context, argv []string, dir string, env []string, timeo
 		case err := <-done:
 			killGroup()
 			out.err = err
+			if ps := cmd.ProcessState; ps != nil {
+				out.cpuS = (ps.UserTime() + ps.SystemTime()).Seconds()
+			}
 			out.stderr = stderr.lines(tailLines)
 			return out, nil
 		case <-timer.C:
