@@ -212,3 +212,16 @@ func (db *DB) Complete(jobs []job.Job) (map[string]bool, error) {
 	})
 	return out, err
 }
+
+// Unfinished returns the jobs of a sweep that have no stored outcome, in
+// dispatch order; the error wraps ErrNotFound for an unknown sweep.
+func (db *DB) Unfinished(sweepName string) ([]job.Job, error) {
+	var out []job.Job
+	err := db.bolt.View(func(tx *bolt.Tx) error {
+		results := tx.Bucket(bucketResults)
+		var err error
+		out, err = readJobs(tx, sweepName, func(j *job.Job) bool { return results.Get([]byte(j.ID)) == nil })
+		return err
+	})
+	return out, err
+}

@@ -89,7 +89,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 	if out.Status == job.StatusFailed && out.Error == "" {
 		out.Error = "failed without a reason"
 	}
-	f, err := w.publish(out, meta.Sequence.Stream)
+	f, err := w.publish(out, meta.Sequence.Stream, m)
 	if err != nil {
 		w.log.Warn("publishing result; the job will be delivered again", "job", jb.ID, "error", err)
 		m.Nak()

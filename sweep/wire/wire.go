@@ -317,6 +317,13 @@ type RowsReply struct {
 	Error    string `json:"error,omitempty"`
 }
 
+// Part says where a part stands in a reply sent in parts: its number,
+// whether it is the last, and the reply's error text.
+func (r StatusReply) Part() (seq int, last bool, errText string) { return r.Seq, r.Last, r.Error }
+
+// Part says where a part stands in a reply sent in parts (see StatusReply.Part).
+func (r RowsReply) Part() (seq int, last bool, errText string) { return r.Seq, r.Last, r.Error }
+
 // CancelReply says what a cancel did.
 type CancelReply struct {
 	Purged uint64 `json:"purged"` // queued jobs removed
