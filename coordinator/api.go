@@ -180,6 +180,16 @@ func jsonSize(v any) int {
 	return len(b)
 }
 
+// reportSize is a close upper estimate of the JSON size of a report,
+// cheaper than encoding it (status lists up to thousands of large ones).
+func reportSize(r wire.WorkerReport) int {
+	n := 320 + len(r.ID) + 2*len(r.Host) // fixed fields, escapes
+	for _, j := range r.Current {
+		n += 80 + len(j.JobID) + 2*len(j.Sweep)
+	}
+	return n
+}
+
 // onStatus sends the status in parts (see wire.StatusReply), the sweeps
 // first, then the workers.
 func (c *Coordinator) onStatus(m *nats.Msg) {
@@ -207,7 +217,7 @@ func (c *Coordinator) onStatus(m *nats.Msg) {
 		part.Sweeps = append(part.Sweeps, s)
 	}
 	for _, w := range c.Workers() {
-		if !p.room(jsonSize(w), next) {
+		if !p.room(reportSize(w), next) {
 			return
 		}
 		part.Workers = append(part.Workers, w)

@@ -28,7 +28,7 @@ const boundUsage = `  --max-functionals N  functionals in one result (default 64
   --max-text N         bytes of a result's error text (default 2048)
   --max-steps N        steps a result may state (default 1000000000)
   --max-wall D         wall time a result may state (default 720h)
-  --max-report SIZE    bytes of a worker report (default 48KiB)
+  --max-report SIZE    bytes of a worker report (default 32KiB)
   --max-workers N      workers known at once (default 2048)
   --report-every-max D longest report interval a worker may state; a worker
                        expires 3 intervals after its last report (default 1m)

@@ -194,7 +194,7 @@ type ReportBounds struct {
 // told otherwise. fvsweep's workers report every 2 s (tests: 100 ms).
 func DefaultReportBounds() ReportBounds {
 	return ReportBounds{
-		MaxBytes: 48 << 10, MaxCurrent: 256, MaxText: 128,
+		MaxBytes: 32 << 10, MaxCurrent: 256, MaxText: 128,
 		MinEvery: 50 * time.Millisecond, MaxEvery: time.Minute,
 		MaxWorkers: 2048, MaxCores: 4096,
 	}
