@@ -14,8 +14,8 @@ import (
 const forgetUsage = `usage: fvsweep forget SWEEP [--job ID | --study N | --failed]
 
 Discards stored outcomes of a sweep so that the next 'fvsweep submit' of its
-spec runs those jobs again: one job (--job), the jobs of one study (--study,
-counted from 0 in the spec), the failed ones (--failed), or with none of
+spec runs those jobs again: one job (--job), the jobs of one study (--study N,
+the N-th [[study]] of the spec, counted from 1), the failed ones (--failed), or with none of
 these every outcome of the sweep. --study and --failed may be combined.
 Outcomes are keyed by job ID: a job that another sweep shares loses its
 outcome there too. The store keeps a record of each forget: what, when and
@@ -24,7 +24,7 @@ directly (only when no coordinator holds it).
 
 flags:
   --job ID     forget the outcome of this job only
-  --study N    forget the outcomes of study N
+  --study N    forget the outcomes of the N-th study (from 1)
   --failed     forget the failed outcomes
 ` + commonUsage
 
@@ -37,17 +37,20 @@ func runForget(args []string) int {
 	var c common
 	c.register(fs)
 	jobID := fs.String("job", "", "")
-	study := fs.Int("study", -1, "")
+	study := fs.Int("study", 0, "")
 	failed := fs.Bool("failed", false, "")
 	pos, code, done := parseCommand("forget", forgetUsage, fs, args, func(n int) bool { return n == 1 })
 	if done {
 		return code
 	}
-	if *jobID != "" && (*study >= 0 || *failed) {
+	if *study < 0 {
+		return usageErr("forget", "--study %d: studies count from 1", *study)
+	}
+	if *jobID != "" && (*study > 0 || *failed) {
 		return usageErr("forget", "--job picks one job: give it without --study or --failed")
 	}
 	req := wire.ForgetRequest{Sweep: pos[0], Job: *jobID, Failed: *failed, By: whoAmI()}
-	if *study >= 0 {
+	if *study > 0 {
 		req.Study, req.HasStudy = *study, true
 	}
 	rep, live, err := datadir.Forget(context.Background(), c.dir(), c.clientOptions(), req)

@@ -332,7 +332,8 @@ type CancelReply struct {
 
 // ForgetRequest asks the coordinator to discard stored outcomes of a
 // sweep so that the next submission runs those jobs again: one job (Job),
-// the jobs of one study (Study, when HasStudy), the failed ones (Failed),
+// the jobs of one study (Study, the 1-based index of job.Job.Study, when
+// HasStudy), the failed ones (Failed),
 // or, with none of these, every outcome of the sweep. By names who asks
 // (the client's user and host); the coordinator adds what the connection
 // tells it.
