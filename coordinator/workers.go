@@ -20,8 +20,9 @@ type registry struct {
 }
 
 type seen struct {
-	r  wire.WorkerReport
-	at time.Time
+	r     wire.WorkerReport
+	at    time.Time
+	first map[string]time.Time // job ID -> when this worker first listed it
 }
 
 func newRegistry(b wire.ReportBounds) *registry { return &registry{b: b, workers: map[string]seen{}} }
@@ -44,8 +45,27 @@ func (g *registry) update(r wire.WorkerReport, now time.Time) string {
 			return fmt.Sprintf("%d workers known already", len(g.workers))
 		}
 	}
-	g.workers[r.ID] = seen{r: r, at: now}
+	g.workers[r.ID] = seen{r: r, at: now, first: firstSeen(old.first, r, now)}
 	return ""
+}
+
+// firstSeen notes when each job of r was first listed by this worker and
+// moves a job's Since no earlier than one report interval before that: a
+// report cannot make a job look as if it had run for hours (an honest
+// worker lists a job within one interval of starting it).
+func firstSeen(before map[string]time.Time, r wire.WorkerReport, now time.Time) map[string]time.Time {
+	first := make(map[string]time.Time, len(r.Current))
+	for i, j := range r.Current {
+		at, ok := before[j.JobID]
+		if !ok {
+			at = now
+		}
+		first[j.JobID] = at
+		if earliest := at.Add(-r.Every); j.Since.Before(earliest) {
+			r.Current[i].Since = earliest
+		}
+	}
+	return first
 }
 
 // expire drops the workers whose reports stopped; g.mu is held.
