@@ -68,8 +68,6 @@ func (o Outcome) CheckBounds(b Bounds) error {
 		return bad("error text of %d bytes, at most %d", len(o.Error), b.MaxText)
 	case len(o.Worker) > b.MaxName || len(o.Snapshot) > b.MaxName:
 		return bad("worker name or snapshot reference longer than %d bytes", b.MaxName)
-	case len(o.Sweep) > b.MaxName:
-		return bad("sweep name longer than %d bytes", b.MaxName)
 	case o.Steps > b.MaxSteps:
 		return bad("%d steps, at most %d", o.Steps, b.MaxSteps)
 	case o.Attempts < 1 || o.Attempts > b.MaxAttempts:
