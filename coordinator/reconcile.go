@@ -38,18 +38,22 @@ func (c *Coordinator) reconcileEvery(ctx context.Context) {
 // many it queued. A job must be found missing in two successive rounds:
 // a result on its way to the store has already removed its job's message.
 //
-// Its cost per round is one count of each sweep (cached) and, for a sweep
-// with jobs left, one listing of the sweep's job subjects in the stream
-// (paged by the server) and a read of its jobs without an outcome when
-// fewer subjects than jobs left are queued; it queues at most
-// cfg.ReconcileMax jobs.
+// Its cost per round is one count of each sweep (cached) and one stream
+// info; only when the stream holds fewer messages than jobs are left, one
+// listing of each such sweep's job subjects (paged by the server) and a
+// read of its jobs without an outcome when fewer subjects than jobs left
+// are queued. It queues at most cfg.ReconcileMax jobs.
 func (c *Coordinator) reconcile(ctx context.Context) (int, error) {
 	recs, err := c.db.Sweeps()
 	if err != nil {
 		return 0, err
 	}
-	missing := map[string]bool{}
-	var again []job.Job
+	type open struct {
+		name string
+		left int
+	}
+	var todo []open
+	total := 0
 	for _, r := range recs {
 		if r.Canceled {
 			continue
@@ -58,22 +62,40 @@ func (c *Coordinator) reconcile(ctx context.Context) (int, error) {
 		if err != nil {
 			return 0, err
 		}
-		left := t.Jobs - t.Done - t.Failed
-		if left == 0 {
-			continue
+		if left := t.Jobs - t.Done - t.Failed; left > 0 {
+			todo = append(todo, open{r.Name, left})
+			total += left
 		}
-		info, err := c.jobs.Info(ctx, jetstream.WithSubjectFilter(c.cfg.Names.JobFilter(r.Name)))
+	}
+	missing := map[string]bool{}
+	if len(todo) == 0 {
+		c.missing = missing
+		return 0, nil
+	}
+	// Only the coordinator publishes jobs: when the stream holds as many
+	// messages as jobs are left, none is missing.
+	all, err := c.jobs.Info(ctx)
+	if err != nil {
+		return 0, err
+	}
+	if all.State.Msgs >= uint64(total) {
+		c.missing = missing
+		return 0, nil
+	}
+	var again []job.Job
+	for _, o := range todo {
+		info, err := c.jobs.Info(ctx, jetstream.WithSubjectFilter(c.cfg.Names.JobFilter(o.name)))
 		if err != nil {
 			return 0, err
 		}
-		if len(info.State.Subjects) >= left {
+		if len(info.State.Subjects) >= o.left {
 			continue
 		}
-		open, err := c.db.Unfinished(r.Name)
+		unfinished, err := c.db.Unfinished(o.name)
 		if err != nil {
 			return 0, err
 		}
-		for _, j := range open {
+		for _, j := range unfinished {
 			if info.State.Subjects[c.cfg.Names.JobSubject(j.Sweep, j.ID)] > 0 {
 				continue
 			}
