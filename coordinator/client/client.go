@@ -182,8 +182,16 @@ func (c *Client) parts(ctx context.Context, verb string, req any, take func(seq 
 	defer sub.Unsubscribe()
 	sub.SetPendingLimits(-1, -1)
 	data, _ := json.Marshal(req)
-	if err := c.nc.PublishRequest(c.names.API(verb), inbox, data); err != nil {
+	subject := c.names.API(verb)
+	before := c.nc.LastError()
+	if err := c.nc.PublishRequest(subject, inbox, data); err != nil {
 		return err
+	}
+	// A refused publish comes back as an error before the flush's pong.
+	if err := c.nc.Flush(); err == nil {
+		if err := deniedSince(c.nc, before, subject); err != nil {
+			return fmt.Errorf("%s: %w", verb, err)
+		}
 	}
 	for seq := 0; ; seq++ {
 		ctx, cancel := context.WithTimeout(ctx, c.Timeout)
