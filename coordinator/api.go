@@ -145,19 +145,101 @@ func errString(err error) string {
 	return err.Error()
 }
 
+// replyChunk is the payload size at which a rows or status reply is sent
+// and a new part started (well under NATS's 1 MiB default max_payload; no
+// single row or worker report comes near it, given the outcome and report
+// bounds).
+const replyChunk = 256 << 10
+
+// parts sends a reply in parts to the requester's inbox: room counts an
+// item's JSON size and sends the part in hand first when it is full; send
+// publishes a part.
+type parts struct {
+	c     *Coordinator
+	reply string
+	size  int
+	seq   int
+}
+
+// room makes room for an item of n bytes: when the part in hand would grow
+// past replyChunk it sends it first (flush). It returns false when that
+// failed.
+func (p *parts) room(n int, flush func() bool) bool {
+	if p.size > 0 && p.size+n > replyChunk && !flush() {
+		return false
+	}
+	p.size += n
+	return true
+}
+
+// send publishes v as the next part; it returns false when that failed.
+func (p *parts) send(what string, v any) bool {
+	data, err := json.Marshal(v)
+	if err == nil {
+		err = p.c.nc.Publish(p.reply, data)
+	}
+	if err != nil {
+		p.c.log.Warn("sending "+what, "error", err)
+		return false
+	}
+	p.seq++
+	p.size = 0
+	return true
+}
+
+func jsonSize(v any) int {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return 0
+	}
+	return len(b)
+}
+
+// reportSize is a close upper estimate of the JSON size of a report,
+// cheaper than encoding it (status lists up to thousands of large ones).
+func reportSize(r wire.WorkerReport) int {
+	n := 320 + len(r.ID) + 2*len(r.Host) // fixed fields, escapes
+	for _, j := range r.Current {
+		n += 80 + len(j.JobID) + 2*len(j.Sweep)
+	}
+	return n
+}
+
+// onStatus sends the status in parts (see wire.StatusReply), the sweeps
+// first, then the workers.
 func (c *Coordinator) onStatus(m *nats.Msg) {
 	var req wire.SweepRequest
 	if err := wire.Decode("status request", m.Data, &req); err != nil {
-		c.reply(m, wire.StatusReply{Error: err.Error()})
+		c.reply(m, wire.StatusReply{Last: true, Error: err.Error()})
 		return
 	}
 	st, err := c.Status(req.Sweep)
-	c.reply(m, wire.StatusReply{Sweeps: st, Workers: c.Workers(), Error: errString(err)})
+	if err != nil {
+		c.reply(m, wire.StatusReply{Last: true, Error: err.Error()})
+		return
+	}
+	p := &parts{c: c, reply: m.Reply}
+	part := wire.StatusReply{RefusedResults: c.RefusedResults()}
+	next := func() bool {
+		ok := p.send("status", part)
+		part = wire.StatusReply{Seq: p.seq}
+		return ok
+	}
+	for _, s := range st {
+		if !p.room(jsonSize(s), next) {
+			return
+		}
+		part.Sweeps = append(part.Sweeps, s)
+	}
+	for _, w := range c.Workers() {
+		if !p.room(reportSize(w), next) {
+			return
+		}
+		part.Workers = append(part.Workers, w)
+	}
+	part.Last = true
+	next()
 }
-
-// rowsChunk is the payload size at which a rows reply is sent and a new
-// one started (well under NATS's 1 MiB default max_payload).
-const rowsChunk = 256 << 10
 
 // onRows streams the rows of a sweep to the requester's inbox in chunks,
 // the last one marked Last.
@@ -177,40 +259,31 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 		c.reply(m, wire.RowsReply{Last: true, Error: err.Error()})
 		return
 	}
-	var (
-		page []wire.Row
-		size int
-		seq  int
-	)
-	send := func(last bool) bool {
-		rep := wire.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last}
-		if seq == 0 {
-			rep.SpecFile, rep.Spec = rec.SpecFile, rec.Spec
-		}
-		data, err := json.Marshal(rep)
-		if err == nil {
-			err = c.nc.Publish(m.Reply, data)
-		}
-		if err != nil {
-			c.log.Warn("sending rows", "sweep", req.Sweep, "error", err)
-			return false
-		}
-		seq++
-		page, size = page[:0], 0
-		return true
+	p := &parts{c: c, reply: m.Reply}
+	part := wire.RowsReply{Total: len(rows), SpecFile: rec.SpecFile, Spec: rec.Spec}
+	next := func(last bool) bool {
+		part.Last = last
+		ok := p.send("rows of "+req.Sweep, part)
+		part = wire.RowsReply{Total: len(rows), Seq: p.seq, Rows: part.Rows[:0]}
+		return ok
 	}
 	for _, r := range rows {
-		b, err := json.Marshal(r)
-		if err != nil {
-			continue
+		n := jsonSize(r)
+		if n > wire.MaxMessage/2 {
+			// Stored before outcomes were bounded: send the job and its
+			// status without the outcome's numbers.
+			c.log.Warn("a row too large to send: its outcome's maps are left out", "sweep", req.Sweep, "job", r.Job.ID, "bytes", n)
+			o := *r.Outcome
+			o.Errors, o.Functionals, o.Totals = nil, nil, nil
+			r.Outcome = &o
+			n = jsonSize(r)
 		}
-		if size+len(b) > rowsChunk && len(page) > 0 && !send(false) {
+		if !p.room(n, func() bool { return next(false) }) {
 			return
 		}
-		page = append(page, r)
-		size += len(b)
+		part.Rows = append(part.Rows, r)
 	}
-	send(true)
+	next(true)
 }
 
 func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/hashicorp/go-hclog"
@@ -34,6 +35,16 @@ type Config struct {
 	// OnStored, if set, is called after each batch of outcomes is stored.
 	OnStored func([]job.Outcome)
 	Log      hclog.Logger
+	// Bounds are what a result may hold (zero: job.DefaultBounds);
+	// Reports bound the worker reports (zero: wire.DefaultReportBounds).
+	Bounds  job.Bounds
+	Reports wire.ReportBounds
+	// Reconcile is how often the coordinator looks for jobs that have
+	// neither a message in the jobs stream nor an outcome and queues them
+	// again (default 1 min; negative: never). ReconcileMax bounds the jobs
+	// queued again per round (default 10,000).
+	Reconcile    time.Duration
+	ReconcileMax int
 }
 
 // Coordinator owns the sweeps of one store: it publishes their jobs,
@@ -41,15 +52,19 @@ type Config struct {
 // that ran out of deliveries as failed, and answers the API requests of the
 // client commands.
 type Coordinator struct {
-	nc   *nats.Conn
-	js   jetstream.JetStream
-	db   *store.DB
-	cfg  Config
-	log  hclog.Logger
-	jobs jetstream.Stream
-	outs jetstream.Stream // the results stream
-	kv   jetstream.KeyValue
-	reg  *registry
+	nc     *nats.Conn
+	js     jetstream.JetStream
+	db     *store.DB
+	cfg    Config
+	log    hclog.Logger
+	jobs   jetstream.Stream
+	outs   jetstream.Stream // the results stream
+	kv     jetstream.KeyValue
+	fields jetstream.ObjectStore
+	reg    *registry
+
+	refused atomic.Int64    // result messages refused since the start
+	missing map[string]bool // jobs with no message and no outcome at the last reconcile (reconcile's own)
 
 	ready chan struct{} // closed once Run answers on every subject
 
@@ -77,6 +92,21 @@ func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordin
 		cfg.Log = hclog.NewNullLogger()
 	}
 	cfg.Delivery = cfg.Delivery.withDefaults()
+	if cfg.Bounds == (job.Bounds{}) {
+		cfg.Bounds = job.DefaultBounds()
+	}
+	if err := cfg.Bounds.Valid(); err != nil {
+		return nil, err
+	}
+	if cfg.Reports == (wire.ReportBounds{}) {
+		cfg.Reports = wire.DefaultReportBounds()
+	}
+	if cfg.Reconcile == 0 {
+		cfg.Reconcile = time.Minute
+	}
+	if cfg.ReconcileMax <= 0 {
+		cfg.ReconcileMax = 10000
+	}
 	js, err := jetstream.New(nc, jetstream.WithPublishAsyncMaxPending(4096))
 	if err != nil {
 		return nil, fmt.Errorf("jetstream: %w", err)
@@ -84,8 +114,8 @@ func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordin
 	if err := EnsureStreams(ctx, js, cfg.Names, cfg.Delivery); err != nil {
 		return nil, err
 	}
-	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(), tallies: map[string]tally{},
-		ready: make(chan struct{})}
+	c := &Coordinator{nc: nc, js: js, db: db, cfg: cfg, log: cfg.Log, reg: newRegistry(cfg.Reports), tallies: map[string]tally{},
+		ready: make(chan struct{}), missing: map[string]bool{}}
 	if c.outs, err = js.Stream(ctx, cfg.Names.ResultStream()); err != nil {
 		return nil, fmt.Errorf("stream %s: %w", cfg.Names.ResultStream(), err)
 	}
@@ -94,6 +124,9 @@ func New(ctx context.Context, nc *nats.Conn, db *store.DB, cfg Config) (*Coordin
 	}
 	if c.kv, err = js.KeyValue(ctx, cfg.Names.CancelBucket()); err != nil {
 		return nil, fmt.Errorf("bucket %s: %w", cfg.Names.CancelBucket(), err)
+	}
+	if c.fields, err = js.ObjectStore(ctx, cfg.Names.FieldBucket()); err != nil {
+		return nil, fmt.Errorf("object store %s: %w", cfg.Names.FieldBucket(), err)
 	}
 	if err := c.syncCanceled(ctx); err != nil {
 		return nil, err
@@ -151,6 +184,9 @@ func (c *Coordinator) Run(ctx context.Context) error {
 		if err != nil {
 			return fmt.Errorf("subscribe %s: %w", subject, err)
 		}
+		// A flood on one subject (worker reports) is dropped beyond a few
+		// megabytes instead of growing the coordinator's memory.
+		s.SetPendingLimits(4096, 16<<20)
 		subs = append(subs, s)
 		return nil
 	}
@@ -160,6 +196,7 @@ func (c *Coordinator) Run(ctx context.Context) error {
 		h       nats.MsgHandler
 	}{
 		{c.cfg.Names.WorkerFilter(), c.onReport},
+		{c.cfg.Names.API(wire.VerbForget), c.onForget},
 		{adv, func(m *nats.Msg) { c.onMaxDeliveries(ctx, m) }},
 		{c.cfg.Names.API(wire.VerbPing), c.inboxOnly(func(m *nats.Msg) { m.Respond([]byte(c.db.Path())) })},
 		{c.cfg.Names.API(wire.VerbStatus), c.inboxOnly(c.onStatus)},
@@ -177,6 +214,11 @@ func (c *Coordinator) Run(ctx context.Context) error {
 		defer close(done)
 		c.collect(in, ctx.Done())
 	}()
+	reconciled := make(chan struct{})
+	go func() {
+		defer close(reconciled)
+		c.reconcileEvery(ctx)
+	}()
 	if err := c.nc.Flush(); err != nil { // the server now knows every subscription
 		c.log.Warn("flush after subscribing", "error", err)
 	}
@@ -187,6 +229,7 @@ func (c *Coordinator) Run(ctx context.Context) error {
 	}
 	cc.Stop()
 	<-done
+	<-reconciled
 	// Outcomes that arrived after the stop stay unacked and come again.
 	for {
 		select {
@@ -232,41 +275,16 @@ func (c *Coordinator) collect(in <-chan jetstream.Msg, stop <-chan struct{}) {
 }
 
 // store writes one batch of result messages in one transaction and acks
-// them; malformed or unknown results are terminated, a failed write naks
-// the whole batch so that it comes again.
+// them. A result is stored only when it belongs to a delivery (checkBatch);
+// others are terminated and counted. A failed write naks the whole batch
+// so that it comes again.
 func (c *Coordinator) store(msgs []jetstream.Msg) {
-	outs := make([]job.Outcome, 0, len(msgs))
-	keep := msgs[:0:0]
-	for _, m := range msgs {
-		o, err := checkResult(m.Data())
-		if err != nil {
-			c.log.Warn("dropping result", "subject", m.Subject(), "error", err)
-			m.Term()
-			continue
-		}
-		outs = append(outs, o)
-		keep = append(keep, m)
+	outs, keep, err := c.checkBatch(msgs)
+	if err != nil {
+		c.nakAll(msgs, "reading the store", err)
+		return
 	}
 	if len(outs) == 0 {
-		return
-	}
-	known, err := c.db.HasJobs(outs)
-	if err != nil {
-		c.nakAll(keep, "reading the store", err)
-		return
-	}
-	n := 0
-	for i, m := range keep {
-		if !known[i] {
-			c.log.Warn("dropping result for a job not in the store", "subject", m.Subject(), "sweep", outs[i].Sweep, "job", outs[i].JobID)
-			m.Term()
-			continue
-		}
-		outs[n], keep[n] = outs[i], m
-		n++
-	}
-	outs, keep = outs[:n], keep[:n]
-	if n == 0 {
 		return
 	}
 	written, err := c.db.PutOutcomes(outs)
@@ -294,13 +312,12 @@ func (c *Coordinator) nakAll(msgs []jetstream.Msg, what string, err error) {
 	}
 }
 
-// checkResult decodes a result and checks its fields; store checks in one
-// read transaction per batch that its job is stored.
-func checkResult(data []byte) (job.Outcome, error) { return job.DecodeOutcomeMessage(data) }
-
 // onReport records a worker's report.
 func (c *Coordinator) onReport(m *nats.Msg) {
-	r, err := wire.DecodeWorkerReport(m.Data)
+	r, err := wire.DecodeWorkerReport(m.Data, c.cfg.Reports)
+	if err == nil && m.Subject != c.cfg.Names.WorkerSubject(r.ID) {
+		err = fmt.Errorf("report of %s on subject %s", r.ID, m.Subject)
+	}
 	if err != nil {
 		c.log.Warn("dropping worker report", "subject", m.Subject, "error", err)
 		return
@@ -308,7 +325,9 @@ func (c *Coordinator) onReport(m *nats.Msg) {
 	if r.Leaving {
 		c.log.Info("worker left", "worker", r.ID, "done", r.Done, "failed", r.Failed)
 	}
-	c.reg.update(r, time.Now())
+	if why := c.reg.update(r, time.Now()); why != "" {
+		c.log.Debug("dropping worker report", "worker", r.ID, "reason", why)
+	}
 }
 
 // maxDeliveries is the part of the server's max-deliveries advisory used.
@@ -318,8 +337,9 @@ type maxDeliveries struct {
 }
 
 // onMaxDeliveries records a job that ran out of deliveries without any
-// result (its worker was lost, hung or killed each time) as failed, and
-// removes it from the queue.
+// result as failed, and removes it from the queue. The coordinator cannot
+// tell why no result came: each worker may have been lost, hung or killed,
+// or given the job back (a nak); the reason says only what happened.
 func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 	var a maxDeliveries
 	if err := json.Unmarshal(m.Data, &a); err != nil || a.StreamSeq == 0 {
@@ -348,7 +368,7 @@ func (c *Coordinator) onMaxDeliveries(ctx context.Context, m *nats.Msg) {
 	} else if _, found, err := c.db.Outcome(jb.ID); err == nil && !found {
 		o := job.Outcome{
 			JobID: jb.ID, Sweep: jb.Sweep, Status: job.StatusFailed, Attempts: int(a.Deliveries),
-			Error: fmt.Sprintf("no result after %d deliveries (ack wait %v each): the worker was lost, hung or killed",
+			Error: fmt.Sprintf("delivered %d times, no result (each delivery was given back, or not answered within the ack wait of %v)",
 				a.Deliveries, c.cfg.Delivery.AckWait),
 		}
 		if _, err := c.db.PutOutcomes([]job.Outcome{o}); err != nil {

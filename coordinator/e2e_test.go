@@ -262,7 +262,7 @@ fixed = { nx = 16 }
 	}
 	outs, _ := r.db.Outcomes("lost")
 	for _, o := range outs {
-		if !strings.Contains(o.Error, "no result after 2 deliveries") || o.Attempts != 2 {
+		if !strings.Contains(o.Error, "delivered 2 times, no result") || o.Attempts != 2 {
 			t.Errorf("outcome %+v", o)
 		}
 	}

@@ -43,20 +43,20 @@ type rig struct {
 // testDelivery is short enough that redeliveries happen within a test.
 var testDelivery = coordinator.Delivery{AckWait: time.Second, MaxDeliver: 2}
 
-func newRig(t testing.TB, d coordinator.Delivery) *rig {
+func newRig(t testing.TB, d coordinator.Delivery, tune ...func(*coordinator.Config)) *rig {
 	t.Helper()
 	srv, err := server.Start(server.Options{Dir: filepath.Join(t.TempDir(), "nats")})
 	if err != nil {
 		t.Fatal(err)
 	}
-	r := newRigAt(t, srv.ClientURL(), d)
+	r := newRigAt(t, srv.ClientURL(), d, tune...)
 	r.srv = srv
 	return r
 }
 
 // newRigAt is a rig whose coordinator uses the NATS server at url (no
 // workers can be added unless r.srv is set).
-func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
+func newRigAt(t testing.TB, url string, d coordinator.Delivery, tune ...func(*coordinator.Config)) *rig {
 	t.Helper()
 	r := &rig{t: t, dir: t.TempDir(), names: wire.Names{}, url: url}
 	var err error
@@ -70,12 +70,16 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery) *rig {
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	r.stop = cancel
-	r.coord, err = coordinator.New(ctx, r.nc, r.db, coordinator.Config{
+	cfg := coordinator.Config{
 		Names: r.names, Delivery: d, Log: testLog(t, "coordinator"),
 		ParseSpec: func(file, src string) (*spec.Plan, error) {
 			return spec.LoadSource(file, []byte(src), spec.DefaultLimits())
 		},
-	})
+	}
+	for _, f := range tune {
+		f(&cfg)
+	}
+	r.coord, err = coordinator.New(ctx, r.nc, r.db, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -25,7 +25,19 @@ type Delivery struct {
 	// Replicas is the replica count of every stream and bucket (1 on a single
 	// server, up to the cluster size). Default 1.
 	Replicas int
+	// JobBytes and ResultBytes bound the bytes the jobs and the results
+	// streams hold (defaults 1 GiB each: a million jobs of typical size);
+	// a publish beyond is refused. FieldBytes bounds the snapshot object
+	// store (default 16 GiB).
+	JobBytes, ResultBytes, FieldBytes int64
 }
+
+// Default stream and bucket sizes; see Delivery.
+const (
+	DefaultJobBytes    = 1 << 30
+	DefaultResultBytes = 1 << 30
+	DefaultFieldBytes  = 16 << 30
+)
 
 func (d Delivery) withDefaults() Delivery {
 	if d.AckWait <= 0 {
@@ -39,6 +51,15 @@ func (d Delivery) withDefaults() Delivery {
 	}
 	if d.Replicas <= 0 {
 		d.Replicas = 1
+	}
+	if d.JobBytes <= 0 {
+		d.JobBytes = DefaultJobBytes
+	}
+	if d.ResultBytes <= 0 {
+		d.ResultBytes = DefaultResultBytes
+	}
+	if d.FieldBytes <= 0 {
+		d.FieldBytes = DefaultFieldBytes
 	}
 	return d
 }
@@ -86,6 +107,7 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d 
 		DiscardNewPerSubject: true,
 		Duplicates:           d.DupWindow,
 		MaxMsgSize:           wire.MaxMessage,
+		MaxBytes:             d.JobBytes,
 		Replicas:             d.Replicas,
 	})
 	if err != nil {
@@ -97,9 +119,13 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d 
 		Subjects:    []string{n.ResultFilter()},
 		Retention:   jetstream.WorkQueuePolicy,
 		Storage:     jetstream.FileStorage,
-		Duplicates:  d.DupWindow,
-		MaxMsgSize:  wire.MaxMessage,
-		Replicas:    d.Replicas,
+		// Full, it refuses new outcomes (their workers retry) rather than
+		// dropping stored ones.
+		Discard:    jetstream.DiscardNew,
+		Duplicates: d.DupWindow,
+		MaxMsgSize: wire.MaxMessage,
+		MaxBytes:   d.ResultBytes,
+		Replicas:   d.Replicas,
 	})
 	if err != nil {
 		return fmt.Errorf("stream %s: %w", n.ResultStream(), err)
@@ -144,6 +170,7 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d 
 		Bucket:      n.FieldBucket(),
 		Description: "fvsweep field snapshots (float32)",
 		Storage:     jetstream.FileStorage,
+		MaxBytes:    d.FieldBytes,
 		Replicas:    d.Replicas,
 	})
 	if err != nil {

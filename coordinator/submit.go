@@ -6,8 +6,10 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+	"sync/atomic"
 	"time"
 
+	"github.com/nats-io/nats.go"
 	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/store"
@@ -24,11 +26,16 @@ const publishWindow = 2048
 const submitChunk = 4096
 
 // Submit expands spec, records the sweep and its jobs in the store and
-// queues every job that has no stored outcome, largest estimated cost first.
-// With retryFailed, failed outcomes of the sweep are deleted first so that
-// those jobs run again. A canceled sweep is un-canceled. Submitting the same
-// spec twice queues nothing new: stored jobs are skipped, and a job still
-// queued or running is refused by the stream (one message per job subject).
+// queues every job that is not complete (store.DB.Complete: no outcome, or
+// a done outcome without the snapshot the job asks for), largest estimated
+// cost first. With retryFailed, failed outcomes of the sweep are deleted
+// first so that those jobs run again. A canceled sweep is un-canceled.
+// Submitting the same spec twice queues nothing new: stored jobs are
+// skipped, and a job still queued or running is refused by the stream (one
+// message per job subject). A job whose message went away without an
+// outcome (removed by a worker that gave no result) is queued again: every
+// publish has a message ID of its own, so the duplicate window never
+// swallows it.
 //
 // The expansion is streamed (Plan.Each): jobs are recorded (one
 // transaction per chunk of submitChunk) and queued a chunk at a time, so
@@ -41,32 +48,31 @@ func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed boo
 	// bad spec changes nothing: the sweep is reopened at the first job.
 	var pub *publisher
 	start := func() error {
-		msgID, retried, err := c.reopen(ctx, sp.Name, retryFailed)
+		retried, err := c.reopen(ctx, sp.Name, retryFailed)
 		rep.Retried = retried
-		pub = c.newPublisher(ctx, msgID)
+		pub = c.newPublisher(ctx)
 		return err
 	}
 	chunk := make([]job.Job, 0, submitChunk)
-	ids := make([]string, 0, submitChunk)
 	flush := func() error {
 		if _, _, err := c.db.PutSweep(rec, chunk); err != nil {
 			return err
 		}
-		ids = ids[:0]
-		for _, j := range chunk {
-			ids = append(ids, j.ID)
-		}
-		stored, err := c.db.Stored(ids)
+		complete, err := c.db.Complete(chunk)
 		if err != nil {
 			return err
 		}
-		// Each gives the jobs largest cost first; the stream keeps that order.
+		todo := chunk[:0:0]
 		for _, j := range chunk {
-			if stored[j.ID] {
+			if complete[j.ID] {
 				rep.Stored++
-			} else if err := pub.add(j); err != nil {
-				return err
+			} else {
+				todo = append(todo, j)
 			}
+		}
+		// Each gives the jobs largest cost first; the stream keeps that order.
+		if err := pub.addAll(todo); err != nil {
+			return err
 		}
 		clear(chunk)
 		chunk = chunk[:0]
@@ -105,32 +111,26 @@ func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed boo
 
 // reopen prepares a stored sweep for a submission: a canceled one is
 // un-canceled, and with retryFailed its failed outcomes are deleted (it
-// returns how many). Job message IDs make a second publish of a job within
-// the duplicate window a no-op; a sweep that was canceled (its queue
-// purged) or whose failed jobs are retried must queue its jobs again, so
-// msgID then gives fresh IDs.
-func (c *Coordinator) reopen(ctx context.Context, name string, retryFailed bool) (msgID func(string) string, retried int, err error) {
-	msgID = func(id string) string { return id }
+// returns how many).
+func (c *Coordinator) reopen(ctx context.Context, name string, retryFailed bool) (retried int, err error) {
 	old, err := c.db.Sweep(name)
 	if err != nil {
-		return msgID, 0, nil // a new sweep
+		return 0, nil // a new sweep
 	}
 	if old.Canceled {
-		msgID = requeueID()
 		if err := c.db.SetCanceled(name, false); err != nil {
-			return msgID, 0, err
+			return 0, err
 		}
 		if err := c.kv.Delete(ctx, wire.SweepToken(name)); err != nil && !errors.Is(err, jetstream.ErrKeyNotFound) {
-			return msgID, 0, fmt.Errorf("clearing cancel mark: %w", err)
+			return 0, fmt.Errorf("clearing cancel mark: %w", err)
 		}
 	}
 	if retryFailed {
-		msgID = requeueID()
 		if retried, err = c.deleteFailed(name); err != nil {
-			return msgID, 0, err
+			return 0, err
 		}
 	}
-	return msgID, retried, nil
+	return retried, nil
 }
 
 // deleteFailed deletes the failed outcomes of a sweep and counts them.
@@ -148,62 +148,97 @@ func (c *Coordinator) deleteFailed(name string) (int, error) {
 	return len(failed), c.db.DeleteOutcomes(failed)
 }
 
-// requeueID returns message IDs unique to this moment.
-func requeueID() func(string) string {
-	suffix := "-" + strconv.FormatInt(time.Now().UnixNano(), 36)
-	return func(id string) string { return id + suffix }
-}
-
 // publisher queues jobs in order with asynchronous publishes, at most
-// publishWindow in flight. A job refused because it is already queued (or
-// acknowledged as a duplicate) counts as queued.
+// publishWindow in flight. Each publish carries a fresh ticket (recorded in
+// the store before the publish) and a message ID of its own (the job ID and
+// a suffix unique to this publisher). A job refused because it is already
+// queued counts as queued; its new ticket is dropped again, since the
+// message in the stream carries an older one.
 type publisher struct {
 	c       *Coordinator
 	ctx     context.Context
-	msgID   func(string) string
-	futures []jetstream.PubAckFuture
+	suffix  string
+	futures []published
 	queued  int
+	// fresh counts the publishes that queued a job (not refused as
+	// already queued).
+	fresh int
 }
 
-func (c *Coordinator) newPublisher(ctx context.Context, msgID func(string) string) *publisher {
-	return &publisher{c: c, ctx: ctx, msgID: msgID, futures: make([]jetstream.PubAckFuture, 0, publishWindow)}
+type published struct {
+	f jetstream.PubAckFuture
+	t store.Ticket
 }
 
-func (p *publisher) add(j job.Job) error {
+var publishers atomic.Uint64
+
+func (c *Coordinator) newPublisher(ctx context.Context) *publisher {
+	suffix := "-" + strconv.FormatInt(time.Now().UnixNano(), 36) + "." + strconv.FormatUint(publishers.Add(1), 36)
+	return &publisher{c: c, ctx: ctx, suffix: suffix, futures: make([]published, 0, publishWindow)}
+}
+
+// addAll records a ticket for each job and queues them, in order.
+func (p *publisher) addAll(jobs []job.Job) error {
+	for len(jobs) > 0 {
+		n := min(len(jobs), publishWindow-len(p.futures))
+		ts := make([]store.Ticket, n)
+		for i, j := range jobs[:n] {
+			ts[i] = store.Ticket{Sweep: j.Sweep, JobID: j.ID, Ticket: newTicket()}
+		}
+		if err := p.c.db.AddTickets(ts); err != nil {
+			return err
+		}
+		for i, j := range jobs[:n] {
+			if err := p.add(j, ts[i]); err != nil {
+				return err
+			}
+		}
+		jobs = jobs[n:]
+	}
+	return nil
+}
+
+func (p *publisher) add(j job.Job, t store.Ticket) error {
 	data, err := job.Encode(j)
 	if err != nil {
 		return fmt.Errorf("job %s: %w", j.ID, err)
 	}
 	n := p.c.cfg.Names
-	f, err := p.c.js.PublishAsync(n.JobSubject(j.Sweep, j.ID), data,
-		jetstream.WithMsgID(p.msgID(j.ID)), jetstream.WithExpectStream(n.JobStream()))
+	m := nats.NewMsg(n.JobSubject(j.Sweep, j.ID))
+	m.Data = data
+	m.Header.Set(wire.TicketHeader, t.Ticket)
+	f, err := p.c.js.PublishMsgAsync(m, jetstream.WithMsgID(j.ID+p.suffix), jetstream.WithExpectStream(n.JobStream()))
 	if err != nil {
 		return fmt.Errorf("publishing job %s: %w", j.ID, err)
 	}
-	p.futures = append(p.futures, f)
+	p.futures = append(p.futures, published{f, t})
 	if len(p.futures) == publishWindow {
 		return p.wait()
 	}
 	return nil
 }
 
-// wait waits for the acks of the publishes in flight.
+// wait waits for the acks of the publishes in flight, then drops the
+// tickets of the publishes refused as already queued.
 func (p *publisher) wait() error {
-	for _, f := range p.futures {
+	var refused []store.Ticket
+	for _, pf := range p.futures {
 		select {
-		case <-f.Ok():
+		case <-pf.f.Ok():
 			p.queued++
-		case err := <-f.Err():
+			p.fresh++
+		case err := <-pf.f.Err():
 			if !alreadyQueued(err) {
-				return fmt.Errorf("publishing %s: %w", f.Msg().Subject, err)
+				return fmt.Errorf("publishing %s: %w", pf.f.Msg().Subject, err)
 			}
 			p.queued++
+			refused = append(refused, pf.t)
 		case <-p.ctx.Done():
 			return p.ctx.Err()
 		}
 	}
 	p.futures = p.futures[:0]
-	return nil
+	return p.c.db.DropTickets(refused)
 }
 
 // alreadyQueued reports whether a publish was refused because the job's

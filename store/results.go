@@ -13,7 +13,9 @@ import (
 // fsync pair), in order. Results are keyed by job ID across sweeps: the same
 // job in two sweeps shares its result. Precedence per job:
 //
-//   - "done" over a stored "done": no-op (a duplicate delivery);
+//   - "done" over a stored "done": no-op (a duplicate delivery), unless the
+//     stored one has no snapshot and the new one has (a study that asks
+//     for a snapshot ran a job another study had stored without one);
 //   - "done" over a stored "failed": replaces it;
 //   - "failed" over a stored "done": no-op;
 //   - "failed" over a stored "failed": replaces it unless byte-identical.
@@ -39,7 +41,7 @@ func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 				if err != nil {
 					return fmt.Errorf("outcome %d: stored job %s: %w", i, o.JobID, err)
 				}
-				if st == job.StatusDone {
+				if st == job.StatusDone && !addsSnapshot(old, o) {
 					continue
 				}
 				if o.Status == job.StatusFailed {
@@ -73,6 +75,16 @@ func (db *DB) PutOutcomes(outs []job.Outcome) (written int, err error) {
 		return 0, fmt.Errorf("store: %w", err)
 	}
 	return written, nil
+}
+
+// addsSnapshot reports whether o, a done outcome, brings a snapshot that
+// the stored done record old lacks.
+func addsSnapshot(old []byte, o job.Outcome) bool {
+	if o.Status != job.StatusDone || o.Snapshot == "" {
+		return false
+	}
+	prev, err := job.DecodeOutcomeRecord(old)
+	return err == nil && prev.Snapshot == ""
 }
 
 // errUnchanged rolls back a write transaction that changed nothing.

@@ -2,6 +2,7 @@ package store
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
@@ -41,7 +42,11 @@ var (
 	bucketJobs    = []byte("jobs")
 	bucketResults = []byte("results")
 	bucketStaging = []byte("staging")
-	keySchema     = []byte("schema_version")
+	// Added within schema 1: a store written before them lacks them, and
+	// readers take a missing bucket as an empty one.
+	bucketQueue     = []byte("queue")
+	bucketForgotten = []byte("forgotten")
+	keySchema       = []byte("schema_version")
 )
 
 // Options tune Open.
@@ -127,7 +132,7 @@ func (db *DB) initSchema(tx *bolt.Tx) error {
 	if err := db.checkSchema(tx); err != nil {
 		return err
 	}
-	for _, name := range [][]byte{bucketSweeps, bucketJobs, bucketResults, bucketStaging} {
+	for _, name := range [][]byte{bucketSweeps, bucketJobs, bucketResults, bucketStaging, bucketQueue, bucketForgotten} {
 		if _, err := tx.CreateBucketIfNotExists(name); err != nil {
 			return fmt.Errorf("store %s: bucket %s: %w", db.path, name, err)
 		}
@@ -235,6 +240,31 @@ func (db *DB) Verify() error {
 		if err != nil {
 			return fmt.Errorf("store %s: %w", db.path, err)
 		}
-		return nil
+		return verifyAdded(tx)
 	})
+}
+
+// verifyAdded decodes the queue and forget records.
+func verifyAdded(tx *bolt.Tx) error {
+	if q := tx.Bucket(bucketQueue); q != nil {
+		err := q.ForEachBucket(func(name []byte) error {
+			return q.Bucket(name).ForEach(func(k, _ []byte) error {
+				_, _, err := queueRecord(q, string(name), string(k))
+				return err
+			})
+		})
+		if err != nil {
+			return err
+		}
+	}
+	if f := tx.Bucket(bucketForgotten); f != nil {
+		return f.ForEach(func(k, v []byte) error {
+			var r ForgetRecord
+			if err := json.Unmarshal(v, &r); err != nil {
+				return fmt.Errorf("forget record %x: %w", k, err)
+			}
+			return nil
+		})
+	}
+	return nil
 }

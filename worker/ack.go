@@ -6,10 +6,12 @@ import (
 	"strconv"
 	"time"
 
+	"github.com/nats-io/nats.go"
 	"github.com/nats-io/nats.go/jetstream"
 
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 // pending is a job whose outcome was published and is not yet acknowledged.
@@ -69,13 +71,19 @@ func (w *Worker) republish(p pending) error {
 // publish puts the outcome on the results stream without waiting; the
 // future resolves with the server's ack (or an error after 30 s). The
 // message ID (job and stream sequence of the job message) makes a repeat of
-// the same delivery a duplicate.
-func (w *Worker) publish(o job.Outcome, seq uint64) (jetstream.PubAckFuture, error) {
+// the same delivery a duplicate. The header echoes the ticket of the job
+// message (job), without which the coordinator refuses the result.
+func (w *Worker) publish(o job.Outcome, seq uint64, jobMsg jetstream.Msg) (jetstream.PubAckFuture, error) {
 	data, err := job.EncodeOutcome(o)
 	if err != nil {
 		return nil, err
 	}
-	return w.js.PublishAsync(w.cfg.Names.ResultSubject(o.Sweep, o.JobID), data,
+	m := nats.NewMsg(w.cfg.Names.ResultSubject(o.Sweep, o.JobID))
+	m.Data = data
+	if h := jobMsg.Headers(); h != nil && h.Get(wire.TicketHeader) != "" {
+		m.Header.Set(wire.TicketHeader, h.Get(wire.TicketHeader))
+	}
+	return w.js.PublishMsgAsync(m,
 		jetstream.WithMsgID(o.JobID+"-"+strconv.FormatUint(seq, 10)),
 		jetstream.WithExpectStream(w.cfg.Names.ResultStream()))
 }

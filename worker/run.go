@@ -89,13 +89,33 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 	if out.Status == job.StatusFailed && out.Error == "" {
 		out.Error = "failed without a reason"
 	}
-	f, err := w.publish(out, meta.Sequence.Stream)
+	out = withinBounds(out)
+	f, err := w.publish(out, meta.Sequence.Stream, m)
 	if err != nil {
 		w.log.Warn("publishing result; the job will be delivered again", "job", jb.ID, "error", err)
 		m.Nak()
 		return
 	}
 	w.acks <- pending{msg: m, ack: f, jb: jb.ID, status: out.Status, reason: out.Error}
+}
+
+// withinBounds returns o as a coordinator with the default bounds takes
+// it: a failure's reason cut to the longest error text, and an outcome
+// outside the bounds (a runner's mistake) turned into a failure that says
+// why, instead of a result the coordinator would refuse.
+func withinBounds(o job.Outcome) job.Outcome {
+	b := job.DefaultBounds()
+	if len(o.Error) > b.MaxText {
+		o.Error = o.Error[:b.MaxText-3] + "..."
+	}
+	if err := o.CheckBounds(b); err != nil {
+		o = job.Outcome{JobID: o.JobID, Sweep: o.Sweep, Worker: o.Worker, Attempts: o.Attempts, Status: job.StatusFailed,
+			Error: "the runner's outcome is outside the bounds a coordinator takes: " + err.Error()}
+		if err := o.CheckBounds(b); err != nil { // the worker's own name or the sweep's is too long
+			o.Error = "the runner's outcome is outside the bounds a coordinator takes"
+		}
+	}
+	return o
 }
 
 // refuse gives back a job of a solver this worker does not offer, to come

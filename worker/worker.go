@@ -104,8 +104,14 @@ type Worker struct {
 // New looks up the worker consumer, the cancel bucket and the field store,
 // waiting (until ctx is done) for a coordinator to have created them.
 func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
+	// A report lists the running jobs; a coordinator refuses one that
+	// lists more than wire.ReportBounds.MaxCurrent (default 256).
+	maxSlots := wire.DefaultReportBounds().MaxCurrent
 	if cfg.Concurrency <= 0 {
-		cfg.Concurrency = runtime.NumCPU()
+		cfg.Concurrency = min(runtime.NumCPU(), maxSlots)
+	}
+	if cfg.Concurrency > maxSlots {
+		return nil, fmt.Errorf("concurrency %d: at most %d jobs at once (a coordinator takes no report that lists more)", cfg.Concurrency, maxSlots)
 	}
 	if cfg.Runners == nil {
 		cfg.Runners = map[string]Runner{job.BuiltinSolver: FV2D{}}
@@ -132,8 +138,13 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 		cfg.Log = hclog.NewNullLogger()
 	}
 	host, _ := os.Hostname()
+	rb := wire.DefaultReportBounds()
+	host = host[:min(len(host), rb.MaxText)]
 	if cfg.ID == "" {
-		cfg.ID = token(host) + "-" + strconv.Itoa(os.Getpid()) + "-" + strings.ToLower(nuid.Next()[16:])
+		cfg.ID = token(host[:min(len(host), 64)]) + "-" + strconv.Itoa(os.Getpid()) + "-" + strings.ToLower(nuid.Next()[16:])
+	}
+	if len(cfg.ID) > rb.MaxText {
+		return nil, fmt.Errorf("worker ID of %d bytes: at most %d (a coordinator takes no report with a longer one)", len(cfg.ID), rb.MaxText)
 	}
 	// Snapshots (object store chunks) publish asynchronously on the same
 	// context, hence the margin over Pending.

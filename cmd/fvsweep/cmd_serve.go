@@ -33,7 +33,7 @@ SIGINT or SIGTERM stops it after storing the outcomes in hand.
 flags:
   --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222);
                      any address but loopback needs --token
-` + limitUsage + webUsage + serverUsage + commonUsage
+` + limitUsage + webUsage + serverUsage + boundUsage + commonUsage
 
 func init() {
 	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
@@ -60,7 +60,9 @@ type service struct {
 
 // startService opens the store read-write, starts the embedded server on
 // listen (unless c.nats is set), connects, and runs a coordinator.
-func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome)) (*service, error) {
+//
+// tune, if given, adjusts the coordinator's configuration (boundFlags.apply).
+func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome), tune ...func(*coordinator.Config)) (*service, error) {
 	if err := sf.check(); err != nil {
 		return nil, err
 	}
@@ -90,9 +92,13 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 		return nil, err
 	}
 	ctx, cancel := context.WithCancel(context.Background())
-	s.coord, err = coordinator.New(ctx, s.nc, db, coordinator.Config{
+	cfg := coordinator.Config{
 		Log: log.Named("coordinator"), ParseSpec: c.parseSpec, OnStored: onStored, Delivery: sf.delivery(),
-	})
+	}
+	for _, f := range tune {
+		f(&cfg)
+	}
+	s.coord, err = coordinator.New(ctx, s.nc, db, cfg)
 	if err != nil {
 		cancel()
 		s.close()
@@ -159,6 +165,8 @@ func runServe(args []string) int {
 	listen := fs.String("listen", "127.0.0.1:4222", "")
 	var lf limitFlags
 	lf.register(fs)
+	var bf boundFlags
+	bf.register(fs)
 	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
 		return code
 	}
@@ -167,6 +175,10 @@ func runServe(args []string) int {
 		return usageErr("serve", "%v", err)
 	}
 	c.lim = lim
+	tune, err := bf.apply()
+	if err != nil {
+		return usageErr("serve", "%v", err)
+	}
 	log, err := c.logger("fvsweep")
 	if err != nil {
 		return usageErr("serve", "%v", err)
@@ -176,7 +188,7 @@ func runServe(args []string) int {
 	if err := wf.check(&c); err != nil {
 		return usageErr("serve", "%v", err)
 	}
-	s, err := startService(&c, &sf, *listen, log, nil)
+	s, err := startService(&c, &sf, *listen, log, nil, tune)
 	if err != nil {
 		return fail("serve: %v", err)
 	}

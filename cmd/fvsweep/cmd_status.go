@@ -114,6 +114,10 @@ func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 		fmt.Fprintln(w, "\nno coordinator running: read from the store")
 		return
 	}
+	if rep.RefusedResults > 0 {
+		fmt.Fprintf(w, "\n%d result %s refused (forged, malformed or out of bounds; see the coordinator's log)\n",
+			rep.RefusedResults, plural(int(rep.RefusedResults), "message"))
+	}
 	fmt.Fprintf(w, "\n%d live %s\n", len(rep.Workers), plural(len(rep.Workers), "worker"))
 	if len(rep.Workers) == 0 {
 		return

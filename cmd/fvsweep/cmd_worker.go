@@ -19,7 +19,7 @@ jobs and finishes the running ones; a second one stops those too and returns
 them to the queue.
 
 flags:
-  --concurrency N    jobs run at once (default: the number of cores)
+  --concurrency N    jobs run at once, at most 256 (default: the number of cores)
   --id NAME          worker name in status and results (default host-pid-random)
 ` + commonUsage
 

@@ -73,10 +73,31 @@ func (c *Client) Ping(ctx context.Context) (string, error) {
 	return string(m.Data), nil
 }
 
-// Status asks for the status of sweep name ("" for all) and the live workers.
+// Status asks for the status of sweep name ("" for all) and the live
+// workers; the coordinator sends it in parts, joined here.
 func (c *Client) Status(ctx context.Context, name string) (wire.StatusReply, error) {
-	var rep wire.StatusReply
-	if err := c.request(ctx, wire.VerbStatus, c.Timeout, wire.SweepRequest{Sweep: name}, &rep); err != nil {
+	rep := wire.StatusReply{Sweeps: []wire.SweepStatus{}, Workers: []wire.WorkerReport{}}
+	err := c.parts(ctx, wire.VerbStatus, wire.SweepRequest{Sweep: name}, func(seq int, data []byte) (bool, error) {
+		var part wire.StatusReply
+		last, err := decodePart("status", seq, data, &part)
+		if err != nil {
+			return false, err
+		}
+		if seq == 0 {
+			rep.RefusedResults = part.RefusedResults
+		}
+		rep.Sweeps = append(rep.Sweeps, part.Sweeps...)
+		rep.Workers = append(rep.Workers, part.Workers...)
+		return last, nil
+	})
+	return rep, err
+}
+
+// Forget asks the coordinator to discard stored outcomes (see
+// wire.ForgetRequest).
+func (c *Client) Forget(ctx context.Context, req wire.ForgetRequest) (wire.ForgetReply, error) {
+	var rep wire.ForgetReply
+	if err := c.request(ctx, wire.VerbForget, c.Timeout, req, &rep); err != nil {
 		return rep, err
 	}
 	return rep, replyErr(rep.Error)
@@ -116,47 +137,78 @@ func (c *Client) RowsSpec(ctx context.Context, name string) (rows []wire.Row, sp
 
 func (c *Client) rows(ctx context.Context, name string) ([]wire.Row, wire.RowsReply, error) {
 	var first wire.RowsReply
-	inbox := c.nc.NewRespInbox()
-	sub, err := c.nc.SubscribeSync(inbox)
+	var rows []wire.Row
+	err := c.parts(ctx, wire.VerbRows, wire.RowsRequest{Sweep: name}, func(seq int, data []byte) (bool, error) {
+		var rep wire.RowsReply
+		last, err := decodePart("rows", seq, data, &rep)
+		if err != nil {
+			return false, err
+		}
+		if seq == 0 {
+			first = rep
+		}
+		rows = append(rows, rep.Rows...)
+		return last, nil
+	})
 	if err != nil {
 		return nil, first, err
 	}
+	return rows, first, nil
+}
+
+// decodePart decodes part number seq of a reply sent in parts into v.
+func decodePart[T interface{ Part() (int, bool, string) }](verb string, seq int, data []byte, v *T) (last bool, err error) {
+	if err := wire.Decode(verb+" reply", data, v); err != nil {
+		return false, err
+	}
+	got, last, text := (*v).Part()
+	if text != "" {
+		return false, errors.New(text)
+	}
+	if got != seq {
+		return false, fmt.Errorf("%s: part %d arrived as number %d", verb, got, seq)
+	}
+	return last, nil
+}
+
+// parts sends req to verb and hands each part of the reply, in order, to
+// take until it says the last has come.
+func (c *Client) parts(ctx context.Context, verb string, req any, take func(seq int, data []byte) (last bool, err error)) error {
+	inbox := c.nc.NewRespInbox()
+	sub, err := c.nc.SubscribeSync(inbox)
+	if err != nil {
+		return err
+	}
 	defer sub.Unsubscribe()
 	sub.SetPendingLimits(-1, -1)
-	data, _ := json.Marshal(wire.RowsRequest{Sweep: name})
-	if err := c.nc.PublishRequest(c.names.API(wire.VerbRows), inbox, data); err != nil {
-		return nil, first, err
+	data, _ := json.Marshal(req)
+	subject := c.names.API(verb)
+	before := c.nc.LastError()
+	if err := c.nc.PublishRequest(subject, inbox, data); err != nil {
+		return err
 	}
-	var rows []wire.Row
+	// A refused publish comes back as an error before the flush's pong.
+	if err := c.nc.Flush(); err == nil {
+		if err := deniedSince(c.nc, before, subject); err != nil {
+			return fmt.Errorf("%s: %w", verb, err)
+		}
+	}
 	for seq := 0; ; seq++ {
 		ctx, cancel := context.WithTimeout(ctx, c.Timeout)
 		m, err := sub.NextMsgWithContext(ctx)
 		cancel()
 		if err != nil {
 			if seq == 0 {
-				return nil, first, fmt.Errorf("rows: %w (%v)", ErrNoCoordinator, err)
+				return fmt.Errorf("%s: %w (%v)", verb, ErrNoCoordinator, err)
 			}
-			return nil, first, fmt.Errorf("rows: after %d chunks: %w", seq, err)
+			return fmt.Errorf("%s: after %d parts: %w", verb, seq, err)
 		}
 		if len(m.Data) == 0 && m.Header.Get("Status") == "503" {
-			return nil, first, fmt.Errorf("rows: %w (no responders)", ErrNoCoordinator)
+			return fmt.Errorf("%s: %w (no responders)", verb, ErrNoCoordinator)
 		}
-		var rep wire.RowsReply
-		if err := wire.Decode("rows reply", m.Data, &rep); err != nil {
-			return nil, first, err
-		}
-		if rep.Error != "" {
-			return nil, first, errors.New(rep.Error)
-		}
-		if rep.Seq != seq {
-			return nil, first, fmt.Errorf("rows: chunk %d arrived as number %d", rep.Seq, seq)
-		}
-		if seq == 0 {
-			first = rep
-		}
-		rows = append(rows, rep.Rows...)
-		if rep.Last {
-			return rows, first, nil
+		last, err := take(seq, m.Data)
+		if err != nil || last {
+			return err
 		}
 	}
 }

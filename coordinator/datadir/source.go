@@ -171,3 +171,28 @@ func Snapshot(ctx context.Context, d Dir, o client.DialOptions, ref string) ([]b
 	}
 	return server.ReadStoredField(d.NATS(), ref)
 }
+
+// Forget discards stored outcomes of a sweep (see wire.ForgetRequest)
+// through the running coordinator (live true), or, with none answering,
+// in the store of d, opened read-write: only when no coordinator holds it
+// (the file lock), so a coordinator never misses a forget.
+func Forget(ctx context.Context, d Dir, o client.DialOptions, req wire.ForgetRequest) (rep wire.ForgetReply, live bool, err error) {
+	src, err := Open(ctx, d, o)
+	if err != nil {
+		return rep, false, err
+	}
+	if src.Client != nil {
+		defer src.Close()
+		rep, err = src.Client.Forget(ctx, req)
+		return rep, true, err
+	}
+	src.Close() // read-only; reopen for writing
+	db, err := store.Open(d.DB(), store.Options{})
+	if err != nil {
+		return rep, false, err
+	}
+	defer db.Close()
+	rec, err := db.Forget(req.Sweep, coordinator.Selection(req), coordinator.Requester(req.By, "")+" (store opened directly)")
+	rep.Forgotten = len(rec.Jobs)
+	return rep, false, err
+}

@@ -8,7 +8,12 @@
 //	P.job.S.ID      a Job, on the work-queue stream P_JOBS (one message per subject)
 //	P.result.S.ID   an Outcome, on the work-queue stream P_RESULTS
 //	P.worker.ID     a WorkerReport, core NATS, every few seconds
-//	P.api.VERB      request/reply to the coordinator (ping, status, rows, submit, cancel)
+//	P.api.VERB      request/reply to the coordinator (ping, status, rows, submit, cancel, forget)
+//
+// A job message carries a ticket in its TicketHeader, a secret the
+// coordinator drew for that publish; the worker echoes it in the header of
+// the result message, and the coordinator stores only results whose ticket
+// is one it recorded for the job.
 //
 // The cancel marks live in the key-value bucket P_canceled (key S), field
 // snapshots in the object store P_fields (object ID).
@@ -110,10 +115,12 @@ const (
 	VerbRows   = "rows"
 	VerbSubmit = "submit"
 	VerbCancel = "cancel"
-	// VerbForget discards stored outcomes; its rights are in place, the
-	// coordinator does not answer it yet.
-	VerbForget = "forget"
+	VerbForget = "forget" // discard stored outcomes so that they run again
 )
+
+// TicketHeader is the NATS header of a job message that holds its ticket
+// (32 hex digits), and of a result message that echoes it.
+const TicketHeader = "Fvsweep-Ticket"
 
 // API is the request subject of verb.
 func (n Names) API(verb string) string { return n.p() + ".api." + verb }
@@ -195,17 +202,68 @@ type WorkerReport struct {
 	Leaving     bool          `json:"leaving,omitempty"` // draining: the last report
 }
 
-// DecodeWorkerReport parses a worker report.
-func DecodeWorkerReport(data []byte) (WorkerReport, error) {
+// ReportBounds bound what a coordinator takes from worker reports.
+type ReportBounds struct {
+	// MaxBytes bounds a report message, MaxCurrent its running jobs,
+	// MaxText its ID and host name (bytes).
+	MaxBytes   int
+	MaxCurrent int
+	MaxText    int
+	// MinEvery and MaxEvery bound the report interval a worker states;
+	// a report that comes sooner than MinEvery after the last one taken
+	// from the same worker is dropped.
+	MinEvery time.Duration
+	MaxEvery time.Duration
+	// MaxWorkers bounds the workers known at once; a new worker's reports
+	// are dropped while that many others are live.
+	MaxWorkers int
+	// MaxCores bounds the cores and the concurrency a worker states.
+	MaxCores int
+}
+
+// DefaultReportBounds are the report bounds a coordinator applies unless
+// told otherwise. fvsweep's workers report every 2 s (tests: 100 ms).
+func DefaultReportBounds() ReportBounds {
+	return ReportBounds{
+		MaxBytes: 32 << 10, MaxCurrent: 256, MaxText: 128,
+		MinEvery: 50 * time.Millisecond, MaxEvery: time.Minute,
+		MaxWorkers: 2048, MaxCores: 4096,
+	}
+}
+
+// DecodeWorkerReport parses a worker report and checks it against b.
+func DecodeWorkerReport(data []byte, b ReportBounds) (WorkerReport, error) {
+	if len(data) > b.MaxBytes {
+		return WorkerReport{}, fmt.Errorf("worker report of %d bytes exceeds %d", len(data), b.MaxBytes)
+	}
 	var r WorkerReport
 	if err := job.DecodeStrict("worker report", data, &r); err != nil {
 		return WorkerReport{}, err
 	}
-	if !isToken(r.ID) {
-		return WorkerReport{}, fmt.Errorf("worker report: id %q is not a subject token", r.ID)
+	if !isToken(r.ID) || len(r.ID) > b.MaxText {
+		return WorkerReport{}, fmt.Errorf("worker report: id %.40q is not a subject token of at most %d bytes", r.ID, b.MaxText)
 	}
-	if r.Every <= 0 {
-		return WorkerReport{}, fmt.Errorf("worker report %s: interval %v", r.ID, r.Every)
+	bad := func(format string, args ...any) (WorkerReport, error) {
+		return WorkerReport{}, fmt.Errorf("worker report %s: %s", r.ID, fmt.Sprintf(format, args...))
+	}
+	switch {
+	case r.Every < b.MinEvery || r.Every > b.MaxEvery:
+		return bad("interval %v outside %v..%v", r.Every, b.MinEvery, b.MaxEvery)
+	case len(r.Host) > b.MaxText:
+		return bad("host name of %d bytes", len(r.Host))
+	case r.Cores < 0 || r.Cores > b.MaxCores || r.Concurrency < 0 || r.Concurrency > b.MaxCores:
+		return bad("cores %d, concurrency %d outside 0..%d", r.Cores, r.Concurrency, b.MaxCores)
+	case r.Done < 0 || r.Failed < 0:
+		return bad("negative counts")
+	case !(r.Busy >= 0 && r.Busy <= 1.5): // a slot's run time may overlap its report period a little
+		return bad("busy fraction %g", r.Busy)
+	case len(r.Current) > b.MaxCurrent || len(r.Current) > max(r.Concurrency, 1):
+		return bad("%d current jobs for %d slots (at most %d)", len(r.Current), r.Concurrency, b.MaxCurrent)
+	}
+	for _, j := range r.Current {
+		if !job.ValidID(j.JobID) || len(j.Sweep) > b.MaxText*2 {
+			return bad("current job %.40q of sweep %.40q", j.JobID, j.Sweep)
+		}
 	}
 	return r, nil
 }
@@ -247,11 +305,19 @@ type SweepStatus struct {
 	Updated   time.Time `json:"updated"`
 }
 
-// StatusReply is the coordinator's answer to status.
+// StatusReply is the coordinator's answer to status. Over NATS it comes
+// as a series of messages to the request's reply subject, numbered by Seq,
+// the last one marked Last, each with a part of Sweeps and Workers (each
+// message stays under the maximum payload); a client joins them.
+// RefusedResults counts the result messages the coordinator refused since
+// it started (forged, malformed or out of bounds); it is in the first part.
 type StatusReply struct {
-	Sweeps  []SweepStatus  `json:"sweeps"`
-	Workers []WorkerReport `json:"workers"`
-	Error   string         `json:"error,omitempty"`
+	Sweeps         []SweepStatus  `json:"sweeps"`
+	Workers        []WorkerReport `json:"workers"`
+	RefusedResults int64          `json:"refused_results,omitempty"`
+	Seq            int            `json:"seq,omitempty"`
+	Last           bool           `json:"last,omitempty"`
+	Error          string         `json:"error,omitempty"`
 }
 
 // RowsRequest asks for every job of a sweep with its state. The answer
@@ -282,10 +348,39 @@ type RowsReply struct {
 	Error    string `json:"error,omitempty"`
 }
 
+// Part says where a part stands in a reply sent in parts: its number,
+// whether it is the last, and the reply's error text.
+func (r StatusReply) Part() (seq int, last bool, errText string) { return r.Seq, r.Last, r.Error }
+
+// Part says where a part stands in a reply sent in parts (see StatusReply.Part).
+func (r RowsReply) Part() (seq int, last bool, errText string) { return r.Seq, r.Last, r.Error }
+
 // CancelReply says what a cancel did.
 type CancelReply struct {
 	Purged uint64 `json:"purged"` // queued jobs removed
 	Error  string `json:"error,omitempty"`
+}
+
+// ForgetRequest asks the coordinator to discard stored outcomes of a
+// sweep so that the next submission runs those jobs again: one job (Job),
+// the jobs of one study (Study, the 1-based index of job.Job.Study, when
+// HasStudy), the failed ones (Failed),
+// or, with none of these, every outcome of the sweep. By names who asks
+// (the client's user and host); the coordinator adds what the connection
+// tells it.
+type ForgetRequest struct {
+	Sweep    string `json:"sweep"`
+	Job      string `json:"job,omitempty"`
+	Study    int    `json:"study,omitempty"`
+	HasStudy bool   `json:"has_study,omitempty"`
+	Failed   bool   `json:"failed,omitempty"`
+	By       string `json:"by,omitempty"`
+}
+
+// ForgetReply says how many stored outcomes a forget discarded.
+type ForgetReply struct {
+	Forgotten int    `json:"forgotten"`
+	Error     string `json:"error,omitempty"`
 }
 
 // Decode parses a request or reply of the API into v, strictly.

@@ -143,14 +143,15 @@ func FuzzDecodeWorkerReport(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		r, err := DecodeWorkerReport(data)
+		b := DefaultReportBounds()
+		r, err := DecodeWorkerReport(data, b)
 		if err != nil {
 			return
 		}
-		if !isToken(r.ID) || r.Every <= 0 {
+		if !isToken(r.ID) || r.Every < b.MinEvery || r.Every > b.MaxEvery || len(r.Current) > b.MaxCurrent || len(data) > b.MaxBytes {
 			t.Fatalf("accepted a report that breaks the contract: %+v", r)
 		}
-		again, err := DecodeWorkerReport(mustJSON(r))
+		again, err := DecodeWorkerReport(mustJSON(r), b)
 		if err != nil || !reflect.DeepEqual(again, r) {
 			t.Fatalf("round trip of %+v: %+v, %v", r, again, err)
 		}
@@ -166,7 +167,7 @@ func FuzzDecodeAPI(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		for _, v := range []any{&SubmitRequest{}, &SubmitReply{}, &SweepRequest{}, &StatusReply{}, &RowsReply{}, &CancelReply{}} {
+		for _, v := range []any{&SubmitRequest{}, &SubmitReply{}, &SweepRequest{}, &StatusReply{}, &RowsReply{}, &CancelReply{}, &ForgetRequest{}, &ForgetReply{}} {
 			if err := Decode("api", data, v); err != nil {
 				continue
 			}
@@ -232,5 +233,43 @@ func TestDecodersRefuseOversize(t *testing.T) {
 	}
 	if _, err := job.DecodeMessage(bytes.TrimSpace(mustJSON(wireJob))); err != nil {
 		t.Errorf("the good job is refused: %v", err)
+	}
+}
+
+// The report bounds refuse what issue 11 found a worker credential could
+// send: an interval that never expires, negative slots, more running jobs
+// than slots, a huge report.
+func TestWorkerReportBounds(t *testing.T) {
+	b := DefaultReportBounds()
+	good := WorkerReport{ID: "w1", Host: "h", Cores: 2, Concurrency: 2, Every: 2e9,
+		Current: []RunningJob{{JobID: wireJob.ID, Sweep: "s"}}}
+	if _, err := DecodeWorkerReport(mustJSON(good), b); err != nil {
+		t.Fatalf("good report refused: %v", err)
+	}
+	many := make([]RunningJob, 3)
+	for i := range many {
+		many[i] = RunningJob{JobID: wireJob.ID, Sweep: "s"}
+	}
+	for name, bad := range map[string]func(*WorkerReport){
+		"every 9e18":       func(r *WorkerReport) { r.Every = 9e18 },
+		"every 1ns":        func(r *WorkerReport) { r.Every = 1 },
+		"negative slots":   func(r *WorkerReport) { r.Concurrency = -4 },
+		"more than slots":  func(r *WorkerReport) { r.Current = many },
+		"busy 50":          func(r *WorkerReport) { r.Busy = 50 },
+		"long host":        func(r *WorkerReport) { r.Host = strings.Repeat("h", b.MaxText+1) },
+		"bad running job":  func(r *WorkerReport) { r.Current = []RunningJob{{JobID: "x"}} },
+		"negative done":    func(r *WorkerReport) { r.Done = -1 },
+		"too many current": func(r *WorkerReport) { r.Concurrency = b.MaxCores + 1 },
+	} {
+		r := good
+		bad(&r)
+		if _, err := DecodeWorkerReport(mustJSON(r), b); err == nil {
+			t.Errorf("%s: accepted", name)
+		}
+	}
+	big := good
+	big.Host = strings.Repeat("h", b.MaxBytes)
+	if _, err := DecodeWorkerReport(mustJSON(big), b); err == nil || !strings.Contains(err.Error(), "exceeds") {
+		t.Errorf("oversized report: %v", err)
 	}
 }
