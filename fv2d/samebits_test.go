@@ -7,6 +7,10 @@ import (
 	"hash/fnv"
 	"math"
 	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
 	"strings"
 	"testing"
 )
@@ -92,6 +96,69 @@ func TestSameBitsThreads(t *testing.T) {
 	if out := os.Getenv("FV2D_BITS_OUT"); out != "" {
 		if err := os.WriteFile(out, []byte(strings.Join(lines, "\n")+"\n"), 0o644); err != nil {
 			t.Fatal(err)
+		}
+	}
+}
+
+// goamd64 returns the GOAMD64 level this test binary was built for.
+func goamd64() string {
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		for _, s := range bi.Settings {
+			if s.Key == "GOAMD64" {
+				return s.Value
+			}
+		}
+	}
+	return "v1"
+}
+
+// TestSameBitsGOAMD64 holds the final states of bitsRuns bitwise equal
+// between this build and one for another GOAMD64 level (v3 from v1 or v2,
+// else v1), where the compiler may fuse a multiplication and an addition
+// into one FMA (one rounding instead of two) unless the code prevents it.
+// It rebuilds the package's tests with the other level and runs
+// TestSameBitsThreads there.
+func TestSameBitsGOAMD64(t *testing.T) {
+	if runtime.GOARCH != "amd64" {
+		t.Skip("GOAMD64 levels are an amd64 matter")
+	}
+	if testing.Short() {
+		t.Skip("rebuilds the package's tests (-short)")
+	}
+	goCmd, err := exec.LookPath("go")
+	if err != nil {
+		t.Skip("no go command to rebuild the tests with:", err)
+	}
+	level, other := goamd64(), "v3"
+	if level == "v3" || level == "v4" {
+		other = "v1"
+	}
+	out := filepath.Join(t.TempDir(), "hashes")
+	cmd := exec.Command(goCmd, "test", "-count=1", "-run", "^TestSameBitsThreads$", ".")
+	cmd.Env = append(os.Environ(), "GOAMD64="+other, "FV2D_BITS_OUT="+out)
+	msg, err := cmd.CombinedOutput()
+	if err != nil {
+		// The Go runtime refuses to start a binary built for a level the
+		// processor lacks, with a message naming the level.
+		if strings.Contains(string(msg), "microarchitecture support") {
+			t.Skipf("this processor cannot run GOAMD64=%s code: %s", other, msg)
+		}
+		t.Fatalf("GOAMD64=%s go test: %v\n%s", other, err, msg)
+	}
+	theirs, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mine := bitsHashes(t, 1)
+	lines := strings.Split(strings.TrimSpace(string(theirs)), "\n")
+	if len(lines) != len(mine) {
+		t.Fatalf("GOAMD64=%s wrote %d hashes, want %d", other, len(lines), len(mine))
+	}
+	// Compare the run index and the hash; the kernel path may differ.
+	for k := range mine {
+		a, b := strings.Fields(mine[k]), strings.Fields(lines[k])
+		if len(b) < 2 || a[0] != b[0] || a[1] != b[1] {
+			t.Errorf("%s %v: GOAMD64=%s gives %q, GOAMD64=%s %q", bitsRuns[k].name, bitsRuns[k].kv, level, mine[k], other, lines[k])
 		}
 	}
 }

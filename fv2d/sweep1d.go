@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // A sweep advances every grid line of one direction by one 1-D
 // finite-volume step in conservative form,
 //   U_i <- U_i - dt/dx (F_{i+1/2} - F_{i-1/2}),
@@ -63,8 +68,8 @@ type lineKernel func(sp *sweepParams, rho, mn, mt, en []float64) lineResult
 // variables.
 func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
 	inv := 1 / r
-	u, v = m*inv, t*inv
-	p = gm1 * (e - 0.5*r*(u*u+v*v))
+	u, v = float64(m*inv), float64(t*inv)
+	p = float64(gm1 * (e - float64(0.5*r*(float64(u*u)+float64(v*v)))))
 	return
 }
 
@@ -72,8 +77,8 @@ func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
 // positivity (rho > 0 and p > 0, i.e. 2 E rho > |m|^2, without a division)
 // and, if wanted, its wave speeds |u_n| + a and |u_t| + a.
 func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
-	k2 := m*m + t*t
-	if !(r > 0 && 2*e*r > k2) {
+	k2 := float64(m*m) + float64(t*t)
+	if !(r > 0 && float64(2*e*r) > k2) {
 		res.bad = true
 		return
 	}
@@ -145,7 +150,7 @@ func updateEulerLine(res *lineResult, speed bool, gamma, c float64, rho, mn, mt,
 	for i := range rho {
 		a, b, d, e := rho[i]-c*(f0[i+1]-f0[i]), mn[i]-c*(f1[i+1]-f1[i]), mt[i]-c*(f2[i+1]-f2[i]), en[i]-c*(f3[i+1]-f3[i])
 		rho[i], mn[i], mt[i], en[i] = a, b, d, e
-		if !(a > 0 && 2*e*a > b*b+d*d) { // checkEuler's positivity test
+		if !(a > 0 && float64(2*e*a) > float64(b*b)+float64(d*d)) { // checkEuler's positivity test
 			res.bad = true
 		}
 	}
@@ -207,12 +212,12 @@ func evolvePrim(g, h float64, w, d, r *[4][]float64, m int) {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
 		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
 		// half-step evolution: W - dt/(2dx) A(W) dW
-		er := h * (uc*dr + rc*du)
-		eu := h * (uc*du + dp/rc)
+		er := h * (float64(uc*dr) + float64(rc*du))
+		eu := h * (float64(uc*du) + dp/rc)
 		ev := h * (uc * dv)
-		ep := h * (g*pc*du + uc*dp)
+		ep := h * (float64(g*pc*du) + float64(uc*dp))
 		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
-		rr, ru, rv, rp := rc+0.5*dr-er, uc+0.5*du-eu, vc+0.5*dv-ev, pc+0.5*dp-ep
+		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
 		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
 			lr, lu, lv, lp = rc, uc, vc, pc
 			rr, ru, rv, rp = rc, uc, vc, pc
@@ -242,8 +247,8 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		d1 := lim(mn[i]-mn[i-1], mn[i+1]-mn[i])
 		d2 := lim(mt[i]-mt[i-1], mt[i+1]-mt[i])
 		d3 := lim(en[i]-en[i-1], en[i+1]-en[i])
-		a0, a1, a2, a3 := rho[i]-0.5*d0, mn[i]-0.5*d1, mt[i]-0.5*d2, en[i]-0.5*d3
-		b0, b1, b2, b3 := rho[i]+0.5*d0, mn[i]+0.5*d1, mt[i]+0.5*d2, en[i]+0.5*d3
+		a0, a1, a2, a3 := rho[i]-float64(0.5*d0), mn[i]-float64(0.5*d1), mt[i]-float64(0.5*d2), en[i]-float64(0.5*d3)
+		b0, b1, b2, b3 := rho[i]+float64(0.5*d0), mn[i]+float64(0.5*d1), mt[i]+float64(0.5*d2), en[i]+float64(0.5*d3)
 		au, av, ap := cellEuler(gm1, a0, a1, a2, a3)
 		bu, bv, bp := cellEuler(gm1, b0, b1, b2, b3)
 		fa0, fa1, fa2, fa3 := EulerPhysicalFlux(g, a0, au, av, ap)
