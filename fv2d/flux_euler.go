@@ -158,8 +158,12 @@ func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 // F*_R = F_R + S_R (U*_R - U_R) (eq. 10.38). A stationary contact (u_L = u_R = 0, p_L = p_R) is
 // resolved exactly.
 func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	return hllc(gamma, gamma/(gamma-1), rl, ul, vl, pl, rr, ur, vr, pr)
+}
+
+// hllc is EulerHLLC given g = gamma/(gamma-1), which a sweep computes once.
+func hllc(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
 	// roeAverage, written out so that the default flux makes no call
-	g := gamma / (gamma - 1)
 	hl, hr := totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
 	wl, wr, w := roeWeights(rl, rr)
 	u, v, h := roeMean(wl, wr, w, ul, ur), roeMean(wl, wr, w, vl, vr), roeMean(wl, wr, w, hl, hr)

@@ -123,6 +123,7 @@ func NewSolver(v Values) (*Solver, error) {
 	s.base.gamma = p.Gamma
 	s.base.vanLeer = cfg.LimiterName == "vanleer"
 	s.base.godunovB = p.Eq == Burgers && cfg.FluxName == "exact"
+	s.base.hllc = p.Eq == Euler && cfg.FluxName == "hllc"
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)

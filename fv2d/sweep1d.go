@@ -32,9 +32,9 @@ type sweepParams struct {
 	bf    BurgersFlux
 	lim   Limiter
 	// The defaults, which get passes of their own: lim is VanLeer, bf is
-	// BurgersGodunov.
-	vanLeer, godunovB bool
-	scr               *lineScratch // the worker's
+	// BurgersGodunov, ef is EulerHLLC.
+	vanLeer, godunovB, hllc bool
+	scr                     *lineScratch // the worker's
 }
 
 // lineScratch is a worker's scratch for the passes over one line, four
@@ -130,12 +130,20 @@ func (sp *sweepParams) slopes(w, d []float64) {
 // values l of cell i+1. (A flux is too large to be inlined, so a call
 // through the function value costs no more than a direct one.)
 func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
-	flux, g := sp.ef, sp.gamma
+	flux, gamma, g, direct := sp.ef, sp.gamma, sp.gamma/(sp.gamma-1), sp.hllc
 	r0, r1, r2, r3 := r[0][lo:hi], r[1][lo:hi], r[2][lo:hi], r[3][lo:hi]
+	n := len(r0)
+	r1, r2, r3 = r1[:n], r2[:n], r3[:n]
 	l0, l1, l2, l3 := l[0][lo+1:hi+1], l[1][lo+1:hi+1], l[2][lo+1:hi+1], l[3][lo+1:hi+1]
+	l0, l1, l2, l3 = l0[:n], l1[:n], l2[:n], l3[:n]
 	f0, f1, f2, f3 := f[0][lo:hi], f[1][lo:hi], f[2][lo:hi], f[3][lo:hi]
+	f0, f1, f2, f3 = f0[:n], f1[:n], f2[:n], f3[:n]
 	for i := range r0 {
-		f0[i], f1[i], f2[i], f3[i] = flux(g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		if direct { // the default, HLLC, with gamma/(gamma-1) computed once
+			f0[i], f1[i], f2[i], f3[i] = hllc(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		} else {
+			f0[i], f1[i], f2[i], f3[i] = flux(gamma, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		}
 	}
 }
 
