@@ -124,6 +124,7 @@ func NewSolver(v Values) (*Solver, error) {
 	s.base.vanLeer = cfg.LimiterName == "vanleer"
 	s.base.godunovB = p.Eq == Burgers && cfg.FluxName == "exact"
 	s.base.hllc = p.Eq == Euler && cfg.FluxName == "hllc"
+	s.base.simd = s.base.hllc && useSIMD
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)
@@ -510,7 +511,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 	stepWall := time.Since(stepStart).Seconds()
 	res := &Result{
 		Case: v.Case, Params: v.Map(), NX: s.nx, NY: s.ny, Steps: s.steps, TFinal: s.t,
-		Totals: map[string]Total{}, Final: st, Kernel: "portable",
+		Totals: map[string]Total{}, Final: st, Kernel: s.kernel(),
 	}
 	for k, tot := range st.Totals() {
 		res.Totals[vars[k]] = Total{Initial: init[k], Final: tot}
