@@ -124,7 +124,7 @@ func NewSolver(v Values) (*Solver, error) {
 	s.base.vanLeer = cfg.LimiterName == "vanleer"
 	s.base.godunovB = p.Eq == Burgers && cfg.FluxName == "exact"
 	s.base.hllc = p.Eq == Euler && cfg.FluxName == "hllc"
-	s.base.simd = s.base.hllc && useSIMD
+	s.base.simd = useSIMD && (s.base.hllc || muscl && s.base.vanLeer)
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)

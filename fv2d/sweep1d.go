@@ -34,7 +34,7 @@ type sweepParams struct {
 	// The defaults, which get passes of their own: lim is VanLeer, bf is
 	// BurgersGodunov, ef is EulerHLLC.
 	vanLeer, godunovB, hllc bool
-	simd                    bool         // hllc, four faces at a time (hllcFaces4)
+	simd                    bool         // the passes that have one take their SIMD form (sweep_simd.go)
 	scr                     *lineScratch // the worker's
 }
 
@@ -120,7 +120,11 @@ func slopesWith(lim Limiter, w, d []float64) {
 // slopes sets the limited slopes d of w with the sweep's limiter.
 func (sp *sweepParams) slopes(w, d []float64) {
 	if sp.vanLeer {
-		slopesWith(VanLeer, w, d)
+		done := 0 // cells 1..done by the SIMD pass
+		if sp.simd {
+			done = vanLeerSlopes4(w, d)
+		}
+		slopesWith(VanLeer, w[done:], d[done:])
 		return
 	}
 	slopesWith(sp.lim, w, d)
@@ -140,7 +144,7 @@ func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
 	f0, f1, f2, f3 := f[0][lo:hi], f[1][lo:hi], f[2][lo:hi], f[3][lo:hi]
 	f0, f1, f2, f3 = f0[:n], f1[:n], f2[:n], f3[:n]
 	start := 0
-	if sp.simd {
+	if sp.simd && direct {
 		start = hllcFaces4(gamma, g, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3)
 	}
 	for i := start; i < n; i++ {
@@ -206,22 +210,30 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 	for k := range 4 {
 		sp.slopes(scr.w[k][:m], scr.d[k])
 	}
-	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+	done := 0 // cells 1..done by the SIMD pass
+	if sp.simd {
+		done = evolvePrim4(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+	}
+	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, done, m)
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
 	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
 }
 
-// evolvePrim turns the cells 1 <= i < m-1 of primitive values w and slopes
+// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w and slopes
 // d into their face values evolved by the half step h = dt/(2dx) of
 // eulerMUSCLPrim: the left face values replace d, the right ones go to r.
 // A cell whose evolved face density or pressure is not positive falls back
 // to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w, d, r *[4][]float64, m int) {
-	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
-	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
-	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
-	for i := 1; i < m-1; i++ {
+func evolvePrim(g, h float64, w, d, r *[4][]float64, lo, m int) {
+	w0, w1, w2, w3 := w[0][lo:m], w[1][lo:m], w[2][lo:m], w[3][lo:m]
+	n := len(w0)
+	w1, w2, w3 = w1[:n], w2[:n], w3[:n]
+	d0, d1, d2, d3 := d[0][lo:m], d[1][lo:m], d[2][lo:m], d[3][lo:m]
+	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
+	r0, r1, r2, r3 := r[0][lo:m], r[1][lo:m], r[2][lo:m], r[3][lo:m]
+	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
+	for i := 1; i < n-1; i++ {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
 		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
 		// half-step evolution: W - dt/(2dx) A(W) dW

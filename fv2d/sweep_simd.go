@@ -4,15 +4,17 @@ package fv2d
 
 import "simd/archsimd"
 
-// The HLLC face pass four faces at a time, with AVX2 (Go's simd/archsimd,
-// built with GOEXPERIMENT=simd). hllc4 is hllc (flux_euler.go) lane by lane:
-// the same operations in the same order, each rounded once (no fused
-// multiply-add; division and square root are correctly rounded), so it
-// gives hllc's bits for any finite input. The branches of hllc become
-// selects: every lane computes the star flux, and the physical fluxes of the
-// left and right states when some lane needs one.
+// The passes of the default Euler sweep that take most of its time (the
+// HLLC faces, the van Leer slopes, the MUSCL-Hancock half step) four cells
+// or faces at a time, with AVX2 (Go's simd/archsimd, built with
+// GOEXPERIMENT=simd). Each is its portable pass lane by lane: the same
+// operations in the same order, each rounded once (no fused multiply-add;
+// division and square root are correctly rounded), so it gives the portable
+// bits for any finite input. Branches become selects: hllc4 computes the
+// star flux in every lane, and the physical fluxes of the left and right
+// states only when some lane needs one.
 
-// simdHLLC reports whether this processor runs hllcFaces4 (AVX2).
+// simdHLLC reports whether this processor runs the SIMD passes (AVX2).
 var simdHLLC = archsimd.X86.AVX2()
 
 type vec4 = archsimd.Float64x4
@@ -67,9 +69,9 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	// star flux on the side K of the contact
 	ql, qr := rl.Mul(sl.Sub(ul)), rr.Mul(sr.Sub(ur))
 	ss := pr.Sub(pl).Add(ul.Mul(ql)).Sub(ur.Mul(qr)).Div(ql.Sub(qr))
-	left := ss.GreaterEqual(k.zero) // hllc: ss < 0 takes the right side
-	r, uk, vk, p := rl.Merge(rr, left), ul.Merge(ur, left), vl.Merge(vr, left), pl.Merge(pr, left)
-	hk, sk, q := hl.Merge(hr, left), sl.Merge(sr, left), ql.Merge(qr, left)
+	right := ss.Less(k.zero)
+	r, uk, vk, p := rr.Merge(rl, right), ur.Merge(ul, right), vr.Merge(vl, right), pr.Merge(pl, right)
+	hk, sk, q := hr.Merge(hl, right), sr.Merge(sl, right), qr.Merge(ql, right)
 	m := r.Mul(uk)
 	e := r.Mul(hk).Sub(p)
 	t := sk.Sub(uk).Div(sk.Sub(ss))
@@ -95,4 +97,53 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 		f0, f1, f2, f3 = g0.Merge(f0, toLeft), g1.Merge(f1, toLeft), g2.Merge(f2, toLeft), g3.Merge(f3, toLeft)
 	}
 	return f0, f1, f2, f3
+}
+
+// vanLeerSlopes4 is the van Leer part of slopesWith four cells at a time:
+// d_i = VanLeer(w_i - w_{i-1}, w_{i+1} - w_i) for the cells 1 <= i < 1+n
+// with n = (len(w)-2) &^ 3, which it returns.
+func vanLeerSlopes4(w, d []float64) int {
+	n := (len(w) - 2) &^ 3
+	two, zero := bcast4(2), bcast4(0)
+	for i := 1; i < 1+n; i += 4 {
+		wc := load4(w[i:])
+		a, b := wc.Sub(load4(w[i-1:])), load4(w[i+1:]).Sub(wc)
+		ab := a.Mul(b)
+		q := two.Mul(ab).Div(a.Add(b))
+		zero.Merge(q, ab.LessEqual(zero)).StoreSlice(d[i:])
+	}
+	archsimd.ClearAVXUpperBits()
+	return n
+}
+
+// evolvePrim4 is evolvePrim four cells at a time, for the cells
+// 1 <= i < 1+n with n = (m-2) &^ 3, which it returns.
+func evolvePrim4(g, h float64, w, d, r *[4][]float64, m int) int {
+	n := (m - 2) &^ 3
+	gv, hv, half, zero := bcast4(g), bcast4(h), bcast4(0.5), bcast4(0)
+	for i := 1; i < 1+n; i += 4 {
+		rc, uc, vc, pc := load4(w[0][i:]), load4(w[1][i:]), load4(w[2][i:]), load4(w[3][i:])
+		dr, du, dv, dp := load4(d[0][i:]), load4(d[1][i:]), load4(d[2][i:]), load4(d[3][i:])
+		er := hv.Mul(uc.Mul(dr).Add(rc.Mul(du)))
+		eu := hv.Mul(uc.Mul(du).Add(dp.Div(rc)))
+		ev := hv.Mul(uc.Mul(dv))
+		ep := hv.Mul(gv.Mul(pc).Mul(du).Add(uc.Mul(dp)))
+		lr, lu := rc.Sub(half.Mul(dr)).Sub(er), uc.Sub(half.Mul(du)).Sub(eu)
+		lv, lp := vc.Sub(half.Mul(dv)).Sub(ev), pc.Sub(half.Mul(dp)).Sub(ep)
+		rr, ru := rc.Add(half.Mul(dr)).Sub(er), uc.Add(half.Mul(du)).Sub(eu)
+		rv, rp := vc.Add(half.Mul(dv)).Sub(ev), pc.Add(half.Mul(dp)).Sub(ep)
+		// positivity fallback: first order where a face density or
+		// pressure is not positive
+		ok := lr.Greater(zero).And(lp.Greater(zero)).And(rr.Greater(zero)).And(rp.Greater(zero))
+		lr.Merge(rc, ok).StoreSlice(d[0][i:])
+		lu.Merge(uc, ok).StoreSlice(d[1][i:])
+		lv.Merge(vc, ok).StoreSlice(d[2][i:])
+		lp.Merge(pc, ok).StoreSlice(d[3][i:])
+		rr.Merge(rc, ok).StoreSlice(r[0][i:])
+		ru.Merge(uc, ok).StoreSlice(r[1][i:])
+		rv.Merge(vc, ok).StoreSlice(r[2][i:])
+		rp.Merge(pc, ok).StoreSlice(r[3][i:])
+	}
+	archsimd.ClearAVXUpperBits()
+	return n
 }
