@@ -5,6 +5,11 @@ import (
 	"math"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // The Burgers cases. For u_t + (u^2/2)_x + (u^2/2)_y = 0 the characteristics
 // are straight lines (dx/dt, dy/dt) = (u, u) along which u is constant
 // (method of characteristics, a law; docs/references.md §2, §3).
@@ -43,7 +48,7 @@ func (w sineWave) breaking() float64 { return 1 / (w.c * math.Abs(w.b) * w.kappa
 // by Newton's method safeguarded by bisection on [a-|b|, a+|b|]. For
 // t < t_b, F' = 1 + b kappa c t cos(.) > 0, so the root is unique.
 func (w sineWave) at(s, t float64) float64 {
-	u0 := w.a + w.b*math.Sin(w.kappa*s)
+	u0 := w.a + float64(w.b*sine(w.kappa*s))
 	if t == 0 || w.b == 0 {
 		return u0
 	}
@@ -51,13 +56,13 @@ func (w sineWave) at(s, t float64) float64 {
 	u, ct := u0, w.c*t
 	for it := 0; it < 100; it++ {
 		ph := w.kappa * (s - ct*u)
-		f := u - w.a - w.b*math.Sin(ph)
+		f := u - w.a - w.b*sine(ph)
 		if f > 0 {
 			hi = u
 		} else {
 			lo = u
 		}
-		du := f / (1 + w.b*w.kappa*ct*math.Cos(ph))
+		du := f / (1 + float64(w.b*w.kappa*ct*cosine(ph)))
 		next := u - du
 		if !(next > lo && next < hi) {
 			next = 0.5 * (lo + hi)
@@ -204,9 +209,9 @@ func burgersRiemannBreaks(ul, ur, x0, t float64) []float64 {
 	case t <= 0:
 		return []float64{x0}
 	case ul > ur:
-		return []float64{x0 + 0.5*(ul+ur)*t}
+		return []float64{x0 + float64(0.5*(ul+ur)*t)}
 	}
-	return []float64{x0 + ul*t, x0 + ur*t}
+	return []float64{x0 + float64(ul*t), x0 + float64(ur*t)}
 }
 
 // crossing returns the x where the conserved variable 0 on row j first

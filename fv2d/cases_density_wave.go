@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // densityWaveCase is a smooth density wave advected by a uniform flow on the
 // periodic unit square: rho = 1 + amp sin(2 pi (kx x + ky y)), u, v, p
 // uniform. Velocity and pressure stay uniform, so the Euler equations
@@ -33,7 +38,7 @@ func (densityWaveCase) Setup(v Values) (*Problem, error) {
 	kx, ky := 2*math.Pi*float64(v.Int("kx")), 2*math.Pi*float64(v.Int("ky"))
 	u, vv, p := v.Float("u"), v.Float("v"), v.Float("p")
 	exact := func(x, y, t float64, w []float64) {
-		w[0] = 1 + amp*math.Sin(kx*(x-u*t)+ky*(y-vv*t))
+		w[0] = 1 + float64(amp*sine(float64(kx*(x-float64(u*t)))+float64(ky*(y-float64(vv*t)))))
 		w[1], w[2], w[3] = u, vv, p
 	}
 	return &Problem{

@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // vortexCase is the isentropic vortex of Shu (1998, NASA/CR-97-206253) and
 // Yee, Sandham & Djomehri (1999, J. Comput. Phys. 150): a smooth exact
 // solution of the 2-D Euler equations, the free stream (rho, u, v, p) =
@@ -41,11 +46,11 @@ func (vortexCase) Setup(v Values) (*Problem, error) {
 	amp := beta / (2 * math.Pi)
 	tamp := (gamma - 1) * beta * beta / (8 * gamma * math.Pi * math.Pi)
 	state := func(dx, dy float64, w []float64) {
-		r2 := dx*dx + dy*dy
+		r2 := float64(dx*dx) + float64(dy*dy)
 		e := math.Exp(0.5 * (1 - r2))
 		T := 1 - tamp*e*e
 		rho := math.Pow(T, 1/(gamma-1))
-		w[0], w[1], w[2], w[3] = rho, uinf-amp*e*dy, vinf+amp*e*dx, rho*T // p = rho^gamma = rho T
+		w[0], w[1], w[2], w[3] = rho, uinf-float64(amp*e*dy), vinf+float64(amp*e*dx), rho*T // p = rho^gamma = rho T
 	}
 	exact := func(x, y, t float64, w []float64) {
 		state(nearestImage(x-xc-uinf*t, L), nearestImage(y-yc-vinf*t, L), w)

@@ -5,6 +5,11 @@ import (
 	"sort"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // Cell averages of exact solutions with known discontinuities.
 //
 // A Gauss-Legendre rule converges fast on a smooth integrand but only at
@@ -64,9 +69,9 @@ func (r *splitRule) estimate(l int, a, b, c, d float64, avg, scale []float64) {
 	}
 	gx, gw := r.x[l], r.w[l]
 	for j := range gx {
-		y := c + 0.5*(d-c)*(1+gx[j])
+		y := c + float64(0.5*(d-c)*(1+gx[j]))
 		for i := range gx {
-			r.prim(a+0.5*(b-a)*(1+gx[i]), y, r.pw)
+			r.prim(a+float64(0.5*(b-a)*(1+gx[i])), y, r.pw)
 			toConserved(r.eq, r.gamma, r.pw, r.c)
 			wt := 0.25 * gw[i] * gw[j]
 			for k, v := range r.c {

@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // BurgersFlux is a numerical flux of the scalar law u_t + f(u)_x = 0 with
 // f(u) = u^2/2 across a face with left state ul and right state ur.
 type BurgersFlux func(ul, ur float64) float64
@@ -44,5 +49,5 @@ func BurgersGodunov(ul, ur float64) float64 {
 // (f(ul) + f(ur))/2 - max(|ul|, |ur|) (ur - ul)/2.
 func BurgersRusanov(ul, ur float64) float64 {
 	s := max(math.Abs(ul), math.Abs(ur))
-	return 0.25*(ul*ul+ur*ur) - 0.5*s*(ur-ul)
+	return float64(0.25*(float64(ul*ul)+float64(ur*ur))) - float64(0.5*s*(ur-ul))
 }

@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // EulerFlux is a numerical flux of the Euler equations of an ideal gas with
 // ratio of specific heats gamma, across a face normal to the sweep
 // direction. The left and right states are primitive: density r, normal
@@ -39,8 +44,8 @@ func EulerFluxByName(name string) (EulerFlux, error) { return eulerFluxes.byName
 // (r u, r u^2 + p, r u v, u (E + p)) with E = p/(gamma-1) + r (u^2 + v^2)/2.
 func EulerPhysicalFlux(gamma, r, u, v, p float64) (f0, f1, f2, f3 float64) {
 	m := r * u
-	e := p/(gamma-1) + 0.5*r*(u*u+v*v)
-	return m, m*u + p, m * v, u * (e + p)
+	e := p/(gamma-1) + float64(0.5*r*(float64(u*u)+float64(v*v)))
+	return m, float64(m*u) + p, m * v, u * (e + p)
 }
 
 // EulerRusanov is the Rusanov (local Lax-Friedrichs) flux (Rusanov 1961):
@@ -50,13 +55,13 @@ func EulerRusanov(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3
 	al := math.Sqrt(gamma * pl / rl)
 	ar := math.Sqrt(gamma * pr / rr)
 	s := max(math.Abs(ul)+al, math.Abs(ur)+ar)
-	mul, mur := rl*ul, rr*ur
-	el := pl*g1 + 0.5*rl*(ul*ul+vl*vl)
-	er := pr*g1 + 0.5*rr*(ur*ur+vr*vr)
-	f0 = 0.5 * (mul + mur - s*(rr-rl))
-	f1 = 0.5 * (mul*ul + pl + mur*ur + pr - s*(mur-mul))
-	f2 = 0.5 * (mul*vl + mur*vr - s*(rr*vr-rl*vl))
-	f3 = 0.5 * (ul*(el+pl) + ur*(er+pr) - s*(er-el))
+	mul, mur := float64(rl*ul), float64(rr*ur)
+	el := float64(pl*g1) + float64(0.5*rl*(float64(ul*ul)+float64(vl*vl)))
+	er := float64(pr*g1) + float64(0.5*rr*(float64(ur*ur)+float64(vr*vr)))
+	f0 = 0.5 * (mul + mur - float64(s*(rr-rl)))
+	f1 = 0.5 * (float64(mul*ul) + pl + float64(mur*ur) + pr - float64(s*(mur-mul)))
+	f2 = 0.5 * (float64(mul*vl) + float64(mur*vr) - float64(s*(float64(rr*vr)-float64(rl*vl))))
+	f3 = 0.5 * (float64(ul*(el+pl)) + float64(ur*(er+pr)) - float64(s*(er-el)))
 	return
 }
 
@@ -83,7 +88,9 @@ func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 f
 // fluxes that use them make no calls.
 
 // totalEnthalpy is H = g p/rho + (u^2 + v^2)/2 with g = gamma/(gamma-1).
-func totalEnthalpy(g, r, u, v, p float64) float64 { return g*p/r + 0.5*(u*u+v*v) }
+func totalEnthalpy(g, r, u, v, p float64) float64 {
+	return g*p/r + float64(0.5*(float64(u*u)+float64(v*v)))
+}
 
 // roeWeights returns sqrt(rho_L), sqrt(rho_R) and 1/(sqrt(rho_L) + sqrt(rho_R)).
 func roeWeights(rl, rr float64) (ql, qr, w float64) {
@@ -92,10 +99,14 @@ func roeWeights(rl, rr float64) (ql, qr, w float64) {
 }
 
 // roeMean is the Roe average x~ of xl and xr with the weights of roeWeights.
-func roeMean(ql, qr, w, xl, xr float64) float64 { return (ql*xl + qr*xr) * w }
+func roeMean(ql, qr, w, xl, xr float64) float64 {
+	return float64((float64(ql*xl) + float64(qr*xr)) * w)
+}
 
 // roeSound is a~ = sqrt((gamma-1) (H~ - (u~^2 + v~^2)/2)).
-func roeSound(gm1, h, u, v float64) float64 { return math.Sqrt(gm1 * (h - 0.5*(u*u+v*v))) }
+func roeSound(gm1, h, u, v float64) float64 {
+	return math.Sqrt(gm1 * (h - float64(0.5*(float64(u*u)+float64(v*v)))))
+}
 
 // roeAverage returns the Roe averages rho~, u~, v~, H~, a~ and the left and
 // right total enthalpies.
@@ -130,13 +141,13 @@ func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
 	}
 	mul, mur := rl*ul, rr*ur
-	el, er := rl*hl-pl, rr*hr-pr // E = rho H - p
+	el, er := float64(rl*hl)-pl, float64(rr*hr)-pr // E = rho H - p
 	w := 1 / (sr - sl)
-	ss := sl * sr
-	f0 = (sr*mul - sl*mur + ss*(rr-rl)) * w
-	f1 = (sr*(mul*ul+pl) - sl*(mur*ur+pr) + ss*(mur-mul)) * w
-	f2 = (sr*mul*vl - sl*mur*vr + ss*(rr*vr-rl*vl)) * w
-	f3 = (sr*mul*hl - sl*mur*hr + ss*(er-el)) * w
+	ss := float64(sl * sr)
+	f0 = (float64(sr*mul) - float64(sl*mur) + float64(ss*(rr-rl))) * w
+	f1 = (float64(sr*(float64(mul*ul)+pl)) - float64(sl*(float64(mur*ur)+pr)) + float64(ss*(mur-mul))) * w
+	f2 = (float64(sr*mul*vl) - float64(sl*mur*vr) + float64(ss*(float64(rr*vr)-float64(rl*vl)))) * w
+	f3 = (float64(sr*mul*hl) - float64(sl*mur*hr) + float64(ss*(er-el))) * w
 	return
 }
 
@@ -147,8 +158,12 @@ func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 // F*_R = F_R + S_R (U*_R - U_R) (eq. 10.38). A stationary contact (u_L = u_R = 0, p_L = p_R) is
 // resolved exactly.
 func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	return hllc(gamma, gamma/(gamma-1), rl, ul, vl, pl, rr, ur, vr, pr)
+}
+
+// hllc is EulerHLLC given g = gamma/(gamma-1), which a sweep computes once.
+func hllc(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
 	// roeAverage, written out so that the default flux makes no call
-	g := gamma / (gamma - 1)
 	hl, hr := totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
 	wl, wr, w := roeWeights(rl, rr)
 	u, v, h := roeMean(wl, wr, w, ul, ur), roeMean(wl, wr, w, vl, vr), roeMean(wl, wr, w, hl, hr)
@@ -159,24 +174,24 @@ func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 fl
 	if sr <= 0 {
 		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
 	}
-	ql, qr := rl*(sl-ul), rr*(sr-ur) // mass flux through the outer waves
-	ss := (pr - pl + ul*ql - ur*qr) / (ql - qr)
+	ql, qr := float64(rl*(sl-ul)), float64(rr*(sr-ur)) // mass flux through the outer waves
+	ss := (pr - pl + float64(ul*ql) - float64(ur*qr)) / (ql - qr)
 	// The side K of the contact the face lies on: L for S* >= 0, else R.
 	r, u, v, p, h, sk, q := rl, ul, vl, pl, hl, sl, ql
 	if ss < 0 {
 		r, u, v, p, h, sk, q = rr, ur, vr, pr, hr, sr, qr
 	}
 	// F_K + S_K (U*_K - U_K) (Toro 2009 eqs. 10.38, 10.39).
-	m := r * u
-	e := r*h - p
+	m := float64(r * u)
+	e := float64(r*h) - p
 	// rho*_K = r t; written with t - 1 so that U*_K - U_K vanishes exactly
 	// when the contact moves with the state (ss = u).
 	t := (sk - u) / (sk - ss)
 	d0 := r * (t - 1)
-	d1 := r*t*ss - m
+	d1 := float64(r*t*ss) - m
 	d2 := v * d0
-	d3 := e*(t-1) + r*t*(ss-u)*(ss+p/q)
-	return m + sk*d0, m*u + p + sk*d1, m*v + sk*d2, m*h + sk*d3
+	d3 := float64(e*(t-1)) + float64(r*t*(ss-u)*(ss+p/q))
+	return m + float64(sk*d0), float64(m*u) + p + float64(sk*d1), float64(m*v) + float64(sk*d2), float64(m*h) + float64(sk*d3)
 }
 
 // EulerRoe is the Roe flux (Roe 1981, J. Comput. Phys. 43; Toro 2009 §11.2)
@@ -203,10 +218,10 @@ func roeFlux(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64, fix bool) (f0, f1, f
 	dr, du, dv, dp := rr-rl, ur-ul, vr-vl, pr-pl
 	ia2 := 1 / (a * a)
 	// Wave strengths (Toro 2009 §11.2.2, eqs. 11.68-11.70, with the shear wave).
-	a1 := 0.5 * (dp - rho*a*du) * ia2
-	a2 := dr - dp*ia2
+	a1 := float64(0.5 * (dp - float64(rho*a*du)) * ia2)
+	a2 := dr - float64(dp*ia2)
 	a3 := rho * dv
-	a4 := 0.5 * (dp + rho*a*du) * ia2
+	a4 := float64(0.5 * (dp + float64(rho*a*du)) * ia2)
 	l1, l2, l4 := u-a, u, u+a
 	k1, k4 := math.Abs(l1), math.Abs(l4)
 	if fix {
@@ -214,36 +229,36 @@ func roeFlux(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64, fix bool) (f0, f1, f
 		// Wave 1: from U_L to U_L + a1 K1.
 		if lb := ul - math.Sqrt(gamma*pl/rl); lb < 0 {
 			r := rl + a1
-			m := rl*ul + a1*(u-a)
-			n := rl*vl + a1*v
-			e := rl*hl - pl + a1*(h-u*a)
-			if la := (m - math.Sqrt(gamma*g1*(e*r-0.5*(m*m+n*n)))) / r; la > 0 {
-				k1 = ((la+lb)*l1 - 2*la*lb) / (la - lb)
+			m := float64(rl*ul) + float64(a1*(u-a))
+			n := float64(rl*vl) + float64(a1*v)
+			e := float64(rl*hl) - pl + float64(a1*(h-float64(u*a)))
+			if la := (m - math.Sqrt(gamma*g1*(float64(e*r)-float64(0.5*(float64(m*m)+float64(n*n)))))) / r; la > 0 {
+				k1 = (float64((la+lb)*l1) - float64(2*la*lb)) / (la - lb)
 			}
 		}
 		// Wave 4: from U_R - a4 K4 to U_R.
 		if la := ur + math.Sqrt(gamma*pr/rr); la > 0 {
 			r := rr - a4
-			m := rr*ur - a4*(u+a)
-			n := rr*vr - a4*v
-			e := rr*hr - pr - a4*(h+u*a)
-			if lb := (m + math.Sqrt(gamma*g1*(e*r-0.5*(m*m+n*n)))) / r; lb < 0 {
-				k4 = ((la+lb)*l4 - 2*la*lb) / (la - lb)
+			m := float64(rr*ur) - float64(a4*(u+a))
+			n := float64(rr*vr) - float64(a4*v)
+			e := float64(rr*hr) - pr - float64(a4*(h+float64(u*a)))
+			if lb := (m + math.Sqrt(gamma*g1*(float64(e*r)-float64(0.5*(float64(m*m)+float64(n*n)))))) / r; lb < 0 {
+				k4 = (float64((la+lb)*l4) - float64(2*la*lb)) / (la - lb)
 			}
 		}
 	}
 	k2 := math.Abs(l2)
-	w1, w2, w3, w4 := k1*a1, k2*a2, k2*a3, k4*a4
+	w1, w2, w3, w4 := float64(k1*a1), float64(k2*a2), float64(k2*a3), float64(k4*a4)
 	// Eigenvectors K1 = (1, u-a, v, h-ua), K2 = (1, u, v, (u^2+v^2)/2),
 	// K3 = (0, 0, 1, v), K4 = (1, u+a, v, h+ua).
 	d0 := w1 + w2 + w4
-	d1 := w1*(u-a) + w2*u + w4*(u+a)
-	d2 := (w1+w2+w4)*v + w3
-	d3 := w1*(h-u*a) + w2*0.5*(u*u+v*v) + w3*v + w4*(h+u*a)
-	mul, mur := rl*ul, rr*ur
+	d1 := float64(w1*(u-a)) + float64(w2*u) + float64(w4*(u+a))
+	d2 := float64((w1+w2+w4)*v) + w3
+	d3 := float64(w1*(h-float64(u*a))) + float64(w2*0.5*(float64(u*u)+float64(v*v))) + float64(w3*v) + float64(w4*(h+float64(u*a)))
+	mul, mur := float64(rl*ul), float64(rr*ur)
 	f0 = 0.5 * (mul + mur - d0)
-	f1 = 0.5 * (mul*ul + pl + mur*ur + pr - d1)
-	f2 = 0.5 * (mul*vl + mur*vr - d2)
-	f3 = 0.5 * (mul*hl + mur*hr - d3)
+	f1 = 0.5 * (float64(mul*ul) + pl + float64(mur*ur) + pr - d1)
+	f2 = 0.5 * (float64(mul*vl) + float64(mur*vr) - d2)
+	f3 = 0.5 * (float64(mul*hl) + float64(mur*hr) - d3)
 	return
 }

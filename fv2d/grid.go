@@ -1,5 +1,10 @@
 package fv2d
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // newState allocates the grid of problem p with nx x ny cells and g ghost
 // layers on every side: one flat slice per conserved variable.
 func newState(p *Problem, nx, ny, g int) *State {
@@ -30,7 +35,7 @@ func (s *State) Primitive(i, j int, w []float64) {
 	}
 	r, mx, my, e := s.U[0][idx], s.U[1][idx], s.U[2][idx], s.U[3][idx]
 	w[0], w[1], w[2] = r, mx/r, my/r
-	w[3] = (s.Gamma - 1) * (e - 0.5*(mx*mx+my*my)/r)
+	w[3] = (s.Gamma - 1) * (e - 0.5*(float64(mx*mx)+float64(my*my))/r)
 }
 
 // toConserved converts the primitive state w of equation eq into the
@@ -42,7 +47,7 @@ func toConserved(eq Equation, gamma float64, w, c []float64) {
 	}
 	r, u, v, p := w[0], w[1], w[2], w[3]
 	c[0], c[1], c[2] = r, r*u, r*v
-	c[3] = p/(gamma-1) + 0.5*r*(u*u+v*v)
+	c[3] = p/(gamma-1) + float64(0.5*r*(float64(u*u)+float64(v*v)))
 }
 
 // Clone returns a deep copy of s.

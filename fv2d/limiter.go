@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // The limiters and fluxes use Go's built-in min and max, not math.Min and
 // math.Max: both give the same bits (NaN wins, -0 < +0), but the built-ins
 // compile to branch-free instructions on amd64 where math.Min is a call; a
@@ -48,7 +53,7 @@ func Minmod(a, b float64) float64 {
 // VanLeer is the harmonic mean 2ab/(a+b) when a b > 0, else 0 (van Leer
 // 1974, J. Comput. Phys. 14).
 func VanLeer(a, b float64) float64 {
-	ab := a * b
+	ab := float64(a * b)
 	if ab <= 0 {
 		return 0
 	}

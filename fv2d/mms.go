@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // Manufactured solutions (P. J. Roache, Verification and Validation in
 // Computational Science and Engineering, Hermosa 1998, ch. 3; C. J. Roy,
 // C. C. Nelson, T. M. Smith, C. C. Ober, "Verification of Euler/Navier-Stokes
@@ -27,11 +32,11 @@ type mmsField struct {
 func (f mmsField) at(x, y, t float64) (v, vx, vy, vt float64) {
 	v = f.c0
 	for _, w := range f.waves {
-		s, c := math.Sincos(w.kx*x + w.ky*y + w.w*t + w.phase)
-		v += w.a * s
-		vx += w.a * w.kx * c
-		vy += w.a * w.ky * c
-		vt += w.a * w.w * c
+		s, c := sincos(float64(w.kx*x) + float64(w.ky*y) + float64(w.w*t) + w.phase)
+		v += float64(w.a * s)
+		vx += float64(w.a * w.kx * c)
+		vy += float64(w.a * w.ky * c)
+		vt += float64(w.a * w.w * c)
 	}
 	return v, vx, vy, vt
 }
@@ -79,7 +84,7 @@ func mmsBurgersExact(x, y, t float64, w []float64) {
 // u_t + (u^2/2)_x + (u^2/2)_y for the manufactured u, into s.
 func mmsBurgersSource(x, y, t float64, s []float64) {
 	u, ux, uy, ut := mmsBurgersU.at(x, y, t)
-	s[0] = ut + u*(ux+uy)
+	s[0] = ut + float64(u*(ux+uy))
 }
 
 // mmsEulerExact writes the manufactured primitive state (rho, u, v, p) into w.
@@ -109,20 +114,20 @@ func mmsEulerSource(gamma float64) func(x, y, t float64, s []float64) {
 		p, px, py, pt := mmsEulerFields[3].at(x, y, t)
 
 		// Mass fluxes rho u, rho v and their derivatives.
-		mu, mux, muy, mut := r*u, rx*u+r*ux, ry*u+r*uy, rt*u+r*ut
-		mv, mvx, mvy, mvt := r*v, rx*v+r*vx, ry*v+r*vy, rt*v+r*vt
+		mu, mux, muy, mut := r*u, float64(rx*u)+float64(r*ux), float64(ry*u)+float64(r*uy), float64(rt*u)+float64(r*ut)
+		mv, mvx, mvy, mvt := r*v, float64(rx*v)+float64(r*vx), float64(ry*v)+float64(r*vy), float64(rt*v)+float64(r*vt)
 
 		s[0] = rt + mux + mvy
 		// (rho u^2)_x = (mu u)_x, (rho u v)_y = (mu v)_y, ...
-		s[1] = mut + (mux*u + mu*ux + px) + (muy*v + mu*vy)
-		s[2] = mvt + (mvx*u + mv*ux) + (mvy*v + mv*vy + py)
+		s[1] = mut + (float64(mux*u) + float64(mu*ux) + px) + (float64(muy*v) + float64(mu*vy))
+		s[2] = mvt + (float64(mvx*u) + float64(mv*ux)) + (float64(mvy*v) + float64(mv*vy) + py)
 
-		q2 := 0.5 * (u*u + v*v)
-		E := p/gm1 + r*q2
-		Ex := px/gm1 + rx*q2 + r*(u*ux+v*vx)
-		Ey := py/gm1 + ry*q2 + r*(u*uy+v*vy)
-		Et := pt/gm1 + rt*q2 + r*(u*ut+v*vt)
+		q2 := 0.5 * (float64(u*u) + float64(v*v))
+		E := p/gm1 + float64(r*q2)
+		Ex := px/gm1 + float64(rx*q2) + float64(r*(float64(u*ux)+float64(v*vx)))
+		Ey := py/gm1 + float64(ry*q2) + float64(r*(float64(u*uy)+float64(v*vy)))
+		Et := pt/gm1 + float64(rt*q2) + float64(r*(float64(u*ut)+float64(v*vt)))
 		H, Hx, Hy := E+p, Ex+px, Ey+py
-		s[3] = Et + (ux*H + u*Hx) + (vy*H + v*Hy)
+		s[3] = Et + (float64(ux*H) + float64(u*Hx)) + (float64(vy*H) + float64(v*Hy))
 	}
 }

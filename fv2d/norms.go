@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // neumaier is a compensated sum (Neumaier 1974, the improved Kahan-Babuska
 // summation): the running error of each addition is kept in c and added at
 // the end, so the sum of n terms is accurate to about one rounding of the
@@ -53,7 +58,7 @@ func errorNorms(s, ex *State) []Norms {
 			for i, x := range a {
 				e := math.Abs(x - b[i])
 				l1.add(e)
-				l2.add(e * e)
+				l2.add(float64(e * e))
 				if e > linf || e != e {
 					linf = e
 				}

@@ -23,7 +23,7 @@ func gaussLegendre(n int) (x, w []float64) {
 	}
 	x, w = make([]float64, n), make([]float64, n)
 	for i := 0; i < (n+1)/2; i++ {
-		z := math.Cos(math.Pi * (float64(i) + 0.75) / (float64(n) + 0.5))
+		z := cosine(math.Pi * (float64(i) + 0.75) / (float64(n) + 0.5))
 		var dp float64
 		for it := 0; it < 100; it++ {
 			var p float64

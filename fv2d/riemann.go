@@ -5,6 +5,11 @@ import (
 	"math"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // WaveKind is the kind of a non-linear wave of the Euler Riemann problem.
 type WaveKind int
 
@@ -91,7 +96,7 @@ func SolveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) (RiemannSolution, error
 func pressureFn(gamma, p, rK, pK, aK float64) (f, df, r float64) {
 	if p > pK {
 		A := 2 / ((gamma + 1) * rK)
-		B := (gamma - 1) / (gamma + 1) * pK
+		B := float64((gamma - 1) / (gamma + 1) * pK)
 		q := math.Sqrt(A / (p + B))
 		return (p - pK) * q, q * (1 - 0.5*(p-pK)/(p+B)), 0
 	}
@@ -141,9 +146,9 @@ func guessPressure(gamma, rl, ul, pl, al, rr, ur, pr, ar float64) float64 {
 		den := al/powPos(pl, z) + ar/powPos(pr, z)
 		return powPos(num/den, 1/z)
 	}
-	gL := math.Sqrt(2 / ((gamma + 1) * rl) / (ppv + (gamma-1)/(gamma+1)*pl))
-	gR := math.Sqrt(2 / ((gamma + 1) * rr) / (ppv + (gamma-1)/(gamma+1)*pr))
-	return math.Max(0, (gL*pl+gR*pr-(ur-ul))/(gL+gR))
+	gL := math.Sqrt(2 / ((gamma + 1) * rl) / (ppv + float64((gamma-1)/(gamma+1)*pl)))
+	gR := math.Sqrt(2 / ((gamma + 1) * rr) / (ppv + float64((gamma-1)/(gamma+1)*pr)))
+	return math.Max(0, (float64(gL*pl)+float64(gR*pr)-(ur-ul))/(gL+gR))
 }
 
 // solveRiemann is SolveRiemann without input checks; on vacuum generation it
@@ -196,8 +201,8 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 			}
 			// Converged: carry f_K and r_K to pn to first order (the error,
 			// O(dp^2), is below round-off).
-			fl += dfl * dp
-			fr += dfr * dp
+			fl += float64(dfl * dp)
+			fr += float64(dfr * dp)
 			c := 1 + 0.5*g1/gamma*dp/p
 			rL *= c
 			rR *= c
@@ -214,7 +219,7 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		p = pn
 	}
 	s.PStar = p
-	s.UStar = 0.5*(ul+ur) + 0.5*(fr-fl) // Toro 2009 eq. 4.9
+	s.UStar = float64(0.5*(ul+ur)) + float64(0.5*(fr-fl)) // Toro 2009 eq. 4.9
 
 	// Star densities and wave speeds (Toro 2009 §4.4, §4.5). On a
 	// rarefaction side (p/p_K)^(1/gamma) = r_K^n with n = 2/(gamma-1), and
@@ -225,8 +230,8 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 	if p > pl {
 		s.Left = Shock
 		q := p / pl
-		s.RhoStarL = rl * (q + gr) / (gr*q + 1)
-		sl := ul - s.AL*math.Sqrt((gamma+1)/(2*gamma)*q+z)
+		s.RhoStarL = rl * (q + gr) / (float64(gr*q) + 1)
+		sl := ul - float64(s.AL*math.Sqrt(float64((gamma+1)/(2*gamma)*q)+z))
 		s.LeftHead, s.LeftTail = sl, sl
 	} else {
 		s.Left = Rarefaction
@@ -237,8 +242,8 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 	if p > pr {
 		s.Right = Shock
 		q := p / pr
-		s.RhoStarR = rr * (q + gr) / (gr*q + 1)
-		sr := ur + s.AR*math.Sqrt((gamma+1)/(2*gamma)*q+z)
+		s.RhoStarR = rr * (q + gr) / (float64(gr*q) + 1)
+		sr := ur + float64(s.AR*math.Sqrt(float64((gamma+1)/(2*gamma)*q)+z))
 		s.RightHead, s.RightTail = sr, sr
 	} else {
 		s.Right = Rarefaction
@@ -281,7 +286,7 @@ func (s RiemannSolution) WavePositions(x0, t float64) []float64 {
 		speeds = append(speeds, s.RightTail, s.RightHead)
 	}
 	for i, v := range speeds {
-		speeds[i] = x0 + v*t
+		speeds[i] = x0 + float64(v*t)
 	}
 	return speeds
 }
@@ -334,7 +339,7 @@ func (s RiemannSolution) sampleLeftFan(xi float64) (rho, u, p float64) {
 		return s.RhoL, s.UL, s.PL
 	}
 	g := s.Gamma
-	c := 2/(g+1) + (g-1)/((g+1)*s.AL)*(s.UL-xi)
+	c := 2/(g+1) + float64((g-1)/((g+1)*s.AL)*(s.UL-xi))
 	cn := powFan(c, 2/(g-1))
 	u = 2 / (g + 1) * (s.AL + 0.5*(g-1)*s.UL + xi)
 	return s.RhoL * cn, u, s.PL * cn * c * c // c^(2 gamma/(gamma-1)) = c^n c^2

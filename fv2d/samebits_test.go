@@ -6,7 +6,12 @@ import (
 	"fmt"
 	"hash/fnv"
 	"math"
+	"math/rand/v2"
 	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
 	"strings"
 	"testing"
 )
@@ -92,6 +97,129 @@ func TestSameBitsThreads(t *testing.T) {
 	if out := os.Getenv("FV2D_BITS_OUT"); out != "" {
 		if err := os.WriteFile(out, []byte(strings.Join(lines, "\n")+"\n"), 0o644); err != nil {
 			t.Fatal(err)
+		}
+	}
+}
+
+// goamd64 returns the GOAMD64 level this test binary was built for.
+func goamd64() string {
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		for _, s := range bi.Settings {
+			if s.Key == "GOAMD64" {
+				return s.Value
+			}
+		}
+	}
+	return "v1"
+}
+
+// TestSameBitsGOAMD64 holds the final states of bitsRuns bitwise equal
+// between this build and one for another GOAMD64 level (v3 from v1 or v2,
+// else v1), where the compiler may fuse a multiplication and an addition
+// into one FMA (one rounding instead of two) unless the code prevents it.
+// It rebuilds the package's tests with the other level and runs
+// TestSameBitsThreads there.
+func TestSameBitsGOAMD64(t *testing.T) {
+	if runtime.GOARCH != "amd64" {
+		t.Skip("GOAMD64 levels are an amd64 matter")
+	}
+	if testing.Short() {
+		t.Skip("rebuilds the package's tests (-short)")
+	}
+	goCmd, err := exec.LookPath("go")
+	if err != nil {
+		t.Skip("no go command to rebuild the tests with:", err)
+	}
+	level, other := goamd64(), "v3"
+	if level == "v3" || level == "v4" {
+		other = "v1"
+	}
+	out := filepath.Join(t.TempDir(), "hashes")
+	cmd := exec.Command(goCmd, "test", "-count=1", "-run", "^TestSameBitsThreads$", ".")
+	cmd.Env = append(os.Environ(), "GOAMD64="+other, "FV2D_BITS_OUT="+out)
+	msg, err := cmd.CombinedOutput()
+	if err != nil {
+		// The Go runtime refuses to start a binary built for a level the
+		// processor lacks, with a message naming the level.
+		if strings.Contains(string(msg), "microarchitecture support") {
+			t.Skipf("this processor cannot run GOAMD64=%s code: %s", other, msg)
+		}
+		t.Fatalf("GOAMD64=%s go test: %v\n%s", other, err, msg)
+	}
+	theirs, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mine := bitsHashes(t, 1)
+	lines := strings.Split(strings.TrimSpace(string(theirs)), "\n")
+	if len(lines) != len(mine) {
+		t.Fatalf("GOAMD64=%s wrote %d hashes, want %d", other, len(lines), len(mine))
+	}
+	// Compare the run index and the hash; the kernel path may differ.
+	for k := range mine {
+		a, b := strings.Fields(mine[k]), strings.Fields(lines[k])
+		if len(b) < 2 || a[0] != b[0] || a[1] != b[1] {
+			t.Errorf("%s %v: GOAMD64=%s gives %q, GOAMD64=%s %q", bitsRuns[k].name, bitsRuns[k].kv, level, mine[k], other, lines[k])
+		}
+	}
+}
+
+// TestSameBitsSIMD holds the SIMD path (four HLLC faces at a time) bitwise
+// equal to the portable one: the final states of bitsRuns and the fluxes of
+// random faces, subsonic and supersonic, on both sides of the contact.
+func TestSameBitsSIMD(t *testing.T) {
+	if !simdHLLC {
+		t.Skip("no SIMD path in this build or on this processor (GOEXPERIMENT=simd and AVX2 needed)")
+	}
+	defer func(old bool) { useSIMD = old }(useSIMD)
+	useSIMD = true
+	simd := bitsHashes(t, 1)
+	useSIMD = false
+	portable := bitsHashes(t, 1)
+	used := 0
+	for k := range simd {
+		a, b := strings.Fields(simd[k]), strings.Fields(portable[k])
+		if a[1] != b[1] {
+			t.Errorf("%s %v: SIMD path %s, portable %s", bitsRuns[k].name, bitsRuns[k].kv, a[1], b[1])
+		}
+		if a[2] == "avx2" {
+			used++
+		}
+	}
+	if used == 0 {
+		t.Error("no run took the SIMD path")
+	}
+
+	// Random faces: densities and pressures over six decades, velocities
+	// up to Mach 4 either way, so that every branch of hllc is taken.
+	const n = 4099
+	var r, l, f [4][]float64
+	for k := range 4 {
+		r[k], l[k], f[k] = make([]float64, n), make([]float64, n+1), make([]float64, n)
+	}
+	rng := rand.New(rand.NewPCG(1, 2))
+	state := func(s *[4][]float64, i int) {
+		rho, p := math.Pow(10, 6*rng.Float64()-3), math.Pow(10, 6*rng.Float64()-3)
+		a := math.Sqrt(1.4 * p / rho)
+		s[0][i], s[1][i], s[2][i], s[3][i] = rho, a*(8*rng.Float64()-4), a*(2*rng.Float64()-1), p
+	}
+	for i := range n {
+		state(&r, i)
+		state(&l, i+1)
+	}
+	gamma := 1.4
+	g := gamma / (gamma - 1)
+	done := hllcFaces4(gamma, g, r[0], r[1], r[2], r[3], l[0][1:], l[1][1:], l[2][1:], l[3][1:], f[0], f[1], f[2], f[3])
+	if done != n&^3 {
+		t.Fatalf("hllcFaces4 did %d faces of %d", done, n)
+	}
+	for i := range done {
+		w0, w1, w2, w3 := hllc(gamma, g, r[0][i], r[1][i], r[2][i], r[3][i], l[0][i+1], l[1][i+1], l[2][i+1], l[3][i+1])
+		want := [4]float64{w0, w1, w2, w3}
+		for k := range 4 {
+			if math.Float64bits(f[k][i]) != math.Float64bits(want[k]) {
+				t.Fatalf("face %d, flux %d: SIMD %v, portable %v", i, k, f[k][i], want[k])
+			}
 		}
 	}
 }

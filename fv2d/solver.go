@@ -9,6 +9,11 @@ import (
 	"time"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // Splitting. One time step of size dt is, with X and Y the 1-D sweeps:
 //   strang: X(dt/2) Y(dt) X(dt/2)   (second order in time, Strang 1968)
 //   lie:    X(dt) Y(dt)             (first order)
@@ -117,6 +122,8 @@ func NewSolver(v Values) (*Solver, error) {
 	s.base.gamma = p.Gamma
 	s.base.vanLeer = cfg.LimiterName == "vanleer"
 	s.base.godunovB = p.Eq == Burgers && cfg.FluxName == "exact"
+	s.base.hllc = p.Eq == Euler && cfg.FluxName == "hllc"
+	s.base.simd = useSIMD && (s.base.hllc || muscl && s.base.vanLeer)
 	if p.Eq == Euler {
 		if !(p.Gamma > 1) {
 			return nil, fmt.Errorf("case %s: gamma = %g, want > 1", v.Case, p.Gamma)
@@ -405,7 +412,7 @@ func (w *worker) source(t, dt float64) {
 			f(s.xc[i], s.yc[j], t, w.src)
 			idx := s.st.Index(i, j)
 			for k, q := range s.st.U {
-				q[idx] += dt * w.src[k]
+				q[idx] += float64(dt * w.src[k])
 			}
 		}
 	}
@@ -471,7 +478,7 @@ func badCell(eq Equation, gamma float64, c []float64) string {
 	if !(c[0] > 0) {
 		return "non-positive density"
 	}
-	p := (gamma - 1) * (c[3] - 0.5*(c[1]*c[1]+c[2]*c[2])/c[0])
+	p := (gamma - 1) * (c[3] - 0.5*(float64(c[1]*c[1])+float64(c[2]*c[2]))/c[0])
 	if !(p > 0) {
 		return fmt.Sprintf("non-positive pressure p=%g", p)
 	}
@@ -516,7 +523,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 				Reason: fmt.Sprintf("step guard: the first step dt=%.3g needs about %.3g steps to reach t_end=%g, over max_steps=%d",
 					dt, need, s.tEnd, s.cfg.MaxSteps)}
 		}
-		last := s.t+dt*(1+1e-12) >= s.tEnd
+		last := s.t+float64(dt*(1+1e-12)) >= s.tEnd
 		if last {
 			dt = s.tEnd - s.t
 		}
@@ -537,7 +544,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 	a := Assess(s.prob, init, st, s.cfg.Quad, s.cfg.Threads)
 	res := &Result{
 		Case: v.Case, Params: v.Map(), NX: s.nx, NY: s.ny, Steps: s.steps, TFinal: s.t,
-		Totals: a.Totals, Errors: a.Errors, Functionals: a.Functionals, Final: st, Kernel: "portable", CPUS: cpuS,
+		Totals: a.Totals, Errors: a.Errors, Functionals: a.Functionals, Final: st, Kernel: s.kernel(), CPUS: cpuS,
 	}
 	if stepWall > 0 {
 		res.CellUpdatesPerS = float64(s.nx*s.ny) * float64(s.steps) / stepWall

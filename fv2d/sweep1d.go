@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // A sweep advances every grid line of one direction by one 1-D
 // finite-volume step in conservative form,
 //   U_i <- U_i - dt/dx (F_{i+1/2} - F_{i-1/2}),
@@ -27,9 +32,10 @@ type sweepParams struct {
 	bf    BurgersFlux
 	lim   Limiter
 	// The defaults, which get passes of their own: lim is VanLeer, bf is
-	// BurgersGodunov.
-	vanLeer, godunovB bool
-	scr               *lineScratch // the worker's
+	// BurgersGodunov, ef is EulerHLLC.
+	vanLeer, godunovB, hllc bool
+	simd                    bool         // the passes that have one take their SIMD form (sweep_simd.go)
+	scr                     *lineScratch // the worker's
 }
 
 // lineScratch is a worker's scratch for the passes over one line, four
@@ -63,8 +69,8 @@ type lineKernel func(sp *sweepParams, rho, mn, mt, en []float64) lineResult
 // variables.
 func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
 	inv := 1 / r
-	u, v = m*inv, t*inv
-	p = gm1 * (e - 0.5*r*(u*u+v*v))
+	u, v = float64(m*inv), float64(t*inv)
+	p = float64(gm1 * (e - float64(0.5*r*(float64(u*u)+float64(v*v)))))
 	return
 }
 
@@ -72,8 +78,8 @@ func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
 // positivity (rho > 0 and p > 0, i.e. 2 E rho > |m|^2, without a division)
 // and, if wanted, its wave speeds |u_n| + a and |u_t| + a.
 func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
-	k2 := m*m + t*t
-	if !(r > 0 && 2*e*r > k2) {
+	k2 := float64(m*m) + float64(t*t)
+	if !(r > 0 && float64(2*e*r) > k2) {
 		res.bad = true
 		return
 	}
@@ -114,7 +120,11 @@ func slopesWith(lim Limiter, w, d []float64) {
 // slopes sets the limited slopes d of w with the sweep's limiter.
 func (sp *sweepParams) slopes(w, d []float64) {
 	if sp.vanLeer {
-		slopesWith(VanLeer, w, d)
+		done := 0 // cells 1..done by the SIMD pass
+		if sp.simd {
+			done = vanLeerSlopes4(w, d)
+		}
+		slopesWith(VanLeer, w[done:], d[done:])
 		return
 	}
 	slopesWith(sp.lim, w, d)
@@ -125,12 +135,24 @@ func (sp *sweepParams) slopes(w, d []float64) {
 // values l of cell i+1. (A flux is too large to be inlined, so a call
 // through the function value costs no more than a direct one.)
 func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
-	flux, g := sp.ef, sp.gamma
+	flux, gamma, g, direct := sp.ef, sp.gamma, sp.gamma/(sp.gamma-1), sp.hllc
 	r0, r1, r2, r3 := r[0][lo:hi], r[1][lo:hi], r[2][lo:hi], r[3][lo:hi]
+	n := len(r0)
+	r1, r2, r3 = r1[:n], r2[:n], r3[:n]
 	l0, l1, l2, l3 := l[0][lo+1:hi+1], l[1][lo+1:hi+1], l[2][lo+1:hi+1], l[3][lo+1:hi+1]
+	l0, l1, l2, l3 = l0[:n], l1[:n], l2[:n], l3[:n]
 	f0, f1, f2, f3 := f[0][lo:hi], f[1][lo:hi], f[2][lo:hi], f[3][lo:hi]
-	for i := range r0 {
-		f0[i], f1[i], f2[i], f3[i] = flux(g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+	f0, f1, f2, f3 = f0[:n], f1[:n], f2[:n], f3[:n]
+	start := 0
+	if sp.simd && direct {
+		start = hllcFaces4(gamma, g, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3)
+	}
+	for i := start; i < n; i++ {
+		if direct { // the default, HLLC, with gamma/(gamma-1) computed once
+			f0[i], f1[i], f2[i], f3[i] = hllc(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		} else {
+			f0[i], f1[i], f2[i], f3[i] = flux(gamma, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		}
 	}
 }
 
@@ -145,7 +167,7 @@ func updateEulerLine(res *lineResult, speed bool, gamma, c float64, rho, mn, mt,
 	for i := range rho {
 		a, b, d, e := rho[i]-c*(f0[i+1]-f0[i]), mn[i]-c*(f1[i+1]-f1[i]), mt[i]-c*(f2[i+1]-f2[i]), en[i]-c*(f3[i+1]-f3[i])
 		rho[i], mn[i], mt[i], en[i] = a, b, d, e
-		if !(a > 0 && 2*e*a > b*b+d*d) { // checkEuler's positivity test
+		if !(a > 0 && float64(2*e*a) > float64(b*b)+float64(d*d)) { // checkEuler's positivity test
 			res.bad = true
 		}
 	}
@@ -188,31 +210,39 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 	for k := range 4 {
 		sp.slopes(scr.w[k][:m], scr.d[k])
 	}
-	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+	done := 0 // cells 1..done by the SIMD pass
+	if sp.simd {
+		done = evolvePrim4(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+	}
+	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, done, m)
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
 	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
 }
 
-// evolvePrim turns the cells 1 <= i < m-1 of primitive values w and slopes
+// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w and slopes
 // d into their face values evolved by the half step h = dt/(2dx) of
 // eulerMUSCLPrim: the left face values replace d, the right ones go to r.
 // A cell whose evolved face density or pressure is not positive falls back
 // to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w, d, r *[4][]float64, m int) {
-	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
-	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
-	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
-	for i := 1; i < m-1; i++ {
+func evolvePrim(g, h float64, w, d, r *[4][]float64, lo, m int) {
+	w0, w1, w2, w3 := w[0][lo:m], w[1][lo:m], w[2][lo:m], w[3][lo:m]
+	n := len(w0)
+	w1, w2, w3 = w1[:n], w2[:n], w3[:n]
+	d0, d1, d2, d3 := d[0][lo:m], d[1][lo:m], d[2][lo:m], d[3][lo:m]
+	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
+	r0, r1, r2, r3 := r[0][lo:m], r[1][lo:m], r[2][lo:m], r[3][lo:m]
+	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
+	for i := 1; i < n-1; i++ {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
 		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
 		// half-step evolution: W - dt/(2dx) A(W) dW
-		er := h * (uc*dr + rc*du)
-		eu := h * (uc*du + dp/rc)
+		er := h * (float64(uc*dr) + float64(rc*du))
+		eu := h * (float64(uc*du) + dp/rc)
 		ev := h * (uc * dv)
-		ep := h * (g*pc*du + uc*dp)
+		ep := h * (float64(g*pc*du) + float64(uc*dp))
 		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
-		rr, ru, rv, rp := rc+0.5*dr-er, uc+0.5*du-eu, vc+0.5*dv-ev, pc+0.5*dp-ep
+		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
 		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
 			lr, lu, lv, lp = rc, uc, vc, pc
 			rr, ru, rv, rp = rc, uc, vc, pc
@@ -242,8 +272,8 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		d1 := lim(mn[i]-mn[i-1], mn[i+1]-mn[i])
 		d2 := lim(mt[i]-mt[i-1], mt[i+1]-mt[i])
 		d3 := lim(en[i]-en[i-1], en[i+1]-en[i])
-		a0, a1, a2, a3 := rho[i]-0.5*d0, mn[i]-0.5*d1, mt[i]-0.5*d2, en[i]-0.5*d3
-		b0, b1, b2, b3 := rho[i]+0.5*d0, mn[i]+0.5*d1, mt[i]+0.5*d2, en[i]+0.5*d3
+		a0, a1, a2, a3 := rho[i]-float64(0.5*d0), mn[i]-float64(0.5*d1), mt[i]-float64(0.5*d2), en[i]-float64(0.5*d3)
+		b0, b1, b2, b3 := rho[i]+float64(0.5*d0), mn[i]+float64(0.5*d1), mt[i]+float64(0.5*d2), en[i]+float64(0.5*d3)
 		au, av, ap := cellEuler(gm1, a0, a1, a2, a3)
 		bu, bv, bp := cellEuler(gm1, b0, b1, b2, b3)
 		fa0, fa1, fa2, fa3 := EulerPhysicalFlux(g, a0, au, av, ap)
@@ -269,4 +299,18 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		xr, xu, xv, xp = rr, ru, rv, rp
 	}
 	return res
+}
+
+// useSIMD lets the Euler HLLC sweeps compute four faces at a time where
+// the build and the processor allow it (simdHLLC); the tests turn it off to
+// hold the two paths bitwise equal.
+var useSIMD = simdHLLC
+
+// kernel names the path the solver's sweeps take, for Result.Kernel:
+// "avx2" when the HLLC faces are computed four at a time, else "portable".
+func (s *Solver) kernel() string {
+	if s.base.simd {
+		return "avx2"
+	}
+	return "portable"
 }

@@ -2,6 +2,11 @@ package fv2d
 
 import "math"
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // Line kernels of the Burgers equation u_t + (u^2/2)_x = 0 (the flux is the
 // same in x and y). Only rho (here: u) is used; mn, mt, en are nil.
 
@@ -69,7 +74,7 @@ func burgersMUSCL(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
 	d, r, f := sp.scr.d[0][:m], sp.scr.r[0][:m], sp.scr.f[0]
 	sp.slopes(u, d)
 	for i := 1; i < m-1; i++ { // the left face value replaces the slope
-		lo, hi := u[i]-0.5*d[i], u[i]+0.5*d[i]
+		lo, hi := u[i]-float64(0.5*d[i]), u[i]+float64(0.5*d[i])
 		e := h * u[i] * d[i] // = h (hi^2 - lo^2)/2
 		d[i], r[i] = lo-e, hi-e
 	}
