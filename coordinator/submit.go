@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"maps"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -35,12 +37,16 @@ const submitChunk = 4096
 // that a large sweep is never held in memory whole.
 func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed bool) (wire.SubmitReply, error) {
 	rep := wire.SubmitReply{Sweep: sp.Name}
+	defer c.forgetPrograms(sp.Name)
 	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source, Studies: sp.Settings()}
 	defer c.bump()
 	// Each checks the whole spec before it gives the first job, so that a
 	// bad spec changes nothing: the sweep is reopened at the first job.
 	var pub *publisher
 	start := func() error {
+		if err := c.ensureRoutes(ctx, sp); err != nil {
+			return err
+		}
 		msgID, retried, err := c.reopen(ctx, sp.Name, retryFailed)
 		rep.Retried = retried
 		pub = c.newPublisher(ctx, msgID)
@@ -101,6 +107,19 @@ func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed boo
 	}
 	c.log.Info("sweep submitted", "sweep", sp.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
 	return rep, nil
+}
+
+// ensureRoutes creates the consumers of the outside programs sp names
+// (EnsureRoute), so that their jobs wait in the stream for a worker that
+// offers the program at that version.
+func (c *Coordinator) ensureRoutes(ctx context.Context, sp *spec.Plan) error {
+	for _, name := range slices.Sorted(maps.Keys(sp.Programs)) {
+		m := sp.Programs[name]
+		if err := EnsureRoute(ctx, c.js, c.cfg.Names, wire.Route(m.Name, m.Version), m.Name+"@"+m.Version, c.cfg.Delivery); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // reopen prepares a stored sweep for a submission: a canceled one is
@@ -175,7 +194,7 @@ func (p *publisher) add(j job.Job) error {
 		return fmt.Errorf("job %s: %w", j.ID, err)
 	}
 	n := p.c.cfg.Names
-	f, err := p.c.js.PublishAsync(n.JobSubject(j.Sweep, j.ID), data,
+	f, err := p.c.js.PublishAsync(n.SubjectOf(j), data,
 		jetstream.WithMsgID(p.msgID(j.ID)), jetstream.WithExpectStream(n.JobStream()))
 	if err != nil {
 		return fmt.Errorf("publishing job %s: %w", j.ID, err)
