@@ -72,6 +72,10 @@ function drawSweeps(list) {
         el("span", { class: "progress" }, `${s.done + s.failed} of ${s.jobs_total} jobs finished (${pct(s.done + s.failed, s.jobs_total)})`),
         " · ", ...n("done", "done"), " · ", ...n("failed", "failed"), " · ", ...n("running", "running"),
         " · ", ...n("queued", "queued"), " · updated " + new Date(s.updated).toLocaleTimeString()));
+    // Jobs of an outside program that no live worker offers wait for one.
+    for (const [label, k] of Object.entries(s.waiting || {})) {
+      row.querySelector(".counts").append(" · ", el("b", { class: "n-waiting" }, k), ` waiting for a worker with ${label}`);
+    }
     const choose = () => { chosen = s.sweep; location.hash = encodeURIComponent(s.sweep); lastTablesHTML = null; poll(); };
     row.addEventListener("click", choose);
     row.addEventListener("keydown", e => { if (e.key === "Enter" || e.key === " ") choose(); });
