@@ -198,7 +198,7 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 	send := func(last bool) bool {
 		rep := wire.RowsReply{Rows: page, Total: len(rows), Seq: seq, Last: last}
 		if seq == 0 {
-			rep.SpecFile, rep.Spec = rec.SpecFile, rec.Spec
+			rep.SpecFile, rep.Spec, rep.Studies = rec.SpecFile, rec.Spec, rec.Studies
 		}
 		data, err := json.Marshal(rep)
 		if err == nil {

@@ -345,9 +345,13 @@ type RowsReply struct {
 	Total    int    `json:"total"`
 	SpecFile string `json:"spec_file,omitempty"`
 	Spec     string `json:"spec,omitempty"`
-	Seq      int    `json:"seq"`
-	Last     bool   `json:"last"`
-	Error    string `json:"error,omitempty"`
+	// Studies are the study settings the store keeps (first chunk only),
+	// so that a reader need not parse the spec (which may name programs
+	// whose manifests it does not have).
+	Studies []job.StudySettings `json:"studies,omitempty"`
+	Seq     int                 `json:"seq"`
+	Last    bool                `json:"last"`
+	Error   string              `json:"error,omitempty"`
 }
 
 // CancelReply says what a cancel did.
