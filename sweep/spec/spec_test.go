@@ -3,6 +3,7 @@ package spec
 import (
 	"errors"
 	"fmt"
+	"fvsweep/sweep/manifest"
 	"math"
 	"os"
 	"path/filepath"
@@ -348,8 +349,19 @@ func TestConfigs(t *testing.T) {
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no configs found: %v", err)
 	}
+	// A config may name the example solvers (their programs need not be
+	// built to check a spec).
+	manifests, _ := filepath.Glob("../../examples/solvers/*/manifest.toml")
+	var progs []*manifest.Manifest
+	for _, f := range manifests {
+		m, err := LoadManifest(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		progs = append(progs, m)
+	}
 	for _, f := range files {
-		s, err := Load(f, DefaultLimits())
+		s, err := Load(f, DefaultLimits(), progs...)
 		if err != nil {
 			t.Errorf("%v", err)
 			continue
