@@ -1,6 +1,7 @@
 package spec
 
 import (
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -139,4 +140,20 @@ func TestSolverErrors(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), `unknown solver "heron" (known: fv2d;`) {
 		t.Errorf("no manifest: %v", err)
 	}
+}
+
+// exampleManifests are the manifests of examples/solvers (their programs
+// need not be built to check a spec).
+func exampleManifests(t *testing.T) []*manifest.Manifest {
+	t.Helper()
+	files, _ := filepath.Glob("../../examples/solvers/*/manifest.toml")
+	var progs []*manifest.Manifest
+	for _, f := range files {
+		m, err := LoadManifest(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		progs = append(progs, m)
+	}
+	return progs
 }

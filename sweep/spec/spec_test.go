@@ -3,7 +3,6 @@ package spec
 import (
 	"errors"
 	"fmt"
-	"fvsweep/sweep/manifest"
 	"math"
 	"os"
 	"path/filepath"
@@ -351,15 +350,7 @@ func TestConfigs(t *testing.T) {
 	}
 	// A config may name the example solvers (their programs need not be
 	// built to check a spec).
-	manifests, _ := filepath.Glob("../../examples/solvers/*/manifest.toml")
-	var progs []*manifest.Manifest
-	for _, f := range manifests {
-		m, err := LoadManifest(f)
-		if err != nil {
-			t.Fatal(err)
-		}
-		progs = append(progs, m)
-	}
+	progs := exampleManifests(t)
 	for _, f := range files {
 		s, err := Load(f, DefaultLimits(), progs...)
 		if err != nil {
