@@ -46,7 +46,20 @@ func (c *Coordinator) count(name string) (store.Tally, error) {
 // Status counts the jobs of sweep name, or of every sweep when name is "".
 func (c *Coordinator) Status(name string) ([]wire.SweepStatus, error) {
 	now := time.Now()
-	return SweepStatuses(c.db, name, c.count, func(s string) int { return c.reg.runningIn(s, now) })
+	out, err := SweepStatuses(c.db, name, c.count, func(s string) int { return c.reg.runningIn(s, now) })
+	if err != nil {
+		return nil, err
+	}
+	offered := c.reg.offered(now)
+	for i := range out {
+		if out[i].Canceled || out[i].Queued == 0 {
+			continue
+		}
+		if out[i].Waiting, err = c.waiting(out[i].Sweep, offered); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }
 
 // SweepStatuses builds the status of sweep name (all sweeps for "") from
@@ -260,7 +273,7 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 		return
 	}
 	p := &parts{c: c, reply: m.Reply}
-	part := wire.RowsReply{Total: len(rows), SpecFile: rec.SpecFile, Spec: rec.Spec}
+	part := wire.RowsReply{Total: len(rows), SpecFile: rec.SpecFile, Spec: rec.Spec, Studies: rec.Studies}
 	next := func(last bool) bool {
 		part.Last = last
 		ok := p.send("rows of "+req.Sweep, part)
@@ -296,7 +309,7 @@ func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {
 		c.reply(m, wire.SubmitReply{Error: "this coordinator takes no submissions"})
 		return
 	}
-	spec, err := c.cfg.ParseSpec(req.File, req.Source)
+	spec, err := c.cfg.ParseSpec(req.File, req.Source, req.Solvers)
 	if err != nil {
 		c.reply(m, wire.SubmitReply{Error: err.Error()})
 		return

@@ -30,8 +30,9 @@ type Config struct {
 	Batch int
 	Flush time.Duration
 	// ParseSpec turns a submitted spec (file name for messages, TOML text)
-	// into a checked Plan; submit requests over NATS fail without it.
-	ParseSpec func(file, source string) (*spec.Plan, error)
+	// and the manifests of the outside programs it may name into a
+	// checked Plan; submit requests over NATS fail without it.
+	ParseSpec func(file, source string, solvers []wire.ManifestText) (*spec.Plan, error)
 	// OnStored, if set, is called after each batch of outcomes is stored.
 	OnStored func([]job.Outcome)
 	Log      hclog.Logger
@@ -71,6 +72,7 @@ type Coordinator struct {
 	mu      sync.Mutex
 	gen     uint64 // store writes so far
 	tallies map[string]tally
+	progJob map[string]map[string][]string // sweep -> "NAME@VERSION" -> its jobs of that program; see waiting
 }
 
 type tally struct {
@@ -190,7 +192,9 @@ func (c *Coordinator) Run(ctx context.Context) error {
 		subs = append(subs, s)
 		return nil
 	}
-	adv := fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", c.cfg.Names.JobStream(), c.cfg.Names.WorkerConsumer())
+	// Every consumer of the jobs stream is a solver's workers' (fv2d's and
+	// one per outside program and version).
+	adv := fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.*", c.cfg.Names.JobStream())
 	for _, s := range []struct {
 		subject string
 		h       nats.MsgHandler

@@ -96,7 +96,7 @@ func (c *Coordinator) reconcile(ctx context.Context) (int, error) {
 			return 0, err
 		}
 		for _, j := range unfinished {
-			if info.State.Subjects[c.cfg.Names.JobSubject(j.Sweep, j.ID)] > 0 {
+			if info.State.Subjects[c.cfg.Names.SubjectOf(j)] > 0 {
 				continue
 			}
 			key := j.Sweep + "\x00" + j.ID

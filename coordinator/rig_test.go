@@ -72,7 +72,7 @@ func newRigAt(t testing.TB, url string, d coordinator.Delivery, tune ...func(*co
 	r.stop = cancel
 	cfg := coordinator.Config{
 		Names: r.names, Delivery: d, Log: testLog(t, "coordinator"),
-		ParseSpec: func(file, src string) (*spec.Plan, error) {
+		ParseSpec: func(file, src string, _ []wire.ManifestText) (*spec.Plan, error) {
 			return spec.LoadSource(file, []byte(src), spec.DefaultLimits())
 		},
 	}

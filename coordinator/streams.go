@@ -130,18 +130,8 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d 
 	if err != nil {
 		return fmt.Errorf("stream %s: %w", n.ResultStream(), err)
 	}
-	_, err = js.CreateOrUpdateConsumer(ctx, n.JobStream(), jetstream.ConsumerConfig{
-		Durable:       n.WorkerConsumer(),
-		Description:   "fvsweep workers",
-		AckPolicy:     jetstream.AckExplicitPolicy,
-		AckWait:       d.AckWait,
-		MaxDeliver:    d.MaxDeliver,
-		MaxAckPending: 100000,
-		MaxWaiting:    4096,
-		Replicas:      d.Replicas,
-	})
-	if err != nil {
-		return fmt.Errorf("consumer %s: %w", n.WorkerConsumer(), err)
+	if err := EnsureRoute(ctx, js, n, "", "fv2d", d); err != nil {
+		return err
 	}
 	_, err = js.CreateOrUpdateConsumer(ctx, n.ResultStream(), jetstream.ConsumerConfig{
 		Durable:     n.CoordinatorConsumer(),
@@ -175,6 +165,34 @@ func ensureStreams(ctx context.Context, js jetstream.JetStream, n wire.Names, d 
 	})
 	if err != nil {
 		return fmt.Errorf("object store %s: %w", n.FieldBucket(), err)
+	}
+	return nil
+}
+
+// EnsureRoute creates or updates the durable pull consumer of the jobs of
+// route (wire.Route; "" for fv2d), which the workers offering that solver
+// share; label names the solver ("NAME@VERSION") in its description.
+//
+// The consumers of the jobs stream filter disjoint subjects
+// (wire.Names.RouteFilter), as a work-queue stream requires. The fv2d
+// consumer of a store from before outside programs had no filter; it is
+// updated in place to fv2d's, and its queued jobs, whose subjects have
+// not changed, stay in it.
+func EnsureRoute(ctx context.Context, js jetstream.JetStream, n wire.Names, route, label string, d Delivery) error {
+	d = d.withDefaults()
+	_, err := js.CreateOrUpdateConsumer(ctx, n.JobStream(), jetstream.ConsumerConfig{
+		Durable:       n.RouteConsumer(route),
+		Description:   "fvsweep workers offering " + label,
+		FilterSubject: n.RouteFilter(route),
+		AckPolicy:     jetstream.AckExplicitPolicy,
+		AckWait:       d.AckWait,
+		MaxDeliver:    d.MaxDeliver,
+		MaxAckPending: 100000,
+		MaxWaiting:    4096,
+		Replicas:      d.Replicas,
+	})
+	if err != nil {
+		return fmt.Errorf("consumer %s: %w", n.RouteConsumer(route), err)
 	}
 	return nil
 }

@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"maps"
+	"slices"
 	"strconv"
 	"strings"
 	"sync/atomic"
@@ -42,12 +44,16 @@ const submitChunk = 4096
 // that a large sweep is never held in memory whole.
 func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed bool) (wire.SubmitReply, error) {
 	rep := wire.SubmitReply{Sweep: sp.Name}
+	defer c.forgetPrograms(sp.Name)
 	rec := store.SweepRecord{Name: sp.Name, SpecFile: sp.File, Spec: sp.Source, Studies: sp.Settings()}
 	defer c.bump()
 	// Each checks the whole spec before it gives the first job, so that a
 	// bad spec changes nothing: the sweep is reopened at the first job.
 	var pub *publisher
 	start := func() error {
+		if err := c.ensureRoutes(ctx, sp); err != nil {
+			return err
+		}
 		retried, err := c.reopen(ctx, sp.Name, retryFailed)
 		rep.Retried = retried
 		pub = c.newPublisher(ctx)
@@ -107,6 +113,19 @@ func (c *Coordinator) Submit(ctx context.Context, sp *spec.Plan, retryFailed boo
 	}
 	c.log.Info("sweep submitted", "sweep", sp.Name, "jobs", rep.Jobs, "stored", rep.Stored, "queued", rep.Queued, "retried", rep.Retried)
 	return rep, nil
+}
+
+// ensureRoutes creates the consumers of the outside programs sp names
+// (EnsureRoute), so that their jobs wait in the stream for a worker that
+// offers the program at that version.
+func (c *Coordinator) ensureRoutes(ctx context.Context, sp *spec.Plan) error {
+	for _, name := range slices.Sorted(maps.Keys(sp.Programs)) {
+		m := sp.Programs[name]
+		if err := EnsureRoute(ctx, c.js, c.cfg.Names, wire.Route(m.Name, m.Version), m.Name+"@"+m.Version, c.cfg.Delivery); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // reopen prepares a stored sweep for a submission: a canceled one is
@@ -204,7 +223,7 @@ func (p *publisher) add(j job.Job, t store.Ticket) error {
 		return fmt.Errorf("job %s: %w", j.ID, err)
 	}
 	n := p.c.cfg.Names
-	m := nats.NewMsg(n.JobSubject(j.Sweep, j.ID))
+	m := nats.NewMsg(n.SubjectOf(j))
 	m.Data = data
 	m.Header.Set(wire.TicketHeader, t.Ticket)
 	f, err := p.c.js.PublishMsgAsync(m, jetstream.WithMsgID(j.ID+p.suffix), jetstream.WithExpectStream(n.JobStream()))

@@ -15,7 +15,10 @@ const holdFor = 200 * time.Millisecond
 
 // pull keeps the buffer filled until ctx is done, then closes it. It
 // fetches when at least half of the room is free (or the buffer is empty
-// and a slot is free), as many jobs as there is room for.
+// and a slot is free), as many jobs as there is room for, from the
+// consumers of the solvers the worker offers (one per solver): with one,
+// a long poll of FetchWait; with several, first what each has at once,
+// and when none has any, a long poll of FetchWait/k on each in turn.
 func (w *Worker) pull(ctx context.Context) {
 	defer close(w.queue)
 	for ctx.Err() == nil {
@@ -27,32 +30,75 @@ func (w *Worker) pull(ctx context.Context) {
 			}
 			continue
 		}
-		// The fetch ends with ctx: the server delivers nothing more to a
-		// request whose inbox has gone, so a drain takes no new jobs.
-		fctx, cancel := context.WithTimeout(ctx, w.cfg.FetchWait)
-		batch, err := w.cons.Fetch(n, jetstream.FetchContext(fctx))
-		if err != nil {
-			cancel()
-			w.log.Warn("fetching jobs", "error", err)
+		var avail []jetstream.Consumer
+		for _, r := range w.routes {
+			w.lookup(ctx, r)
+			if r.cons != nil {
+				avail = append(avail, r.cons)
+			}
+		}
+		switch len(avail) {
+		case 0:
 			select {
 			case <-ctx.Done():
-			case <-time.After(w.cfg.RetryDelay):
+			case <-time.After(w.cfg.FetchWait):
 			}
-			continue
-		}
-		for m := range batch.Messages() {
-			w.held.Add(1)
-			w.mu.Lock()
-			w.buffered[m] = time.Now()
-			w.mu.Unlock()
-			w.queue <- m // room() keeps it from blocking
-		}
-		cancel()
-		if err := batch.Error(); err != nil && !errors.Is(err, nats.ErrTimeout) &&
-			!errors.Is(err, context.DeadlineExceeded) && !errors.Is(err, context.Canceled) {
-			w.log.Debug("fetch ended", "error", err)
+		case 1:
+			w.fetch(ctx, avail[0], n, w.cfg.FetchWait)
+		default:
+			got := 0
+			for i := range avail {
+				if got >= n {
+					break
+				}
+				got += w.fetch(ctx, avail[(w.rot+i)%len(avail)], n-got, 0)
+			}
+			if got == 0 {
+				w.fetch(ctx, avail[w.rot%len(avail)], n, w.cfg.FetchWait/time.Duration(len(avail)))
+			}
+			w.rot++
 		}
 	}
+}
+
+// fetch moves up to n jobs of cons into the buffer, waiting up to wait for
+// them (0: only those there now), and returns how many came.
+func (w *Worker) fetch(ctx context.Context, cons jetstream.Consumer, n int, wait time.Duration) int {
+	// The fetch ends with ctx: the server delivers nothing more to a
+	// request whose inbox has gone, so a drain takes no new jobs.
+	var batch jetstream.MessageBatch
+	var err error
+	cancel := func() {}
+	if wait > 0 {
+		var fctx context.Context
+		fctx, cancel = context.WithTimeout(ctx, wait)
+		batch, err = cons.Fetch(n, jetstream.FetchContext(fctx))
+	} else {
+		batch, err = cons.FetchNoWait(n)
+	}
+	defer cancel()
+	if err != nil {
+		w.log.Warn("fetching jobs", "error", err)
+		select {
+		case <-ctx.Done():
+		case <-time.After(w.cfg.RetryDelay):
+		}
+		return 0
+	}
+	got := 0
+	for m := range batch.Messages() {
+		got++
+		w.held.Add(1)
+		w.mu.Lock()
+		w.buffered[m] = time.Now()
+		w.mu.Unlock()
+		w.queue <- m // room() keeps it from blocking
+	}
+	if err := batch.Error(); err != nil && !errors.Is(err, nats.ErrTimeout) &&
+		!errors.Is(err, context.DeadlineExceeded) && !errors.Is(err, context.Canceled) {
+		w.log.Debug("fetch ended", "error", err)
+	}
+	return got
 }
 
 // room is how many jobs to fetch now: 0 while less than half the room

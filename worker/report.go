@@ -64,7 +64,7 @@ func (w *Worker) report(leaving bool) {
 	r := wire.WorkerReport{
 		ID: w.cfg.ID, Host: w.host, Cores: runtime.NumCPU(), Concurrency: w.cfg.Concurrency,
 		Started: w.started, Sent: time.Now(), Every: w.cfg.ReportEvery,
-		Done: st.Done, Failed: st.Failed, Busy: st.Busy, Leaving: leaving,
+		Done: st.Done, Failed: st.Failed, Busy: st.Busy, Leaving: leaving, Solvers: w.programs(),
 	}
 	w.mu.Lock()
 	for _, t := range w.tasks {

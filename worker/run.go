@@ -37,17 +37,21 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		return
 	}
 	jb, err := job.DecodeMessage(m.Data())
-	if err == nil && m.Subject() != w.cfg.Names.JobSubject(jb.Sweep, jb.ID) {
-		err = fmt.Errorf("job %s on subject %s", jb.ID, m.Subject())
-	}
 	if err != nil {
 		w.log.Warn("dropping malformed job", "subject", m.Subject(), "error", err)
 		m.TermWithReason("malformed job")
 		return
 	}
+	// A job this worker cannot run is left for another one, whatever
+	// subject it came on.
 	run, ok := w.cfg.Runners[jb.SolverName()]
-	if !ok {
-		w.refuse(jb, m)
+	if !ok || jb.Version != w.versionOf(jb.SolverName()) {
+		w.refuse(jb, m, ok)
+		return
+	}
+	if m.Subject() != w.cfg.Names.SubjectOf(jb) {
+		w.log.Warn("dropping malformed job", "subject", m.Subject(), "error", fmt.Errorf("job %s on subject %s", jb.ID, m.Subject()))
+		m.TermWithReason("malformed job")
 		return
 	}
 	t := w.begin(jb, m, beat)
@@ -118,17 +122,27 @@ func withinBounds(o job.Outcome) job.Outcome {
 	return o
 }
 
-// refuse gives back a job of a solver this worker does not offer, to come
-// again after RefuseDelay (for another worker, or this one once it offers
-// the solver); the first such job of each solver is logged.
-func (w *Worker) refuse(jb job.Job, m jetstream.Msg) {
-	name := jb.SolverName()
+// refuse gives back a job of a solver this worker does not offer, or of
+// another version of one it offers (offered), to come again after
+// RefuseDelay (for another worker, or this one once it offers the
+// solver); the first such job of each solver and version is logged.
+func (w *Worker) refuse(jb job.Job, m jetstream.Msg, offered bool) {
+	label := jb.SolverLabel()
 	w.mu.Lock()
-	first := !w.refused[name]
-	w.refused[name] = true
+	first := !w.refused[label]
+	w.refused[label] = true
 	w.mu.Unlock()
-	if first {
-		w.log.Warn("this worker does not offer the solver of a job; such jobs are given back", "solver", name, "job", jb.ID, "sweep", jb.Sweep)
+	switch {
+	case !first:
+	case offered:
+		have := jb.SolverName()
+		if v := w.versionOf(have); v != "" {
+			have += "@" + v
+		}
+		w.log.Warn("a job asks for another version of a solver this worker offers; such jobs are left for another worker",
+			"job_solver", label, "offered", have, "job", jb.ID, "sweep", jb.Sweep)
+	default:
+		w.log.Warn("this worker does not offer the solver of a job; such jobs are given back", "solver", label, "job", jb.ID, "sweep", jb.Sweep)
 	}
 	m.NakWithDelay(w.cfg.RefuseDelay)
 }

@@ -4,10 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"maps"
 	"os"
 	"runtime"
-	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -73,7 +71,9 @@ type Worker struct {
 	cfg        Config
 	nc         *nats.Conn
 	js         jetstream.JetStream
-	cons       jetstream.Consumer
+	cons       jetstream.Consumer // fv2d's, which every coordinator makes
+	routes     []*route           // the consumers of the solvers offered
+	rot        int                // the route a long poll waits on next
 	kv         jetstream.KeyValue
 	fields     jetstream.ObjectStore
 	log        hclog.Logger
@@ -182,6 +182,14 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 	}
 	ci := w.cons.CachedInfo()
 	w.maxDeliver = ci.Config.MaxDeliver
+	w.routes = w.offered()
+	for _, r := range w.routes {
+		if r.route == "" {
+			r.cons = w.cons
+		} else {
+			w.lookup(ctx, r)
+		}
+	}
 	if w.cfg.Heartbeat <= 0 {
 		w.cfg.Heartbeat = max(ci.Config.AckWait/3, 10*time.Millisecond)
 	}
@@ -228,8 +236,12 @@ func (w *Worker) Run(ctx context.Context) error {
 	}
 	side := make(chan struct{})
 	go w.background(side)
+	var labels []string
+	for _, r := range w.routes {
+		labels = append(labels, r.label)
+	}
 	w.log.Info("worker started", "concurrency", w.cfg.Concurrency, "prefetch", w.cfg.Prefetch,
-		"max_deliver", w.maxDeliver, "heartbeat", w.cfg.Heartbeat, "solvers", slices.Sorted(maps.Keys(w.cfg.Runners)))
+		"max_deliver", w.maxDeliver, "heartbeat", w.cfg.Heartbeat, "solvers", labels)
 	settled := make(chan struct{})
 	go func() { defer close(settled); w.settle() }()
 	for range w.cfg.Concurrency {

@@ -28,6 +28,9 @@ type bench struct {
 	nc    *nats.Conn
 	js    jetstream.JetStream
 	logs  *syncBuffer
+
+	maxDeliver int
+	routes     map[string]bool // solvers whose consumers exist
 }
 
 // maxDeliver is the delivery limit of the test's worker consumer.
@@ -61,10 +64,8 @@ func newBench(t *testing.T, results bool) *bench {
 		Retention: jetstream.WorkQueuePolicy}); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := js.CreateConsumer(ctx, n.JobStream(), jetstream.ConsumerConfig{Durable: n.WorkerConsumer(),
-		AckPolicy: jetstream.AckExplicitPolicy, AckWait: 5 * time.Second, MaxDeliver: maxDeliver}); err != nil {
-		t.Fatal(err)
-	}
+	b.maxDeliver = maxDeliver
+	b.route("", "")
 	if _, err := js.CreateKeyValue(ctx, jetstream.KeyValueConfig{Bucket: n.CancelBucket()}); err != nil {
 		t.Fatal(err)
 	}
@@ -75,6 +76,18 @@ func newBench(t *testing.T, results bool) *bench {
 		b.resultStream()
 	}
 	return b
+}
+
+// route creates the consumer of the jobs of solver at version, as the
+// coordinator does (fv2d's for "").
+func (b *bench) route(solver, version string) {
+	b.t.Helper()
+	r := wire.Route(solver, version)
+	if _, err := b.js.CreateConsumer(context.Background(), b.names.JobStream(), jetstream.ConsumerConfig{
+		Durable: b.names.RouteConsumer(r), FilterSubject: b.names.RouteFilter(r),
+		AckPolicy: jetstream.AckExplicitPolicy, AckWait: 5 * time.Second, MaxDeliver: b.maxDeliver}); err != nil {
+		b.t.Fatal(err)
+	}
 }
 
 // resultStream creates the results stream.
@@ -91,6 +104,20 @@ func (b *bench) resultStream() {
 func (b *bench) start(runners map[string]worker.Runner) *worker.Worker {
 	b.t.Helper()
 	log := hclog.New(&hclog.LoggerOptions{Level: hclog.Debug, Output: b.logs})
+	for name, r := range runners {
+		if name == job.BuiltinSolver || b.routes[name] {
+			continue
+		}
+		version := ""
+		if v, ok := r.(worker.Versioned); ok {
+			version = v.Version()
+		}
+		b.route(name, version)
+		if b.routes == nil {
+			b.routes = map[string]bool{}
+		}
+		b.routes[name] = true
+	}
 	ctx, cancel := context.WithCancel(context.Background())
 	w, err := worker.New(ctx, b.nc, worker.Config{Names: b.names, ID: "test-worker", Concurrency: 1, Runners: runners,
 		RetryDelay: 20 * time.Millisecond, RefuseDelay: 50 * time.Millisecond, FetchWait: 100 * time.Millisecond,
@@ -104,19 +131,33 @@ func (b *bench) start(runners map[string]worker.Runner) *worker.Worker {
 	return w
 }
 
-// submit publishes a job of the named solver ("" for the built-in one).
+// submit publishes a job of the named solver ("" for the built-in one)
+// on its route, making the route's consumer for a solver seen first.
 func (b *bench) submit(name, solver string) job.Job {
 	b.t.Helper()
 	j := job.Job{ID: job.NewID("test " + name), Sweep: "s", Case: "test", Solver: solver,
 		Params: map[string]string{"name": name}, Cost: 1}
+	if solver != "" && !b.routes[solver] {
+		b.route(solver, "")
+		if b.routes == nil {
+			b.routes = map[string]bool{}
+		}
+		b.routes[solver] = true
+	}
+	b.publish(j, b.names.SubjectOf(j))
+	return j
+}
+
+// publish publishes j on subject.
+func (b *bench) publish(j job.Job, subject string) {
+	b.t.Helper()
 	data, err := job.Encode(j)
 	if err != nil {
 		b.t.Fatal(err)
 	}
-	if _, err := b.js.Publish(context.Background(), b.names.JobSubject(j.Sweep, j.ID), data); err != nil {
+	if _, err := b.js.Publish(context.Background(), subject, data); err != nil {
 		b.t.Fatal(err)
 	}
-	return j
 }
 
 // outcomes fetches n outcomes from the results stream, decoded as the
@@ -265,27 +306,39 @@ func TestPermanentErrorFailsAtOnce(t *testing.T) {
 	b.eventually("the job to be acked", func() bool { return b.queued() == 0 })
 }
 
-// A job of a solver the worker does not offer is not run, not answered, and
-// given back each time it comes; the worker says so once.
+// A job of a solver the worker does not offer is never delivered to it: it
+// waits on its own route. One that comes on the route of a solver the
+// worker offers (a misrouted message) is not run, not answered, and given
+// back each time it comes; the worker says so once.
 func TestUnknownSolverNotRun(t *testing.T) {
 	b := newBench(t, true)
 	mine := &fake{}
 	b.start(map[string]worker.Runner{"mine": mine})
-	b.submit("a", "theirs")
-	cons, err := b.js.Consumer(context.Background(), b.names.JobStream(), b.names.WorkerConsumer())
+	theirs := b.submit("a", "theirs")
+	time.Sleep(300 * time.Millisecond)
+	cons, err := b.js.Consumer(context.Background(), b.names.JobStream(), b.names.RouteConsumer(wire.JobRoute(theirs)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if info, err := cons.Info(context.Background()); err != nil || info.Delivered.Consumer != 0 || info.NumPending != 1 {
+		t.Fatalf("the other solver's job: %+v, %v; want it pending, never delivered", info, err)
+	}
+	misrouted := job.Job{ID: job.NewID("test b"), Sweep: "s", Case: "test", Solver: "theirs", Params: map[string]string{"name": "b"}, Cost: 1}
+	b.publish(misrouted, b.names.RouteSubject("s", wire.Route("mine", ""), misrouted.ID))
+	mineCons, err := b.js.Consumer(context.Background(), b.names.JobStream(), b.names.RouteConsumer(wire.Route("mine", "")))
 	if err != nil {
 		t.Fatal(err)
 	}
 	b.eventually("the job to be given back", func() bool {
-		info, err := cons.Info(context.Background())
+		info, err := mineCons.Info(context.Background())
 		return err == nil && info.NumRedelivered >= 1 && info.NumAckPending == 0
 	})
 	time.Sleep(200 * time.Millisecond) // the last deliveries
 	if n := len(mine.calls()); n != 0 {
 		t.Fatalf("a job of another solver was run %d times", n)
 	}
-	if q := b.queued(); q != 1 {
-		t.Fatalf("%d jobs queued, want the refused one", q)
+	if q := b.queued(); q != 2 {
+		t.Fatalf("%d jobs queued, want the waiting and the refused one", q)
 	}
 	s, err := b.js.Stream(context.Background(), b.names.ResultStream())
 	if err != nil {
@@ -296,6 +349,50 @@ func TestUnknownSolverNotRun(t *testing.T) {
 	}
 	if n := strings.Count(b.logs.String(), "does not offer the solver"); n != 1 {
 		t.Fatalf("refusal logged %d times, want once:\n%s", n, b.logs.String())
+	}
+}
+
+// versioned is a fake runner of one version of a program.
+type versioned struct {
+	*fake
+	version string
+}
+
+func (v versioned) Version() string { return v.version }
+
+// A worker pulls the jobs of the version of a program it offers; a job of
+// another version is not delivered to it, and one that comes on its route
+// anyway is refused with a log line naming both versions and left for
+// another worker; the worker reports the program it offers.
+func TestOtherVersionRefused(t *testing.T) {
+	b := newBench(t, true)
+	heron := versioned{&fake{}, "0.4.1"}
+	w := b.start(map[string]worker.Runner{"heron": heron})
+	mine := job.Job{ID: job.NewID("heron a"), Sweep: "s", Case: "test", Solver: "heron", Version: "0.4.1", Params: map[string]string{"name": "a"}, Cost: 1}
+	b.publish(mine, b.names.SubjectOf(mine))
+	if o := b.outcomes(1)[mine.ID]; o.Status != job.StatusDone || o.Worker != w.ID() {
+		t.Fatalf("outcome of the offered version: %+v", o)
+	}
+	other := mine
+	other.ID, other.Version = job.NewID("heron b"), "0.5"
+	b.route("heron", "0.5")
+	b.publish(other, b.names.SubjectOf(other))
+	forged := other
+	forged.ID = job.NewID("heron c")
+	b.publish(forged, b.names.RouteSubject("s", wire.Route("heron", "0.4.1"), forged.ID))
+	b.eventually("the refusal", func() bool {
+		return strings.Contains(b.logs.String(), "another version of a solver this worker offers")
+	})
+	time.Sleep(200 * time.Millisecond)
+	if got := heron.calls(); len(got) != 1 || got[0] != mine.ID {
+		t.Fatalf("runs %v, want only the offered version's job", got)
+	}
+	logs := b.logs.String()
+	if !strings.Contains(logs, "job_solver=heron@0.5") || !strings.Contains(logs, "offered=heron@0.4.1") {
+		t.Fatalf("the refusal does not name both versions:\n%s", logs)
+	}
+	if q := b.queued(); q != 2 {
+		t.Fatalf("%d jobs queued, want the two of version 0.5", q)
 	}
 }
 

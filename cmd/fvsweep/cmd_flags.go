@@ -20,6 +20,7 @@ import (
 
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/datadir"
+	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
 )
@@ -34,6 +35,8 @@ type common struct {
 	// lim are the spec limits of the commands that take --job-limit and
 	// --mem-limit (zero: the defaults).
 	lim spec.Limits
+	// progs are the outside programs a spec may name (--solver FILE).
+	progs []*manifest.Manifest
 
 	// Credentials and TLS (client.DialOptions).
 	token, user, creds, nkey string
@@ -209,14 +212,32 @@ func (c *common) specLimits() spec.Limits {
 	return c.lim
 }
 
-// loadSpec reads and checks a spec file against c's limits.
+// loadSpec reads and checks a spec file against c's limits and programs.
 func (c *common) loadSpec(path string) (*spec.Plan, error) {
-	return spec.Load(path, c.specLimits())
+	return spec.Load(path, c.specLimits(), c.progs...)
 }
 
-// parseSpec is the coordinator's parser of submitted specs, with c's limits.
-func (c *common) parseSpec(file, src string) (*spec.Plan, error) {
-	return spec.LoadSource(file, []byte(src), c.specLimits())
+// maxSubmittedSolvers bounds the manifests one submission may carry.
+const maxSubmittedSolvers = 64
+
+// parseSpec is the coordinator's parser of submitted specs, with c's
+// limits and the manifests sent with the spec.
+func (c *common) parseSpec(file, src string, solvers []wire.ManifestText) (*spec.Plan, error) {
+	if len(solvers) > maxSubmittedSolvers {
+		return nil, fmt.Errorf("%d solver manifests: at most %d", len(solvers), maxSubmittedSolvers)
+	}
+	progs := make([]*manifest.Manifest, 0, len(solvers))
+	for _, m := range solvers {
+		if len(m.Source) > spec.MaxManifestBytes {
+			return nil, fmt.Errorf("manifest %s: larger than %d bytes", m.File, spec.MaxManifestBytes)
+		}
+		pm, err := spec.ParseManifest(m.File, []byte(m.Source))
+		if err != nil {
+			return nil, err
+		}
+		progs = append(progs, pm)
+	}
+	return spec.LoadSource(file, []byte(src), c.specLimits(), progs...)
 }
 
 // parseStoredSpec parses a spec already stored, to read its study settings:

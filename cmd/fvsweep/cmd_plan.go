@@ -8,7 +8,7 @@ import (
 	"os"
 )
 
-const planUsage = `usage: fvsweep plan SPEC [--json] [--job-limit N] [--mem-limit SIZE]
+const planUsage = `usage: fvsweep plan SPEC [--json] [--solver FILE]... [--job-limit N] [--mem-limit SIZE]
 
 Expands the sweep spec SPEC without running anything: per study the case,
 the fixed values, the axes, the grid sequence, the number of runs and their
@@ -17,7 +17,7 @@ Runs shared by two studies are counted once in the total.
 
 flags:
   --json             print the plan as JSON
-` + limitUsage
+` + solverUsage + limitUsage
 
 func init() {
 	register(command{name: "plan", summary: "show what a sweep spec expands to, without running it",
@@ -31,6 +31,8 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	asJSON := fs.Bool("json", false, "")
 	var lf limitFlags
 	lf.register(fs)
+	var sv solverFlags
+	sv.register(fs)
 	bad := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "fvsweep plan: "+format+"\n", a...)
 		return 2
@@ -55,7 +57,12 @@ func runPlan(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return bad("%v", err)
 	}
-	pl, err := spec.Load(files[0], lim)
+	progs, _, err := sv.load()
+	if err != nil {
+		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
+		return 1
+	}
+	pl, err := spec.Load(files[0], lim, progs...)
 	if err != nil {
 		fmt.Fprintf(stderr, "fvsweep plan: %v\n", err)
 		return 1

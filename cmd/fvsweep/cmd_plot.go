@@ -247,30 +247,9 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		return nil, nil, err
 	}
 	jb := row.Job
-	var raw []byte
-	if file != "" {
-		if raw, err = os.ReadFile(file); err != nil {
-			return nil, nil, fmt.Errorf("--snapshot: %w", err)
-		}
-	} else {
-		out := row.Outcome
-		switch {
-		case out == nil:
-			return nil, nil, fmt.Errorf("job %s has no result yet", jb.ID)
-		case out.Snapshot == "":
-			return nil, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", jb.ID)
-		}
-		if raw, err = fetch(out.Snapshot); err != nil {
-			return nil, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
-		}
-		file = out.Snapshot
-	}
-	hdr, data, err := field.Decode(raw)
+	hdr, data, err := snapshotOf(row, file, fetch)
 	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w", file, err)
-	}
-	if hdr.JobID != jb.ID {
-		return nil, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, jb.ID)
+		return nil, nil, err
 	}
 	var notes []string
 	prob, _ := problemOf(jb)
@@ -343,6 +322,39 @@ func (sd *sweepData) differingParams(jb job.Job) string {
 		parts[i] = k + "=" + jb.Params[k]
 	}
 	return strings.Join(parts, " ")
+}
+
+// snapshotOf reads the snapshot of the job of row: the file when one is
+// given (--snapshot), else the stored one through fetch.
+func snapshotOf(row wire.Row, file string, fetch func(ref string) ([]byte, error)) (field.Header, [][]float32, error) {
+	jb := row.Job
+	var raw []byte
+	var err error
+	if file != "" {
+		if raw, err = os.ReadFile(file); err != nil {
+			return field.Header{}, nil, fmt.Errorf("--snapshot: %w", err)
+		}
+	} else {
+		out := row.Outcome
+		switch {
+		case out == nil:
+			return field.Header{}, nil, fmt.Errorf("job %s has no result yet", jb.ID)
+		case out.Snapshot == "":
+			return field.Header{}, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", jb.ID)
+		}
+		if raw, err = fetch(out.Snapshot); err != nil {
+			return field.Header{}, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
+		}
+		file = out.Snapshot
+	}
+	hdr, data, err := field.Decode(raw)
+	if err != nil {
+		return hdr, nil, fmt.Errorf("%s: %w", file, err)
+	}
+	if hdr.JobID != jb.ID {
+		return hdr, nil, fmt.Errorf("%s: a snapshot of job %s, not of %s", file, hdr.JobID, jb.ID)
+	}
+	return hdr, data, nil
 }
 
 // writeOrderCSV writes the order map as CSV to the file out, or to stdout

@@ -21,7 +21,7 @@ import (
 	"fvsweep/worker"
 )
 
-const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--data DIR] [--http HOST:PORT]
+const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--solver FILE]... [--data DIR] [--http HOST:PORT]
 
 Runs a sweep on this machine in one go: an embedded NATS server, the
 coordinator and N local workers. It queues every job of SPEC that has no
@@ -42,6 +42,7 @@ flags:
   --listen HOST:PORT client address of the embedded server (default 127.0.0.1, a free port)
   --retry-failed     run again the jobs whose stored outcome is failed
   --format F         format of the tables at the end: text, markdown, csv, json or none
+` + solverUsage + `                     (the local workers offer it too)
 ` + limitUsage + webUsage + serverUsage + commonUsage
 
 func init() {
@@ -63,6 +64,8 @@ func runRun(args []string) int {
 	format := fs.String("format", "text", "")
 	var lf limitFlags
 	lf.register(fs)
+	var sv solverFlags
+	sv.register(fs)
 	pos, code, done := parseCommand("run", runUsage, fs, args, func(n int) bool { return n == 1 })
 	if done {
 		return code
@@ -85,7 +88,16 @@ func runRun(args []string) int {
 	if err != nil {
 		return usageErr("run", "%v", err)
 	}
+	progs, _, err := sv.load()
+	if err != nil {
+		return fail("run: %v", err)
+	}
+	c.progs = progs
 	spec, err := c.loadSpec(pos[0])
+	if err != nil {
+		return fail("run: %v", err)
+	}
+	offer, err := runners(progs)
 	if err != nil {
 		return fail("run: %v", err)
 	}
@@ -122,7 +134,7 @@ func runRun(args []string) int {
 			return fail("run: %v", err)
 		}
 		defer nc.Close()
-		w, err := worker.New(wctx, nc, worker.Config{Concurrency: *conc, Log: inner.Named("worker")})
+		w, err := worker.New(wctx, nc, worker.Config{Concurrency: *conc, Runners: offer, Log: inner.Named("worker")})
 		if err != nil {
 			return fail("run: %v", err)
 		}

@@ -7,7 +7,9 @@ import (
 	"fmt"
 	"fvsweep/coordinator/web"
 	"io"
+	"maps"
 	"os"
+	"slices"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -110,6 +112,12 @@ func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 			state, s.Updated.Local().Format("2006-01-02 15:04"))
 	}
 	tw.Flush()
+	for _, s := range rep.Sweeps {
+		for _, label := range slices.Sorted(maps.Keys(s.Waiting)) {
+			fmt.Fprintf(w, "%s: %d queued %s waiting for a worker with %s (fvsweep worker --solver MANIFEST)\n",
+				s.Sweep, s.Waiting[label], plural(s.Waiting[label], "job"), label)
+		}
+	}
 	if !live {
 		fmt.Fprintln(w, "\nno coordinator running: read from the store")
 		return
@@ -133,6 +141,11 @@ func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 			100*r.Busy, strings.Join(cur, " "))
 	}
 	tw.Flush()
+	for _, r := range rep.Workers {
+		if len(r.Solvers) > 0 {
+			fmt.Fprintf(w, "%s offers fv2d, %s\n", r.ID, strings.Join(r.Solvers, ", "))
+		}
+	}
 }
 
 // plural returns noun, with an "s" unless n is 1.

@@ -7,16 +7,18 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const submitUsage = `usage: fvsweep submit SPEC [--retry-failed]
+const submitUsage = `usage: fvsweep submit SPEC [--retry-failed] [--solver FILE]...
 
 Sends the sweep spec SPEC to the running coordinator (found through
 DIR/coordinator.url or --nats), which queues every job that has no stored
 outcome, largest first. The spec is checked here first. Submitting the same
-(or an edited) spec again queues only the jobs not yet stored.
+(or an edited) spec again queues only the jobs not yet stored. The manifests
+of --solver go with the spec: the coordinator checks the spec with them, and
+the jobs of each program wait for a worker that offers it.
 
 flags:
   --retry-failed     also run again the jobs whose stored outcome is failed
-` + limitUsage + commonUsage
+` + solverUsage + limitUsage + commonUsage
 
 func init() {
 	register(command{name: "submit", summary: "queue a sweep spec on the running coordinator", run: runSubmit})
@@ -29,6 +31,8 @@ func runSubmit(args []string) int {
 	retry := fs.Bool("retry-failed", false, "")
 	var lf limitFlags
 	lf.register(fs)
+	var sv solverFlags
+	sv.register(fs)
 	pos, code, done := parseCommand("submit", submitUsage, fs, args, func(n int) bool { return n == 1 })
 	if done {
 		return code
@@ -37,6 +41,11 @@ func runSubmit(args []string) int {
 	if c.lim, err = lf.limits(); err != nil {
 		return usageErr("submit", "%v", err)
 	}
+	progs, texts, err := sv.load()
+	if err != nil {
+		return fail("submit: %v", err)
+	}
+	c.progs = progs
 	spec, err := c.loadSpec(pos[0])
 	if err != nil {
 		return fail("submit: %v", err)
@@ -49,7 +58,7 @@ func runSubmit(args []string) int {
 	if !src.Live() {
 		return fail("submit: no coordinator is running for %s: start 'fvsweep serve' (or use 'fvsweep run %s')", c.data, pos[0])
 	}
-	rep, err := src.Client.Submit(context.Background(), wire.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry})
+	rep, err := src.Client.Submit(context.Background(), wire.SubmitRequest{File: spec.File, Source: spec.Source, RetryFailed: *retry, Solvers: texts})
 	if err != nil {
 		return fail("submit: %v", err)
 	}

@@ -10,18 +10,21 @@ import (
 	"fvsweep/worker"
 )
 
-const workerUsage = `usage: fvsweep worker --nats URL [--concurrency N]
+const workerUsage = `usage: fvsweep worker --nats URL [--concurrency N] [--solver FILE]...
 
 Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
 serve'), N at a time, and sends back their outcomes. A worker may join or
 leave at any time. The first SIGINT or SIGTERM drains it: it takes no new
 jobs and finishes the running ones; a second one stops those too and returns
-them to the queue.
+them to the queue. Every worker runs fvsweep's own solver fv2d; --solver
+adds an outside program (its jobs come only to workers that offer it at the
+version the job names). A program that is not found or not executable here
+is refused at start.
 
 flags:
   --concurrency N    jobs run at once, at most 256 (default: the number of cores)
   --id NAME          worker name in status and results (default host-pid-random)
-` + commonUsage
+` + solverUsage + commonUsage
 
 func init() {
 	register(command{name: "worker", summary: "run jobs from a coordinator's queue", run: runWorker})
@@ -33,6 +36,8 @@ func runWorker(args []string) int {
 	c.register(fs)
 	conc := fs.Int("concurrency", runtime.NumCPU(), "")
 	id := fs.String("id", "", "")
+	var sv solverFlags
+	sv.register(fs)
 	if _, code, done := parseCommand("worker", workerUsage, fs, args, func(n int) bool { return n == 0 }); done {
 		return code
 	}
@@ -42,6 +47,14 @@ func runWorker(args []string) int {
 	log, err := c.logger("fvsweep")
 	if err != nil {
 		return usageErr("worker", "%v", err)
+	}
+	progs, _, err := sv.load()
+	if err != nil {
+		return fail("worker: %v", err)
+	}
+	offer, err := runners(progs)
+	if err != nil {
+		return fail("worker: %v", err)
 	}
 	url := c.coordinatorURL()
 	if url == "" {
@@ -60,7 +73,7 @@ func runWorker(args []string) int {
 		}
 	})
 	defer release()
-	w, err = worker.New(ctx, nc, worker.Config{ID: *id, Concurrency: *conc, Log: log.Named("worker")})
+	w, err = worker.New(ctx, nc, worker.Config{ID: *id, Concurrency: *conc, Runners: offer, Log: log.Named("worker")})
 	if err != nil {
 		return fail("worker: %v", err)
 	}

@@ -10,6 +10,7 @@ import (
 
 	"github.com/nats-io/nats.go"
 
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/wire"
 )
 
@@ -129,10 +130,11 @@ func (c *Client) Rows(ctx context.Context, name string) ([]wire.Row, error) {
 }
 
 // RowsSpec is Rows and the sweep's spec as last submitted (file name and
-// TOML source), for study settings such as design orders.
-func (c *Client) RowsSpec(ctx context.Context, name string) (rows []wire.Row, specFile, spec string, err error) {
+// TOML source) with its study settings, such as design orders (nil from a
+// coordinator that does not send them).
+func (c *Client) RowsSpec(ctx context.Context, name string) (rows []wire.Row, specFile, spec string, studies []job.StudySettings, err error) {
 	rows, first, err := c.rows(ctx, name)
-	return rows, first.SpecFile, first.Spec, err
+	return rows, first.SpecFile, first.Spec, first.Studies, err
 }
 
 func (c *Client) rows(ctx context.Context, name string) ([]wire.Row, wire.RowsReply, error) {

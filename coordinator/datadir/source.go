@@ -96,7 +96,7 @@ type Sweep struct {
 	SpecFile string // the spec's file name
 	Spec     string // the spec's TOML source
 	// Studies are the resolved study settings the store keeps; nil for a
-	// record written before it kept them, and from a live coordinator.
+	// record written before it kept them.
 	Studies []job.StudySettings
 }
 
@@ -105,7 +105,7 @@ func (s *Source) Sweep(ctx context.Context, name string) (*Sweep, error) {
 	sw := &Sweep{Name: name}
 	var err error
 	if s.Client != nil {
-		sw.Rows, sw.SpecFile, sw.Spec, err = s.Client.RowsSpec(ctx, name)
+		sw.Rows, sw.SpecFile, sw.Spec, sw.Studies, err = s.Client.RowsSpec(ctx, name)
 		return sw, err
 	}
 	rec, err := s.db.Sweep(name)

@@ -28,8 +28,8 @@ import (
 //   - submitter: the API verbs submit, cancel and forget, and all a reader
 //     may.
 //   - reader: the API verbs ping, status and rows, and reading snapshots.
-//   - worker: fetch from the workers' consumer and ack, nak or extend its
-//     deliveries; publish outcomes, reports and snapshot objects; watch the
+//   - worker: fetch from the workers' consumers (one per solver) and ack,
+//     nak or extend its deliveries; publish outcomes, reports and snapshot objects; watch the
 //     cancel marks. No purge, no delete, no stream or consumer changes, no
 //     API verb, no inbox but its own.
 
@@ -119,15 +119,17 @@ func readRights(n wire.Names) []string {
 	)
 }
 
-// workerRights: the workers' consumer, the cancel marks' watch, snapshot
-// objects, outcomes and reports.
+// workerRights: the workers' consumers (every consumer of the jobs stream
+// is one: fv2d's and one per outside program and version, which the
+// coordinator creates), the cancel marks' watch, snapshot objects,
+// outcomes and reports.
 func workerRights(n wire.Names) []string {
-	jobs, cons := n.JobStream(), n.WorkerConsumer()
+	jobs := n.JobStream()
 	kv, obj := kvStream(n), objStream(n)
 	return []string{
-		"$JS.API.CONSUMER.INFO." + jobs + "." + cons,
-		"$JS.API.CONSUMER.MSG.NEXT." + jobs + "." + cons,
-		"$JS.ACK." + jobs + "." + cons + ".>",
+		"$JS.API.CONSUMER.INFO." + jobs + ".*",
+		"$JS.API.CONSUMER.MSG.NEXT." + jobs + ".*",
+		"$JS.ACK." + jobs + ".*.>",
 		"$JS.API.STREAM.INFO." + kv,
 		"$JS.API.CONSUMER.CREATE." + kv + ".*.$KV." + n.CancelBucket() + ".>",
 		// A watch deletes its own consumer when it stops; the cancel
@@ -151,7 +153,7 @@ func prefix(n wire.Names) string {
 }
 
 func maxDeliveriesSubject(n wire.Names) string {
-	return fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.%s", n.JobStream(), n.WorkerConsumer())
+	return fmt.Sprintf("$JS.EVENT.ADVISORY.CONSUMER.MAX_DELIVERIES.%s.*", n.JobStream())
 }
 
 // secretNames are, per role, the environment variable a cluster node

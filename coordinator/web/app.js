@@ -101,6 +101,10 @@ function drawSweeps(list) {
         " · ", ...n("done", "done"), " · ", ...n("failed", "failed"), " · ", ...n("running", "running"),
         " · ", ...n("queued", left)),
       p ? pace(s, p) : el("div", { class: "pace quiet" }, "submitted " + new Date(s.created).toLocaleString()));
+    // Jobs of an outside program that no live worker offers wait for one.
+    for (const [label, k] of Object.entries(s.waiting || {})) {
+      row.querySelector(".counts").append(" · ", el("b", { class: "n-waiting" }, k), ` waiting for a worker with ${label}`);
+    }
     const choose = () => { chosen = s.sweep; location.hash = encodeURIComponent(s.sweep); lastTablesHTML = null; poll(); };
     row.addEventListener("click", choose);
     row.addEventListener("keydown", e => { if (e.key === "Enter" || e.key === " ") choose(); });

@@ -32,6 +32,10 @@ func (e *Encoder) Encode(j *Job) []byte {
 		dst = append(dst, `,"solver":`...)
 		dst = appendString(dst, j.Solver)
 	}
+	if j.Version != "" {
+		dst = append(dst, `,"version":`...)
+		dst = appendString(dst, j.Version)
+	}
 	dst = append(dst, `,"params":`...)
 	if j.Params == nil {
 		dst = append(dst, "null"...)

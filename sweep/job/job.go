@@ -20,12 +20,13 @@ type Job struct {
 	Sweep    string            `json:"sweep"`  // sweep name
 	Study    int               `json:"study"`  // index of the [[study]] in the spec
 	Case     string            `json:"case"`
-	Solver   string            `json:"solver,omitempty"` // the solver that runs it; "" is BuiltinSolver
-	Params   map[string]string `json:"params"`           // every parameter, canonical values
-	Refine   string            `json:"refine"`           // name of the refinement axis ("nx"), "" if none
-	Group    string            `json:"group"`            // identity of all params except the refinement axis
-	Cost     float64           `json:"cost"`             // estimated cells x steps
-	Snapshot bool              `json:"snapshot"`         // store the final field
+	Solver   string            `json:"solver,omitempty"`  // the solver that runs it; "" is BuiltinSolver
+	Version  string            `json:"version,omitempty"` // the version of an outside solver; "" for fv2d
+	Params   map[string]string `json:"params"`            // every parameter, canonical values
+	Refine   string            `json:"refine"`            // name of the refinement axis ("nx"), "" if none
+	Group    string            `json:"group"`             // identity of all params except the refinement axis
+	Cost     float64           `json:"cost"`              // estimated cells x steps
+	Snapshot bool              `json:"snapshot"`          // store the final field
 }
 
 // SolverName is the name of the solver that runs j: j.Solver, or
@@ -35,6 +36,15 @@ func (j Job) SolverName() string {
 		return BuiltinSolver
 	}
 	return j.Solver
+}
+
+// SolverLabel is the solver of j as people read it: "fv2d", or an outside
+// program's "NAME@VERSION".
+func (j Job) SolverLabel() string {
+	if j.Version == "" {
+		return j.SolverName()
+	}
+	return j.Solver + "@" + j.Version
 }
 
 // NewID is the deterministic identity of a run: the first 16 bytes of the

@@ -55,6 +55,7 @@ func (d *RecordDecoder) intern(j *Job) {
 	j.Sweep = d.str(j.Sweep)
 	j.Case = d.str(j.Case)
 	j.Solver = d.str(j.Solver)
+	j.Version = d.str(j.Version)
 	j.Refine = d.str(j.Refine)
 	j.Group = d.str(j.Group)
 	if len(j.Params) == 0 {
@@ -80,6 +81,7 @@ func (d *RecordDecoder) fast(data []byte) (Job, bool) {
 		p.lit(`,"study":`) && p.int(&j.Study) &&
 		p.lit(`,"case":`) && p.str(&j.Case) &&
 		(!p.lit(`,"solver":`) || p.str(&j.Solver) && j.Solver != "") &&
+		(!p.lit(`,"version":`) || p.str(&j.Version) && j.Version != "") &&
 		p.lit(`,"params":`) && p.params(&j.Params) &&
 		p.lit(`,"refine":`) && p.str(&j.Refine) &&
 		p.lit(`,"group":`) && p.str(&j.Group) &&

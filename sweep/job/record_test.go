@@ -25,7 +25,7 @@ func sampleJobs(name string, n int) []Job {
 			Params: p, Refine: "nx", Group: "limiter=" + p["limiter"], Cost: float64(i) * 4096,
 		}
 		if i%3 == 2 {
-			jobs[i].Solver = "heron"
+			jobs[i].Solver, jobs[i].Version = "heron", "0.4."+strconv.Itoa(i%2)
 		}
 	}
 	return jobs
@@ -41,7 +41,7 @@ func TestEncoderMatchesMarshal(t *testing.T) {
 	var e Encoder
 	for i, s := range strs {
 		j := sampleJobs("sw", 3)[i%3]
-		j.Sweep, j.Case, j.Group, j.Solver = s, s+"c", "g"+s, s
+		j.Sweep, j.Case, j.Group, j.Solver, j.Version = s, s+"c", "g"+s, s, "v"+s
 		j.Params[s] = s
 		j.Study = i * 1000
 		j.Snapshot = i%2 == 0

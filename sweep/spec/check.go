@@ -96,7 +96,15 @@ func checkRuns(file string, st *Study, lim Limits) ([]fv2d.Cost, error) {
 	costs := make([]fv2d.Cost, 0, st.Count())
 	var first fv2d.Values
 	err := st.each(func(kv map[string]string) error {
-		v, err := fv2d.Resolve(st.Case, kv)
+		var v fv2d.Values
+		var err error
+		if st.perRun() {
+			var r resolved
+			r, err = st.resolveRun(kv)
+			v = r.values
+		} else {
+			v, err = fv2d.Resolve(st.Case, kv)
+		}
 		if err != nil {
 			return &Error{File: file, Line: st.Line, Study: st.Index, Msg: fmt.Sprintf("%v (at %s)", err, st.point(kv))}
 		}
@@ -159,14 +167,12 @@ func plan(s *Spec, costs [][]fv2d.Cost) (*Plan, error) {
 		if err != nil {
 			return nil, fmt.Errorf("spec %s: %w", s.File, err)
 		}
-		nx, _ := slices.BinarySearch(t.keys, "nx")
-		ny, _ := slices.BinarySearch(t.keys, "ny")
 		grids := map[string]bool{}
 		err = t.walk(func(k int, idx []int) error {
 			w := costs[i][k].Work()
 			sp.Runs++
 			sp.Cost += w
-			if g := t.value(nx, idx) + "x" + t.value(ny, idx); !grids[g] {
+			if g := t.get("nx", idx) + "x" + t.get("ny", idx); !grids[g] {
 				grids[g] = true
 				sp.Grids = append(sp.Grids, g)
 			}

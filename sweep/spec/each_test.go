@@ -4,12 +4,14 @@ import (
 	"errors"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
 
 	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/outside"
 )
 
 // resolveAll is the expansion by definition: every run resolved by
@@ -23,7 +25,10 @@ func resolveAll(t *testing.T, s *Spec) []job.Job {
 	for i := range s.Studies {
 		st := &s.Studies[i]
 		err := st.each(func(kv map[string]string) error {
-			v, err := fv2d.Resolve(st.Case, kv)
+			if name := kv["solver"]; name != "" && name != job.BuiltinSolver {
+				return resolveProgram(s, st, kv, seen, &jobs)
+			}
+			v, err := fv2d.Resolve(st.Case, fv2dOnly(st.Case, kv))
 			if err != nil {
 				return err
 			}
@@ -60,13 +65,19 @@ func TestEachMatchesResolve(t *testing.T) {
 		"tube": mustLoad(t, tubeSpec, DefaultLimits()),
 	}
 	files, _ := filepath.Glob("../../configs/*.toml")
+	progs := exampleManifests(t)
 	for _, f := range files {
-		s, err := Load(f, DefaultLimits())
+		s, err := Load(f, DefaultLimits(), progs...)
 		if err != nil {
 			t.Fatal(err)
 		}
 		specs[f] = s
 	}
+	side, err := LoadSource("side.toml", []byte(sideBySide), DefaultLimits(), heron(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	specs["side"] = side
 	for name, s := range specs {
 		want := resolveAll(t, s.Spec)
 		got, err := s.Expand()
@@ -221,6 +232,50 @@ func TestExpandPresetAxis(t *testing.T) {
 
 // groupOf is Job.Group computed from resolved values, the slow way: the
 // case and every "k=v" but the study's grid parameters, keys sorted.
+// fv2dOnly keeps the settings of kv that fv2d declares for case c.
+func fv2dOnly(c string, kv map[string]string) map[string]string {
+	cs, _ := fv2d.LookupCase(c)
+	out := map[string]string{}
+	for _, p := range fv2d.ParamsOf(cs) {
+		if v, ok := kv[p.Name]; ok {
+			out[p.Name] = v
+		}
+	}
+	return out
+}
+
+// resolveProgram is resolveAll for a run of an outside program: the
+// settings it declares resolved by outside.Resolve, the ID and group from
+// its canonical text.
+func resolveProgram(s *Spec, st *Study, kv map[string]string, seen map[string]int, jobs *[]job.Job) error {
+	m := s.Programs[kv["solver"]]
+	cs, _ := fv2d.LookupCase(st.Case)
+	own := map[string]string{}
+	for k, v := range kv {
+		if _, ok := m.Param(k); ok || slices.Contains(outside.ProblemParams(cs), k) {
+			own[k] = v
+		}
+	}
+	r, err := outside.Resolve(m, st.Case, own)
+	if err != nil {
+		return err
+	}
+	var group []string
+	for _, w := range strings.Fields(r.Canonical()) {
+		if k, _, _ := strings.Cut(w, "="); !st.isGrid(k) {
+			group = append(group, w)
+		}
+	}
+	if at, dup := seen[r.ID()]; dup {
+		(*jobs)[at].Snapshot = (*jobs)[at].Snapshot || st.Snapshot
+		return nil
+	}
+	seen[r.ID()] = len(*jobs)
+	*jobs = append(*jobs, job.Job{ID: r.ID(), Sweep: s.Name, Study: st.Index, Case: st.Case, Solver: m.Name, Version: m.Version,
+		Params: r.Params, Refine: st.Refine, Group: strings.Join(group, " "), Cost: fv2d.Estimate(r.Case).Work(), Snapshot: st.Snapshot})
+	return nil
+}
+
 func groupOf(st *Study, v fv2d.Values) string {
 	var b strings.Builder
 	b.WriteString(v.Case)

@@ -4,6 +4,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
+	"maps"
 	"slices"
 
 	"fvsweep/fv2d"
@@ -75,6 +76,13 @@ func (st *Study) each(fn func(kv map[string]string) error) error {
 	}
 }
 
+// perRun reports whether the runs of st are resolved one by one for the
+// solver each names (resolveRun): the study names its solver.
+func (st *Study) perRun() bool {
+	_, named := st.origin[solverKey]
+	return named || len(st.programs) > 0
+}
+
 func (st *Study) isGrid(name string) bool {
 	for _, a := range st.Grid {
 		if a.Name == name {
@@ -123,6 +131,9 @@ func (pl *Plan) Each(fn func(job.Job) error) error {
 		st := t.st
 		j := job.Job{ID: hex.EncodeToString(e.id[:]), Sweep: pl.Name, Study: st.Index, Case: st.Case,
 			Params: t.params(idx), Refine: st.Refine, Group: t.group(idx), Cost: e.cost, Snapshot: e.snap}
+		if t.perRun {
+			j.Solver, j.Version = t.run.solver, t.run.version
+		}
 		if err := fn(j); err != nil {
 			return err
 		}
@@ -141,6 +152,8 @@ type runTable struct {
 	st       *Study
 	complete bool        // the case is an fv2d.Completer: resolve each run
 	cur      fv2d.Values // complete: the run load resolved
+	perRun   bool        // the study names its solver: resolve each run (resolveRun)
+	run      resolved    // perRun: the run load resolved
 	dims     [][]Axis
 	keys     []string   // every parameter of the case, sorted
 	base     []string   // canonical value of keys[k] in run 0
@@ -158,6 +171,10 @@ type flatAxis struct {
 
 func newRunTable(st *Study) (*runTable, error) {
 	t := &runTable{st: st, dims: st.dims(), complete: fv2d.IsCompleter(st.Case)}
+	if st.perRun() {
+		t.perRun = true
+		return t, nil
+	}
 	kv := st.kv(make([]int, len(t.dims)), nil)
 	v0, err := fv2d.Resolve(st.Case, kv)
 	if err != nil {
@@ -219,6 +236,15 @@ func (st *Study) kv(idx []int, m map[string]string) map[string]string {
 // load resolves the run at idx when the case completes its values (a no-op
 // otherwise); value, id, group, params and cost of idx need it first.
 func (t *runTable) load(idx []int) error {
+	if t.perRun {
+		t.kv = t.st.kv(idx, t.kv)
+		r, err := t.st.resolveRun(t.kv)
+		if err != nil {
+			return fmt.Errorf("study %d: %w (at %s)", t.st.Index, err, t.st.point(t.kv))
+		}
+		t.run = r
+		return nil
+	}
 	if !t.complete {
 		return nil
 	}
@@ -295,9 +321,22 @@ func (t *runTable) canon(dst []byte, idx []int, noGrid bool) []byte {
 	return dst
 }
 
+// get is the canonical value of parameter name in the run at idx.
+func (t *runTable) get(name string, idx []int) string {
+	if t.perRun {
+		return t.run.params[name]
+	}
+	k, _ := slices.BinarySearch(t.keys, name)
+	return t.value(k, idx)
+}
+
 // id is the JobID of the run at idx, as bytes.
 func (t *runTable) id(idx []int) [16]byte {
-	t.buf = t.canon(t.buf[:0], idx, false)
+	if t.perRun {
+		t.buf = t.run.canon(t.buf[:0], nil)
+	} else {
+		t.buf = t.canon(t.buf[:0], idx, false)
+	}
 	sum := sha256.Sum256(t.buf)
 	return [16]byte(sum[:16])
 }
@@ -307,12 +346,19 @@ func (t *runTable) id(idx []int) [16]byte {
 // Runs that differ only in their grid share a group, the rows of one
 // convergence table.
 func (t *runTable) group(idx []int) string {
-	t.buf = t.canon(t.buf[:0], idx, true)
+	if t.perRun {
+		t.buf = t.run.canon(t.buf[:0], t.st.isGrid)
+	} else {
+		t.buf = t.canon(t.buf[:0], idx, true)
+	}
 	return string(t.buf)
 }
 
 // params is a new map of every parameter of the run at idx.
 func (t *runTable) params(idx []int) map[string]string {
+	if t.perRun {
+		return maps.Clone(t.run.params)
+	}
 	m := make(map[string]string, len(t.keys))
 	for k, name := range t.keys {
 		m[name] = t.value(k, idx)

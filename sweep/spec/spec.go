@@ -17,6 +17,7 @@ import (
 	"github.com/pelletier/go-toml/v2/unstable"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/verify"
 )
 
@@ -56,6 +57,8 @@ type Spec struct {
 	File        string // file name used in error messages
 	Source      string // the TOML text as read
 	Studies     []Study
+	// Programs are the outside solver programs the studies name, by name.
+	Programs map[string]*manifest.Manifest
 }
 
 // Axis is one varied parameter: its name and canonical values in file order.
@@ -89,9 +92,14 @@ type Study struct {
 	Var         string            // conserved variable the tables judge
 	Norm        string            // l1, l2 or linf
 	Functional  string            // functional for the GCI, "" if none
+	// Solvers are the solvers of the study's runs, each once, in the order
+	// the spec names them: job.BuiltinSolver (fv2d) unless the study says
+	// solver = "NAME" or varies solver in its axes.
+	Solvers []string
 
-	origin         map[string]origin // parameter -> where the spec sets it
-	functionalLine int               // line of the functional key, 0 if none
+	programs       map[string]*manifest.Manifest // the spec's programs; nil for an fv2d-only study
+	origin         map[string]origin             // parameter -> where the spec sets it
+	functionalLine int                           // line of the functional key, 0 if none
 }
 
 type origin struct {
@@ -128,8 +136,8 @@ func (e *Error) Error() string {
 }
 
 // Load reads the spec file at path, parses it and checks it against lim:
-// Check(Parse(path, contents), lim).
-func Load(path string, lim Limits) (*Plan, error) {
+// Check(Parse(path, contents, progs...), lim).
+func Load(path string, lim Limits, progs ...*manifest.Manifest) (*Plan, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
@@ -142,13 +150,13 @@ func Load(path string, lim Limits) (*Plan, error) {
 	if len(src) > MaxSpecBytes {
 		return nil, &Error{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxSpecBytes)}
 	}
-	return LoadSource(path, src, lim)
+	return LoadSource(path, src, lim, progs...)
 }
 
 // LoadSource parses the spec src (file names it in errors) and checks it
-// against lim: Check(Parse(file, src), lim).
-func LoadSource(file string, src []byte, lim Limits) (*Plan, error) {
-	s, err := Parse(file, src)
+// against lim: Check(Parse(file, src, progs...), lim).
+func LoadSource(file string, src []byte, lim Limits, progs ...*manifest.Manifest) (*Plan, error) {
+	s, err := Parse(file, src, progs...)
 	if err != nil {
 		return nil, err
 	}
@@ -156,11 +164,19 @@ func LoadSource(file string, src []byte, lim Limits) (*Plan, error) {
 }
 
 // Parse parses the TOML spec src (file names it in errors) and checks every
-// key and value against the cases' parameters, one value at a time; it
-// neither resolves the runs nor applies limits (see Check). Every error is
-// a *Error naming the file, line and key.
-func Parse(file string, src []byte) (*Spec, error) {
-	p := &parser{file: file}
+// key and value against the cases' parameters and those of the solvers that
+// run them, one value at a time; it neither resolves the runs nor applies
+// limits (see Check). progs are the outside programs a study may name as
+// its solver (manifests as spec.LoadManifest returns them); fv2d is always
+// known. Every error is a *Error naming the file, line and key.
+func Parse(file string, src []byte, progs ...*manifest.Manifest) (*Spec, error) {
+	p := &parser{file: file, progs: map[string]*manifest.Manifest{}}
+	for _, m := range progs {
+		if o, dup := p.progs[m.Name]; dup {
+			return nil, &Error{File: file, Msg: fmt.Sprintf("solver %s is given twice (%s and %s)", m.Name, o.File, m.File)}
+		}
+		p.progs[m.Name] = m
+	}
 	var doc map[string]any
 	if err := toml.Unmarshal(src, &doc); err != nil {
 		e := &Error{File: file, Msg: "malformed TOML: " + strings.TrimPrefix(err.Error(), "toml: ")}
@@ -182,6 +198,8 @@ func Parse(file string, src []byte) (*Spec, error) {
 type parser struct {
 	file  string
 	lines keyLines
+	progs map[string]*manifest.Manifest // known programs by name
+	used  map[string]*manifest.Manifest // those a study names
 }
 
 func (p *parser) fail(study int, path []string, key, format string, args ...any) *Error {
@@ -191,7 +209,7 @@ func (p *parser) fail(study int, path []string, key, format string, args ...any)
 var (
 	topKeys   = []string{"name", "description", "study"}
 	studyKeys = []string{"case", "label", "fixed", "axes", "together", "refine", "snapshot",
-		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional"}
+		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional", "solver"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
 )
 
@@ -231,6 +249,7 @@ func (p *parser) spec(doc map[string]any) (*Spec, error) {
 		}
 		s.Studies = append(s.Studies, st)
 	}
+	s.Programs = p.used
 	return s, nil
 }
 
@@ -266,8 +285,8 @@ func (p *parser) study(i int, raw any) (Study, error) {
 		return st, p.fail(st.Index, sub(path, "case"), "case", "%v", err)
 	}
 	sp := &studyParser{parser: p, st: &st, path: path, params: map[string]fv2d.Param{}}
-	for _, prm := range fv2d.ParamsOf(c) {
-		sp.params[prm.Name] = prm
+	if err := sp.solvers(m, c); err != nil {
+		return st, err
 	}
 	st.Var = c.Equation().Vars()[0]
 	steps := []func(map[string]any) error{sp.fixed, sp.axes, sp.together, sp.refine, sp.options}
@@ -289,6 +308,9 @@ type studyParser struct {
 	st     *Study
 	path   []string
 	params map[string]fv2d.Param
+	// also holds the declarations of a parameter by the study's other
+	// solvers: a value must suit every solver that takes the parameter.
+	also map[string][]fv2d.Param
 }
 
 func (sp *studyParser) fail(path []string, key, format string, args ...any) *Error {
@@ -337,7 +359,9 @@ func (sp *studyParser) fixed(m map[string]any) error {
 	if err != nil || t == nil {
 		return err
 	}
-	sp.st.Fixed = map[string]string{}
+	if sp.st.Fixed == nil {
+		sp.st.Fixed = map[string]string{}
+	}
 	base := sub(sp.path, "fixed")
 	for _, name := range sp.lines.ordered(base, t) {
 		path, key := sub(base, name), "fixed."+keyName(name)
@@ -345,7 +369,7 @@ func (sp *studyParser) fixed(m map[string]any) error {
 		if err != nil {
 			return err
 		}
-		s, msg := paramValue(prm, t[name])
+		s, msg := sp.value(prm, t[name])
 		if msg != "" {
 			if _, isList := t[name].([]any); isList {
 				msg = "want one value (lists go under axes), got a list"
@@ -378,7 +402,7 @@ func (sp *studyParser) axis(path []string, key, name string, raw any, distinct b
 	seen := map[string]bool{}
 	for i, v := range list {
 		ep := sub(path, strconv.Itoa(i))
-		s, msg := paramValue(prm, v)
+		s, msg := sp.value(prm, v)
 		if msg != "" {
 			return a, sp.fail(ep, key, "%s", msg)
 		}

@@ -218,6 +218,8 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 	}
 	sort.Strings(order)
 	varying := varyingKeys(byGroup)
+	// A study with an outside program names each group's solver.
+	programs := slices.ContainsFunc(jobs, func(j job.Job) bool { return j.Solver != "" })
 	seenVar, otherVars := false, map[string]bool{}
 	for _, ident := range order {
 		gj := byGroup[ident]
@@ -258,6 +260,9 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 		sort.SliceStable(g.Rows, func(a, b int) bool { return g.Rows[a].hRep > g.Rows[b].hRep })
 		g.Params = gj[0].Params
 		g.Label = label(g.Params, varying, st.Case)
+		if programs {
+			g.Label = gj[0].SolverLabel() + ": " + g.Label
+		}
 		st.judge(&g)
 		for i := range st.Functionals {
 			g.GCI = append(g.GCI, st.functionalGCI(&g, i))

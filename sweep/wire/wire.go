@@ -5,7 +5,10 @@
 //
 // Subjects, with P the prefix (default "fvsweep") and S the sweep token:
 //
-//	P.job.S.ID      a Job, on the work-queue stream P_JOBS (one message per subject)
+//	P.job.S.ID      a Job of the built-in solver fv2d, on the work-queue
+//	                stream P_JOBS (one message per subject)
+//	P.job.S.R.ID    a Job of an outside program, R its route (Route): the
+//	                program's name and a hash of its version
 //	P.result.S.ID   an Outcome, on the work-queue stream P_RESULTS
 //	P.worker.ID     a WorkerReport, core NATS, every few seconds
 //	P.api.VERB      request/reply to the coordinator (ping, status, rows, submit, cancel, forget)
@@ -69,8 +72,45 @@ func (n Names) JobStream() string { return n.upper() + "_JOBS" }
 // ResultStream is the work-queue stream of outcomes.
 func (n Names) ResultStream() string { return n.upper() + "_RESULTS" }
 
-// WorkerConsumer is the durable pull consumer all workers share.
+// WorkerConsumer is the durable pull consumer of fv2d's jobs, which all
+// workers share.
 func (n Names) WorkerConsumer() string { return "workers" }
+
+// RouteConsumer is the durable pull consumer of the jobs of route (Route):
+// WorkerConsumer for fv2d (""), else "solver-" and the route. The workers
+// that offer the program at that version share it.
+func (n Names) RouteConsumer(route string) string {
+	if route == "" {
+		return n.WorkerConsumer()
+	}
+	return "solver-" + route
+}
+
+// RouteFilter matches the jobs of route of every sweep: P.job.*.* for fv2d
+// (""), P.job.*.R.* for a program. The filters of two routes never
+// overlap, as the consumers of one work-queue stream must not.
+func (n Names) RouteFilter(route string) string {
+	if route == "" {
+		return n.p() + ".job.*.*"
+	}
+	return n.p() + ".job.*." + route + ".*"
+}
+
+// Route is the subject token of the jobs of solver at version, and so of
+// their consumer: "" for the built-in fv2d (solver "" or job.BuiltinSolver),
+// whose job subjects keep their form from before programs; for a program
+// its name, '-' and 12 hex digits of the SHA-256 of "NAME@VERSION" (a
+// version may hold '.' and '+', which a subject token may not).
+func Route(solver, version string) string {
+	if solver == "" || solver == job.BuiltinSolver {
+		return ""
+	}
+	sum := sha256.Sum256([]byte(solver + "@" + version))
+	return solver + "-" + hex.EncodeToString(sum[:6])
+}
+
+// JobRoute is the route of the jobs of j's solver.
+func JobRoute(j job.Job) string { return Route(j.Solver, j.Version) }
 
 // CoordinatorConsumer is the durable pull consumer of the results stream.
 func (n Names) CoordinatorConsumer() string { return "coordinator" }
@@ -81,17 +121,30 @@ func (n Names) CancelBucket() string { return n.p() + "_canceled" }
 // FieldBucket is the object store of field snapshots (object: job ID).
 func (n Names) FieldBucket() string { return n.p() + "_fields" }
 
-// JobSubject is the subject of job id of sweep.
+// JobSubject is the subject of fv2d's job id of sweep.
 func (n Names) JobSubject(sweep, id string) string {
 	return n.p() + ".job." + SweepToken(sweep) + "." + id
 }
 
-// JobFilter matches every job of sweep ("" for every sweep).
+// RouteSubject is the subject of job id of sweep on route ("" for fv2d:
+// JobSubject).
+func (n Names) RouteSubject(sweep, route, id string) string {
+	if route == "" {
+		return n.JobSubject(sweep, id)
+	}
+	return n.p() + ".job." + SweepToken(sweep) + "." + route + "." + id
+}
+
+// SubjectOf is the subject of job j: on its solver's route.
+func (n Names) SubjectOf(j job.Job) string { return n.RouteSubject(j.Sweep, JobRoute(j), j.ID) }
+
+// JobFilter matches every job of sweep, of every solver ("" for every
+// sweep).
 func (n Names) JobFilter(sweep string) string {
 	if sweep == "" {
 		return n.p() + ".job.>"
 	}
-	return n.p() + ".job." + SweepToken(sweep) + ".*"
+	return n.p() + ".job." + SweepToken(sweep) + ".>"
 }
 
 // ResultSubject is the subject of the outcome of job id of sweep.
@@ -200,6 +253,9 @@ type WorkerReport struct {
 	Busy        float64       `json:"busy"` // fraction of slot time spent running jobs
 	Current     []RunningJob  `json:"current"`
 	Leaving     bool          `json:"leaving,omitempty"` // draining: the last report
+	// Solvers are the outside programs the worker offers, "NAME@VERSION"
+	// each (every worker offers fv2d); absent when none.
+	Solvers []string `json:"solvers,omitempty"`
 }
 
 // ReportBounds bound what a coordinator takes from worker reports.
@@ -274,6 +330,15 @@ type SubmitRequest struct {
 	File        string `json:"file"`   // for messages only
 	Source      string `json:"source"` // the TOML text
 	RetryFailed bool   `json:"retry_failed,omitempty"`
+	// Solvers are the manifests of the outside programs the spec may
+	// name, sent in full like the spec.
+	Solvers []ManifestText `json:"solvers,omitempty"`
+}
+
+// ManifestText is a solver manifest as its file holds it.
+type ManifestText struct {
+	File   string `json:"file"`   // for messages only
+	Source string `json:"source"` // the TOML text
 }
 
 // SubmitReply says what a submission did.
@@ -293,16 +358,19 @@ type SweepRequest struct {
 
 // SweepStatus counts a sweep's jobs. Queued = JobsTotal - Done - Failed - Running.
 type SweepStatus struct {
-	Sweep     string    `json:"sweep"`
-	SpecFile  string    `json:"spec_file"`
-	JobsTotal int       `json:"jobs_total"`
-	Done      int       `json:"done"`
-	Failed    int       `json:"failed"`
-	Running   int       `json:"running"`
-	Queued    int       `json:"queued"`
-	Canceled  bool      `json:"canceled"`
-	Created   time.Time `json:"created"`
-	Updated   time.Time `json:"updated"`
+	Sweep     string `json:"sweep"`
+	SpecFile  string `json:"spec_file"`
+	JobsTotal int    `json:"jobs_total"`
+	Done      int    `json:"done"`
+	Failed    int    `json:"failed"`
+	Running   int    `json:"running"`
+	Queued    int    `json:"queued"`
+	// Waiting are the queued jobs no live worker can take, by the solver
+	// they wait for ("NAME@VERSION"); absent when none.
+	Waiting  map[string]int `json:"waiting,omitempty"`
+	Canceled bool           `json:"canceled"`
+	Created  time.Time      `json:"created"`
+	Updated  time.Time      `json:"updated"`
 }
 
 // StatusReply is the coordinator's answer to status. Over NATS it comes
@@ -343,9 +411,13 @@ type RowsReply struct {
 	Total    int    `json:"total"`
 	SpecFile string `json:"spec_file,omitempty"`
 	Spec     string `json:"spec,omitempty"`
-	Seq      int    `json:"seq"`
-	Last     bool   `json:"last"`
-	Error    string `json:"error,omitempty"`
+	// Studies are the study settings the store keeps (first chunk only),
+	// so that a reader need not parse the spec (which may name programs
+	// whose manifests it does not have).
+	Studies []job.StudySettings `json:"studies,omitempty"`
+	Seq     int                 `json:"seq"`
+	Last    bool                `json:"last"`
+	Error   string              `json:"error,omitempty"`
 }
 
 // Part says where a part stands in a reply sent in parts: its number,

@@ -30,8 +30,25 @@ func TestSweepToken(t *testing.T) {
 	if got := n.JobSubject("s", "id"); got != "fvsweep.job.s.id" {
 		t.Errorf("JobSubject = %q", got)
 	}
-	if n.JobStream() != "FVSWEEP_JOBS" || n.JobFilter("s") != "fvsweep.job.s.*" {
+	if n.JobStream() != "FVSWEEP_JOBS" || n.JobFilter("s") != "fvsweep.job.s.>" {
 		t.Errorf("names %q %q", n.JobStream(), n.JobFilter("s"))
+	}
+	// Routes: fv2d keeps its subjects and consumer; a program's route is one
+	// token that differs with the version; the filters are disjoint (a
+	// four-token and a five-token pattern, or five-token ones differing in
+	// the route token).
+	if Route("", "") != "" || Route("fv2d", "") != "" || n.RouteSubject("s", "", "id") != n.JobSubject("s", "id") ||
+		n.RouteConsumer("") != "workers" || n.RouteFilter("") != "fvsweep.job.*.*" {
+		t.Error("the built-in solver's route changed")
+	}
+	r1, r2 := Route("heron", "0.4.1"), Route("heron", "0.4.2")
+	if r1 == r2 || !isToken(r1) || !strings.HasPrefix(r1, "heron-") || len(r1) != len("heron-")+12 {
+		t.Errorf("routes %q %q", r1, r2)
+	}
+	j := job.Job{ID: "id", Sweep: "s", Solver: "heron", Version: "0.4.1"}
+	if got := n.SubjectOf(j); got != "fvsweep.job.s."+r1+".id" || n.RouteFilter(r1) != "fvsweep.job.*."+r1+".*" ||
+		n.RouteConsumer(r1) != "solver-"+r1 {
+		t.Errorf("program subject %q filter %q consumer %q", got, n.RouteFilter(r1), n.RouteConsumer(r1))
 	}
 	if _, err := NewNames("bad.prefix"); err == nil {
 		t.Error("NewNames accepted a dotted prefix")

@@ -66,6 +66,10 @@ func New(m *manifest.Manifest) (*Runner, error) {
 // Manifest returns the runner's manifest.
 func (r *Runner) Manifest() *manifest.Manifest { return r.m }
 
+// Version is the program's version: the worker pulls the jobs of that
+// version only (worker.Versioned).
+func (r *Runner) Version() string { return r.m.Version }
+
 // files of a run, inside its working folder.
 type files struct {
 	dir, input, output, job, functionals string

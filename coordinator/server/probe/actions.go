@@ -68,6 +68,10 @@ const (
 	probeSweep   = "probe"
 )
 
+// probeRoute is the route of the outside program whose consumer the
+// fixture keeps in place.
+var probeRoute = wire.Route("probe-solver", "1.0")
+
 var snapshotBytes = bytes.Repeat([]byte("fvsweep probe snapshot "), 64)
 
 // fixture is the operator's side: it puts back what attempts destroy.
@@ -92,6 +96,9 @@ func (f *fixture) prepare(ctx context.Context) error {
 	}
 	if _, err := f.js.Publish(ctx, f.names.JobSubject(probeSweep, nuid.Next()), []byte(`{}`)); err != nil {
 		return fmt.Errorf("queue a job: %w", err)
+	}
+	if _, err := f.js.Publish(ctx, f.names.RouteSubject(probeSweep, probeRoute, nuid.Next()), []byte(`{}`)); err != nil {
+		return fmt.Errorf("queue a program's job: %w", err)
 	}
 	obs, err := f.js.ObjectStore(ctx, f.names.FieldBucket())
 	if err != nil {
@@ -203,30 +210,12 @@ func Actions(n wire.Names) []Action {
 			}
 			return err
 		}},
-		{Name: "fetch a job and ack it", Allow: roles(op, worker), As: worker, Try: func(ctx context.Context, e *Env) error {
-			js, err := e.js()
-			if err != nil {
-				return err
-			}
-			cons, err := js.Consumer(ctx, n.JobStream(), n.WorkerConsumer())
-			if err != nil {
-				return err
-			}
-			batch, err := cons.Fetch(1, jetstream.FetchMaxWait(time.Second))
-			if err != nil {
-				return err
-			}
-			for m := range batch.Messages() {
-				if err := m.InProgress(); err != nil {
-					return err
-				}
-				return m.DoubleAck(ctx)
-			}
-			if batch.Error() != nil {
-				return batch.Error()
-			}
-			return errors.New("no job delivered")
-		}},
+		{Name: "fetch a job and ack it", Allow: roles(op, worker), As: worker, Try: fetchAck(n.WorkerConsumer())},
+		{Name: "fetch an outside program's job and ack it", Allow: roles(op, worker), As: worker,
+			Try: fetchAck(n.RouteConsumer(probeRoute))},
+		{Name: "create a consumer of jobs", Allow: roles(op), Try: jsAPI("CONSUMER.CREATE."+n.JobStream()+".probe-made",
+			map[string]any{"stream_name": n.JobStream(), "config": map[string]any{"durable_name": "probe-made", "ack_policy": "explicit",
+				"filter_subject": n.RouteFilter(wire.Route("probe-made", "1"))}})},
 		{Name: "publish an outcome", Allow: roles(op, worker), As: worker, Try: func(ctx context.Context, e *Env) error {
 			js, err := e.js()
 			if err == nil {
@@ -305,3 +294,31 @@ func Actions(n wire.Names) []Action {
 }
 
 func roles(r ...wire.Role) []wire.Role { return r }
+
+// fetchAck fetches one job from the jobs stream's consumer name and acks it.
+func fetchAck(name string) func(ctx context.Context, e *Env) error {
+	return func(ctx context.Context, e *Env) error {
+		js, err := e.js()
+		if err != nil {
+			return err
+		}
+		cons, err := js.Consumer(ctx, e.Names.JobStream(), name)
+		if err != nil {
+			return err
+		}
+		batch, err := cons.Fetch(1, jetstream.FetchMaxWait(time.Second))
+		if err != nil {
+			return err
+		}
+		for m := range batch.Messages() {
+			if err := m.InProgress(); err != nil {
+				return err
+			}
+			return m.DoubleAck(ctx)
+		}
+		if batch.Error() != nil {
+			return batch.Error()
+		}
+		return errors.New("no job delivered")
+	}
+}

@@ -242,5 +242,8 @@ func errText(errs ...error) string {
 
 // ensure makes the streams, consumers and buckets of n on nc's server.
 func ensure(ctx context.Context, f *fixture) error {
-	return coordinator.EnsureStreams(ctx, f.js, f.names, coordinator.Delivery{})
+	if err := coordinator.EnsureStreams(ctx, f.js, f.names, coordinator.Delivery{}); err != nil {
+		return err
+	}
+	return coordinator.EnsureRoute(ctx, f.js, f.names, probeRoute, "probe-solver@1.0", coordinator.Delivery{})
 }
