@@ -33,15 +33,8 @@ func (db *DB) AddJobs(sweepName string, jobs []job.Job) (added int, err error) {
 		if err != nil {
 			return err
 		}
-		var w jobWriter
-		for i := range uniq {
-			if jb.Get([]byte(uniq[i].ID)) != nil {
-				continue
-			}
-			if err := w.put(jb, &uniq[i]); err != nil {
-				return err
-			}
-			added++
+		if added, err = putNew(jb, uniq); err != nil {
+			return err
 		}
 		if added == 0 {
 			return nil
@@ -52,6 +45,22 @@ func (db *DB) AddJobs(sweepName string, jobs []job.Job) (added int, err error) {
 	})
 	if err != nil {
 		return 0, err
+	}
+	return added, nil
+}
+
+// putNew puts the jobs of uniq (checked by uniqueJobs) that the job bucket
+// jb does not hold and counts them.
+func putNew(jb *bolt.Bucket, uniq []job.Job) (added int, err error) {
+	var w jobWriter
+	for i := range uniq {
+		if jb.Get([]byte(uniq[i].ID)) != nil {
+			continue
+		}
+		if err := w.put(jb, &uniq[i]); err != nil {
+			return added, err
+		}
+		added++
 	}
 	return added, nil
 }
