@@ -34,8 +34,15 @@ func (sp *studyParser) extendTo(base []string, t map[string]any) error {
 			n, lead.Name, next, grids[len(grids)-1])
 	}
 	sp.st.ExtendTo, sp.st.extendLine = int(n), sp.lines.at(path)
+	if g := sp.st.ExtensionGrids(); len(g) == maxExtension && verify.NextGrid(append(grids, g...)) <= sp.st.ExtendTo {
+		return sp.fail(path, key, "%d would add more than %d grids at the ratio of the last pair (%d after %d): lower it",
+			n, maxExtension, grids[len(grids)-1], grids[len(grids)-2])
+	}
 	return nil
 }
+
+// maxExtension is the most grids refine.extend_to may add to a group.
+const maxExtension = 16
 
 func gridInts(vals []string) []int {
 	n := make([]int, len(vals))
@@ -47,14 +54,15 @@ func gridInts(vals []string) []int {
 
 // ExtensionGrids are the grids on the refinement axis that the study may add
 // to each group, in order: verify.NextGrid of the spec's grids and of each
-// added one, up to ExtendTo. Nil without refine.extend_to.
+// added one, up to ExtendTo (at most maxExtension). Nil without
+// refine.extend_to.
 func (st *Study) ExtensionGrids() []int {
 	if st.ExtendTo == 0 || len(st.Grid) == 0 {
 		return nil
 	}
 	grids := gridInts(st.Grid[0].Values)
 	var out []int
-	for {
+	for len(out) < maxExtension {
 		next := verify.NextGrid(grids)
 		if next <= 0 || next > st.ExtendTo {
 			return out
@@ -62,6 +70,7 @@ func (st *Study) ExtensionGrids() []int {
 		out = append(out, next)
 		grids = append(grids, next)
 	}
+	return out
 }
 
 // extensionCount is how many jobs the study may add at most: one per

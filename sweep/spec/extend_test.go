@@ -91,6 +91,7 @@ func TestExtendErrors(t *testing.T) {
 		{`{ nx = [16, 32], extend_to = "64" }`, "refine.extend_to", "want an integer grid size"},
 		{`{ nx = [16, 32], extend_to = 64.5 }`, "refine.extend_to", "want an integer grid size"},
 		{`{ extend_to = 64 }`, "refine", "give the grid sequence beside extend_to"},
+		{`{ nx = [1000, 1001], extend_to = 100000 }`, "refine.extend_to", "would add more than 16 grids at the ratio of the last pair (1001 after 1000)"},
 		{`{ nx = [16, 32], extend = 64 }`, "refine.extend", "the refinement axis is nx or ny"},
 	} {
 		_, err := LoadSource("x.toml", []byte(study("case = \"spec-test-case\"\nrefine = "+c.refine+"\n")), DefaultLimits())

@@ -106,7 +106,7 @@ func TestSettle(t *testing.T) {
 
 func TestSettlePreAsymptoticVerdict(t *testing.T) {
 	// Pairs that agree with each other (0.60, 0.66 on the finest) while the
-	// fit over all grids is far below them (0.39, least squares by hand): e = h^p with p rising from
+	// fit over all grids is far below them (0.39, the least-squares slope computed outside the project): e = h^p with p rising from
 	// 0.1 to 0.66 over five grids. The verdict calls it pre-asymptotic
 	// (Verdict, finest pair against the fit), so the group is not settled.
 	n := []int{8, 16, 32, 64, 128}
