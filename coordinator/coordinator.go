@@ -291,6 +291,7 @@ func (c *Coordinator) store(msgs []jetstream.Msg) {
 	if len(outs) == 0 {
 		return
 	}
+	extra := c.extensions(outs) // grids added where the order has not settled
 	written, err := c.db.PutOutcomes(outs)
 	if err != nil {
 		c.nakAll(keep, "storing results", err)
@@ -306,6 +307,7 @@ func (c *Coordinator) store(msgs []jetstream.Msg) {
 	if c.cfg.OnStored != nil {
 		c.cfg.OnStored(outs)
 	}
+	c.publishExtra(extra)
 }
 
 // nakAll gives a batch back to come again after a failed store call.

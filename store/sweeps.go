@@ -95,15 +95,8 @@ func (db *DB) PutSweep(rec SweepRecord, jobs []job.Job) (added, stored int, err 
 		if err != nil {
 			return err
 		}
-		var w jobWriter
-		for i := range uniq {
-			if jb.Get([]byte(uniq[i].ID)) != nil {
-				continue
-			}
-			if err := w.put(jb, &uniq[i]); err != nil {
-				return err
-			}
-			added++
+		if added, err = putNew(jb, uniq); err != nil {
+			return err
 		}
 		cur.Jobs += added
 		return putRecord(tx, cur)

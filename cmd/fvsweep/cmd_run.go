@@ -101,6 +101,7 @@ func runRun(args []string) int {
 	if err != nil {
 		return fail("run: %v", err)
 	}
+	printExtension(spec)
 	// The components say less than the command unless asked for debug logs.
 	inner := log.ResetNamed("fvsweep")
 	if log.GetLevel() >= hclog.Info {

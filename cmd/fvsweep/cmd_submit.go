@@ -4,7 +4,9 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
+	"os"
 )
 
 const submitUsage = `usage: fvsweep submit SPEC [--retry-failed] [--solver FILE]...
@@ -50,6 +52,7 @@ func runSubmit(args []string) int {
 	if err != nil {
 		return fail("submit: %v", err)
 	}
+	printExtension(spec)
 	src, err := c.open(context.Background(), wire.RoleSubmitter)
 	if err != nil {
 		return fail("submit: %v", err)
@@ -64,6 +67,12 @@ func runSubmit(args []string) int {
 	}
 	printSubmitted(rep)
 	return 0
+}
+
+// printExtension says, before a submission, what the grids that studies
+// may add until their order settles cost at most (nothing without any).
+func printExtension(pl *spec.Plan) {
+	spec.WriteExtension(os.Stdout, pl)
 }
 
 // printSubmitted says what a submission did.

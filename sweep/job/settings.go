@@ -15,4 +15,10 @@ type StudySettings struct {
 	OrderTol    float64 `json:"order_tol"`        // accepted design - observed order
 	OrderTolHi  float64 `json:"order_tol_high"`   // accepted observed - design order
 	Functional  string  `json:"functional,omitempty"`
+	// ExtendTo is the largest grid on the refinement axis up to which the
+	// coordinator adds grids to a group whose observed order has not
+	// settled (refine.extend_to); 0: none. Grids are then the spec's own
+	// grids on that axis, so that a reader tells the added ones apart.
+	ExtendTo int   `json:"extend_to,omitempty"`
+	Grids    []int `json:"grids,omitempty"`
 }

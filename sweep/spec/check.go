@@ -19,6 +19,8 @@ type Plan struct {
 	Jobs    int     // distinct runs: what a sweep submits
 	Cost    float64 // estimated cell updates of the distinct runs
 	Summary []StudyPlan
+	// Extension is what the grids of refine.extend_to may add at most.
+	Extension Extension
 
 	order []run // the distinct runs, in the order Each gives them
 }
@@ -30,6 +32,8 @@ type StudyPlan struct {
 	Cost  float64  // estimated cell updates (cells x steps) of its runs
 	Share float64  // Cost as a fraction of the sum over all studies
 	Grids []string // distinct "NXxNY" grids in expansion order
+	// Extension is what the study's refine.extend_to may add at most.
+	Extension Extension
 }
 
 // run is one distinct run of a Plan: about 60 bytes, not the job.
@@ -63,27 +67,39 @@ func Check(s *Spec, lim Limits) (*Plan, error) {
 		}
 		costs[i] = c
 	}
-	return plan(s, costs)
+	pl, err := plan(s, costs)
+	if err != nil {
+		return nil, err
+	}
+	if err := pl.extension(lim); err != nil {
+		return nil, err
+	}
+	return pl, nil
 }
 
-// checkCount refuses a spec that expands to more than MaxJobs runs, without
-// expanding it.
+// checkCount refuses a spec that expands to more than MaxJobs runs, with
+// the jobs that refine.extend_to may add, without expanding it.
 func checkCount(s *Spec, lim Limits) error {
-	total, big := 0, 0
+	total, big, extra := 0, 0, 0
 	for i := range s.Studies {
 		n := s.Studies[i].Count()
 		total = satAdd(total, n)
+		extra = satAdd(extra, s.Studies[i].extensionCount())
 		if n > s.Studies[big].Count() {
 			big = i
 		}
 	}
-	if total <= lim.MaxJobs {
+	if satAdd(total, extra) <= lim.MaxJobs {
 		return nil
 	}
 	st := &s.Studies[big]
-	return &Error{File: s.File, Line: st.Line, Study: st.Index,
-		Msg: fmt.Sprintf("the spec expands to %s jobs (this study %s), over the job limit of %d",
-			countString(total), countString(st.Count()), lim.MaxJobs)}
+	msg := fmt.Sprintf("the spec expands to %s jobs (this study %s), over the job limit of %d",
+		countString(total), countString(st.Count()), lim.MaxJobs)
+	if extra > 0 {
+		msg = fmt.Sprintf("the spec expands to %s jobs and %s may add %s more, over the job limit of %d",
+			countString(total), extendKey, countString(extra), lim.MaxJobs)
+	}
+	return &Error{File: s.File, Line: st.Line, Study: st.Index, Msg: msg}
 }
 
 // checkRuns resolves every run of st, checks its memory estimate and

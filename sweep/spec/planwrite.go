@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 )
@@ -35,6 +36,15 @@ type planStudy struct {
 	Var         string            `json:"var"`
 	Norm        string            `json:"norm"`
 	Functional  string            `json:"functional,omitempty"`
+	ExtendTo    int               `json:"extend_to,omitempty"`
+	Extension   *planExtension    `json:"extension,omitempty"` // what extend_to may add at most
+}
+
+// planExtension is what the grids of refine.extend_to may add at most.
+type planExtension struct {
+	Grids []int   `json:"grids,omitempty"`
+	Jobs  int     `json:"jobs"`
+	Cost  float64 `json:"cost"`
 }
 
 type planDoc struct {
@@ -44,6 +54,8 @@ type planDoc struct {
 	Jobs    int         `json:"jobs"` // distinct runs
 	Cost    float64     `json:"cost"` // estimated cell updates of the distinct runs
 	Studies []planStudy `json:"studies"`
+	// Extension is what the grids of refine.extend_to may add at most.
+	Extension *planExtension `json:"extension,omitempty"`
 }
 
 func planAxes(as []Axis) []planAxis {
@@ -71,6 +83,10 @@ func planJSON(pl *Plan) planDoc {
 			Together: [][]planAxis{}, Refine: st.Refine, Grid: planAxes(st.Grid), Grids: sp.Grids, Runs: sp.Runs,
 			Cost: sp.Cost, Share: sp.Share, Snapshot: st.Snapshot, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol, OrderTolHi: st.OrderTolHi,
 			Var: st.Var, Norm: st.Norm, Functional: st.Functional}
+		if st.ExtendTo > 0 {
+			ps.ExtendTo = st.ExtendTo
+			ps.Extension = &planExtension{Grids: sp.Extension.Grids, Jobs: sp.Extension.Jobs, Cost: sp.Extension.Cost}
+		}
 		if ps.Fixed == nil {
 			ps.Fixed = map[string]string{}
 		}
@@ -78,6 +94,9 @@ func planJSON(pl *Plan) planDoc {
 			ps.Together = append(ps.Together, planAxes(g))
 		}
 		doc.Studies = append(doc.Studies, ps)
+	}
+	if pl.Extension.Jobs > 0 {
+		doc.Extension = &planExtension{Jobs: pl.Extension.Jobs, Cost: pl.Extension.Cost}
 	}
 	return doc
 }
@@ -110,6 +129,10 @@ func WritePlan(w io.Writer, pl *Plan) error {
 		fmt.Fprintf(tw, "  judged\t%s\n", judgedString(st))
 		fmt.Fprintf(tw, "  runs\t%d on %s\n", sp.Runs, strings.Join(sp.Grids, " "))
 		fmt.Fprintf(tw, "  cost\t%.3g cell updates (%.1f %%)\n", sp.Cost, 100*sp.Share)
+		if x := sp.Extension; len(x.Grids) > 0 {
+			fmt.Fprintf(tw, "  extend\t%s %s while the order has not settled: at most %d more jobs, %.3g cell updates\n",
+				st.Refine, intsString(x.Grids), x.Jobs, x.Cost)
+		}
 		tw.Flush()
 	}
 	fmt.Fprintln(w)
@@ -123,7 +146,27 @@ func WritePlan(w io.Writer, pl *Plan) error {
 	if shared := pl.Runs - pl.Jobs; shared > 0 {
 		fmt.Fprintf(w, "%d runs are shared by two or more studies and run once: %d runs, %d jobs\n", shared, pl.Runs, pl.Jobs)
 	}
-	return nil
+	return WriteExtension(w, pl)
+}
+
+// WriteExtension says, for a plan whose studies may add grids
+// (refine.extend_to), what those grids may cost at most: every group
+// refined up to its limit. It writes nothing for a plan without them.
+func WriteExtension(w io.Writer, pl *Plan) error {
+	if pl.Extension.Jobs == 0 {
+		return nil
+	}
+	_, err := fmt.Fprintf(w, "grids added until the order settles may cost at most %d more jobs, %.3g cell updates (%.3g x the planned %.3g)\n",
+		pl.Extension.Jobs, pl.Extension.Cost, pl.Extension.Cost/pl.Cost, pl.Cost)
+	return err
+}
+
+func intsString(n []int) string {
+	s := make([]string, len(n))
+	for i, k := range n {
+		s[i] = strconv.Itoa(k)
+	}
+	return strings.Join(s, " ")
 }
 
 func fixedString(m map[string]string) string {

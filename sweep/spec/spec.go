@@ -97,7 +97,13 @@ type Study struct {
 	// solver = "NAME" or varies solver in its axes.
 	Solvers []string
 
+	// ExtendTo is refine.extend_to: the largest grid on the refinement axis
+	// to which grids are added while a group's order has not settled; 0 if
+	// none (see Extension).
+	ExtendTo int
+
 	programs       map[string]*manifest.Manifest // the spec's programs; nil for an fv2d-only study
+	extendLine     int                           // line of refine.extend_to, 0 if none
 	origin         map[string]origin             // parameter -> where the spec sets it
 	functionalLine int                           // line of the functional key, 0 if none
 }
@@ -495,6 +501,9 @@ func (sp *studyParser) refine(m map[string]any) error {
 		return sp.fail(base, "refine", "empty: give the grid sequence, e.g. refine = { nx = [32, 64, 128] }")
 	}
 	for _, name := range names {
+		if name == extendKey {
+			continue
+		}
 		if name != "nx" && name != "ny" {
 			return sp.fail(sub(base, name), "refine."+keyName(name), "the refinement axis is nx or ny (or both, varying together)")
 		}
@@ -522,8 +531,14 @@ func (sp *studyParser) refine(m map[string]any) error {
 		}
 		sp.st.Grid = append(sp.st.Grid, a)
 	}
+	if len(sp.st.Grid) == 0 {
+		return sp.fail(base, "refine", "give the grid sequence beside %s, e.g. refine = { nx = [32, 64, 128], %s = 512 }", extendKey, extendKey)
+	}
 	sp.st.Refine = sp.st.Grid[0].Name
-	return sp.follow()
+	if err := sp.follow(); err != nil {
+		return err
+	}
+	return sp.extendTo(base, t)
 }
 
 // follow lets the other grid size follow the refinement axis (square cells

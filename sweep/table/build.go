@@ -53,6 +53,9 @@ type GridRow struct {
 	CPUFromWall bool
 	// Work is the cells updated, nx x ny x steps: the deterministic cost.
 	Work float64
+	// Added says why the grid was added to the spec's (refine.extend_to):
+	// the order had not settled on the grids before it; "" for the spec's.
+	Added string
 
 	hRep float64 // representative spacing of the GCI (see gciSpacing)
 }
@@ -70,8 +73,12 @@ type Group struct {
 	// GCI is the solution verification of each of Study.Functionals over
 	// the group's finished grids, in the order of Study.Functionals.
 	GCI []FunctionalGCI
+	// Settle is whether the order has settled, for a study that adds grids
+	// until it does (refine.extend_to); nil otherwise.
+	Settle *verify.Settling
 
 	functionals []string // Study.Functionals, the names of GridRow.Phi
+	refine      string   // the refinement axis, for Settle's text
 }
 
 // Study is the convergence tables of one [[study]] of a spec.
@@ -92,10 +99,15 @@ type Study struct {
 	// and without an exact solution every functional the case reports.
 	Functional  string
 	Functionals []string
-	Groups      []Group
-	Done        int
-	Failed      int
-	Pending     int
+	// Refine is the refinement axis; ExtendTo and Grids the settings of a
+	// study that adds grids (job.StudySettings), 0 and nil otherwise.
+	Refine   string
+	ExtendTo int
+	Grids    []int
+	Groups   []Group
+	Done     int
+	Failed   int
+	Pending  int
 }
 
 // Set is the tables of one sweep: what every writer writes.
@@ -175,6 +187,7 @@ func Build(settings []job.StudySettings, jobs []job.Job, outcomes map[string]job
 			if ss.Norm != "" {
 				st.Norm = ss.Norm
 			}
+			st.Refine, st.ExtendTo, st.Grids = ss.Refine, ss.ExtendTo, ss.Grids
 		}
 		if o.Var != "" {
 			st.Var = o.Var
@@ -317,6 +330,9 @@ func (st *Study) judge(g *Group) {
 	}
 	g.Verdict = verify.VerdictBand(hs, es, design, st.Tol, st.TolHi)
 	g.Verdict.Summary = strings.TrimPrefix(g.Verdict.Summary, g.Verdict.Status+": ")
+	if st.ExtendTo > 0 {
+		st.settle(g)
+	}
 }
 
 // designOrder is the study's design order, else that of the group's scheme.

@@ -96,7 +96,9 @@ const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Ind
 {{end}}</table>
 {{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
 {{if .Waiting}}<span class="waiting">{{if .Finished}}waiting for more grids{{else}}not run yet{{end}}</span> — {{.Finished}} of {{len .Rows}} grids have a result{{else}}<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}{{end}}</p>
-{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
+{{with .SettleText}}<p>{{.}}</p>
+{{end}}{{range .AddedLines}}<p class="note">{{.}}</p>
+{{end}}{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
 {{with .GCICells}}<table>
 <tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
 {{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>

@@ -33,6 +33,9 @@ type groupJSON struct {
 	// GCI holds one entry per functional of the study, its records in the
 	// layout of fvsweep gci --json (fractions, not percent).
 	GCI []FunctionalGCI `json:"gci,omitempty"`
+	// Settle is present for a study that adds grids until the order
+	// settles (refine.extend_to).
+	Settle *verify.Settling `json:"settle,omitempty"`
 }
 
 type rowJSON struct {
@@ -47,6 +50,7 @@ type rowJSON struct {
 	Order       Num            `json:"order"` // with the next coarser grid, in the study's norm
 	Functionals map[string]Num `json:"functionals,omitempty"`
 	WallS       float64        `json:"wall_s"`
+	Added       string         `json:"added,omitempty"` // why the grid was added to the spec's
 }
 
 // MarshalJSON writes the study with its groups.
@@ -58,13 +62,13 @@ func (st Study) MarshalJSON() ([]byte, error) {
 // MarshalJSON writes the group with its rows; a functional's value is keyed
 // by its name.
 func (g Group) MarshalJSON() ([]byte, error) {
-	v := groupJSON{Label: g.Label, Params: g.Params, Verdict: g.Verdict, GCI: g.GCI, Fitted: none, FittedSE: none}
+	v := groupJSON{Label: g.Label, Params: g.Params, Verdict: g.Verdict, GCI: g.GCI, Fitted: none, FittedSE: none, Settle: g.Settle}
 	if g.Fitted {
 		v.Fitted, v.FittedSE = Num(g.Fit.Order), Num(g.Fit.OrderSE)
 	}
 	for _, r := range g.Rows {
 		rj := rowJSON{JobID: r.JobID, NX: r.NX, NY: r.NY, H: Num(r.H), Status: r.Status,
-			L1: Num(r.L1), L2: Num(r.L2), Linf: Num(r.Linf), Order: Num(r.Order), WallS: r.WallS}
+			L1: Num(r.L1), L2: Num(r.L2), Linf: Num(r.Linf), Order: Num(r.Order), WallS: r.WallS, Added: r.Added}
 		if len(r.Phi) > 0 {
 			rj.Functionals = map[string]Num{}
 			for i, name := range g.functionals {

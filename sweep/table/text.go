@@ -49,6 +49,9 @@ func (g Group) verdict(mark string) string {
 	if g.Verdict.Summary != "" {
 		s += " (" + g.Verdict.Summary + ")"
 	}
+	if t := g.SettleText(); t != "" {
+		s += "; " + t
+	}
 	return s
 }
 
@@ -146,6 +149,9 @@ func writeText(w io.Writer, s Set) error {
 			if st.Exact {
 				fmt.Fprintf(w, "    %s\n", g.verdict(""))
 			}
+			for _, a := range g.AddedLines() {
+				fmt.Fprintf(w, "    %s\n", a)
+			}
 			if cells := g.GCICells(); len(cells) > 0 {
 				fmt.Fprintf(w, "    %s:\n", GCICaption)
 				writeAligned(w, "      ", GCIHeader, cells, gciLeft...)
@@ -199,6 +205,12 @@ func writeMarkdown(w io.Writer, s Set) error {
 			if st.Exact {
 				v := g.verdict("**")
 				fmt.Fprintf(w, "\n%s%s\n", strings.ToUpper(v[:1]), v[1:])
+			}
+			if added := g.AddedLines(); len(added) > 0 {
+				fmt.Fprintln(w)
+				for _, a := range added {
+					fmt.Fprintf(w, "- %s\n", a)
+				}
 			}
 			if cells := g.GCICells(); len(cells) > 0 {
 				fmt.Fprintf(w, "\n%s:\n\n", GCICaption)
