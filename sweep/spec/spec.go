@@ -17,6 +17,7 @@ import (
 	"github.com/pelletier/go-toml/v2/unstable"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/verify"
 )
 
@@ -89,6 +90,11 @@ type Study struct {
 	Var         string            // conserved variable the tables judge
 	Norm        string            // l1, l2 or linf
 	Functional  string            // functional for the GCI, "" if none
+	// Informational, ErrorGrowthTol and OrderDropTol are how a gate judges
+	// the study (job.StudySettings).
+	Informational  bool
+	ErrorGrowthTol float64
+	OrderDropTol   float64
 
 	origin         map[string]origin // parameter -> where the spec sets it
 	functionalLine int               // line of the functional key, 0 if none
@@ -191,7 +197,8 @@ func (p *parser) fail(study int, path []string, key, format string, args ...any)
 var (
 	topKeys   = []string{"name", "description", "study"}
 	studyKeys = []string{"case", "label", "fixed", "axes", "together", "refine", "snapshot",
-		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional"}
+		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional",
+		"informational", "error_growth_tol", "order_drop_tol"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
 )
 
@@ -553,14 +560,19 @@ func (sp *studyParser) options(m map[string]any) error {
 	if st.Label == "" {
 		st.Label = st.Case
 	}
-	if raw, ok := m["snapshot"]; ok {
-		b, ok := raw.(bool)
-		if !ok {
-			return sp.fail(sub(sp.path, "snapshot"), "snapshot", "want true or false, got %s", typeName(raw))
-		}
-		st.Snapshot = b
-	}
 	var err error
+	if st.Snapshot, err = sp.flag(m, "snapshot"); err != nil {
+		return err
+	}
+	if st.Informational, err = sp.flag(m, "informational"); err != nil {
+		return err
+	}
+	if st.ErrorGrowthTol, err = sp.number(m, "error_growth_tol", job.DefaultErrorGrowthTol, false); err != nil {
+		return err
+	}
+	if st.OrderDropTol, err = sp.number(m, "order_drop_tol", job.DefaultOrderDropTol, false); err != nil {
+		return err
+	}
 	if st.DesignOrder, err = sp.number(m, "design_order", 0, true); err != nil {
 		return err
 	}
@@ -569,6 +581,19 @@ func (sp *studyParser) options(m map[string]any) error {
 	}
 	st.OrderTolHi, err = sp.number(m, "order_tol_high", st.OrderTol, false)
 	return err
+}
+
+// flag reads true or false under key, false if absent.
+func (sp *studyParser) flag(m map[string]any, key string) (bool, error) {
+	raw, ok := m[key]
+	if !ok {
+		return false, nil
+	}
+	b, ok := raw.(bool)
+	if !ok {
+		return false, sp.fail(sub(sp.path, key), key, "want true or false, got %s", typeName(raw))
+	}
+	return b, nil
 }
 
 // number reads a finite number >= 0 (> 0 if positive) under key, def if absent.
