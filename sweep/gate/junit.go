@@ -17,25 +17,27 @@ import (
 
 // JUnitSuites is the root element of the JUnit report.
 type JUnitSuites struct {
-	XMLName  xml.Name     `xml:"testsuites"`
-	Name     string       `xml:"name,attr"`
-	Tests    int          `xml:"tests,attr"`
-	Failures int          `xml:"failures,attr"`
-	Errors   int          `xml:"errors,attr"`
-	Skipped  int          `xml:"skipped,attr"`
-	Time     string       `xml:"time,attr"`
-	Suites   []JUnitSuite `xml:"testsuite"`
+	XMLName xml.Name `xml:"testsuites"`
+	JUnitCounts
+	Suites []JUnitSuite `xml:"testsuite"`
 }
 
 // JUnitSuite is one study.
 type JUnitSuite struct {
-	Name     string      `xml:"name,attr"`
-	Tests    int         `xml:"tests,attr"`
-	Failures int         `xml:"failures,attr"`
-	Errors   int         `xml:"errors,attr"`
-	Skipped  int         `xml:"skipped,attr"`
-	Time     string      `xml:"time,attr"`
-	Cases    []JUnitCase `xml:"testcase"`
+	JUnitCounts
+	Cases []JUnitCase `xml:"testcase"`
+}
+
+// JUnitCounts are the attributes of testsuites and testsuite: a name, the
+// counts of their test cases (errors is always 0: a group that could not
+// be judged is a failure or skipped) and the seconds they took.
+type JUnitCounts struct {
+	Name     string `xml:"name,attr"`
+	Tests    int    `xml:"tests,attr"`
+	Failures int    `xml:"failures,attr"`
+	Errors   int    `xml:"errors,attr"`
+	Skipped  int    `xml:"skipped,attr"`
+	Time     string `xml:"time,attr"`
 }
 
 // JUnitCase is one group.
@@ -62,7 +64,7 @@ type JUnitSkipped struct {
 
 // JUnit builds the JUnit document of r.
 func (r *Report) JUnit() JUnitSuites {
-	doc := JUnitSuites{Name: "fvsweep gate " + r.Sweep}
+	doc := JUnitSuites{JUnitCounts: JUnitCounts{Name: "fvsweep gate " + r.Sweep}}
 	var total float64
 	var times []float64    // of each suite
 	at := map[string]int{} // study -> index in doc.Suites
@@ -72,7 +74,7 @@ func (r *Report) JUnit() JUnitSuites {
 		if !ok {
 			si = len(doc.Suites)
 			at[c.Study] = si
-			doc.Suites = append(doc.Suites, JUnitSuite{Name: r.Sweep + "/" + c.Study})
+			doc.Suites = append(doc.Suites, JUnitSuite{JUnitCounts: JUnitCounts{Name: r.Sweep + "/" + c.Study}})
 			times = append(times, 0)
 		}
 		s := &doc.Suites[si]
