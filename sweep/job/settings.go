@@ -21,4 +21,25 @@ type StudySettings struct {
 	// grids on that axis, so that a reader tells the added ones apart.
 	ExtendTo int   `json:"extend_to,omitempty"`
 	Grids    []int `json:"grids,omitempty"`
+	// Informational studies are reported but do not fail a gate for want
+	// of evidence (pre-asymptotic, insufficient data); a wrong order or a
+	// failed job still fails it.
+	Informational bool `json:"informational,omitempty"`
+	// ErrorGrowthTol is the relative growth of an error over a gate's
+	// baseline that is accepted: E_run <= E_base (1 + ErrorGrowthTol).
+	// OrderDropTol is the accepted drop of an observed order below the
+	// baseline's. 0 asks for results no worse than the baseline in any
+	// bit; records written before these keys existed read 0.
+	ErrorGrowthTol float64 `json:"error_growth_tol,omitempty"`
+	OrderDropTol   float64 `json:"order_drop_tol,omitempty"`
 }
+
+// Defaults of StudySettings.ErrorGrowthTol and OrderDropTol: a change of
+// an error by less than one part in a million, or of an order by less than
+// 0.01, is not taken for a regression. fv2d gives the same bits for the
+// same parameters (docs/speed.md), so 0 is usable with it; an outside
+// solver whose results vary in the last bits sets its own.
+const (
+	DefaultErrorGrowthTol = 1e-6
+	DefaultOrderDropTol   = 0.01
+)

@@ -9,7 +9,8 @@ func (s *Spec) Settings() []job.StudySettings {
 	for i, st := range s.Studies {
 		out[i] = job.StudySettings{Index: st.Index, Label: st.Label, Case: st.Case, Refine: st.Refine,
 			Var: st.Var, Norm: st.Norm, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol,
-			OrderTolHi: st.OrderTolHi, Functional: st.Functional}
+			OrderTolHi: st.OrderTolHi, Functional: st.Functional,
+			Informational: st.Informational, ErrorGrowthTol: st.ErrorGrowthTol, OrderDropTol: st.OrderDropTol}
 		if st.ExtendTo > 0 {
 			out[i].ExtendTo, out[i].Grids = st.ExtendTo, gridInts(st.Grid[0].Values)
 		}

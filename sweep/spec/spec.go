@@ -17,6 +17,7 @@ import (
 	"github.com/pelletier/go-toml/v2/unstable"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/verify"
 )
@@ -96,6 +97,12 @@ type Study struct {
 	// the spec names them: job.BuiltinSolver (fv2d) unless the study says
 	// solver = "NAME" or varies solver in its axes.
 	Solvers []string
+
+	// Informational, ErrorGrowthTol and OrderDropTol are how a gate judges
+	// the study (job.StudySettings).
+	Informational  bool
+	ErrorGrowthTol float64
+	OrderDropTol   float64
 
 	// ExtendTo is refine.extend_to: the largest grid on the refinement axis
 	// to which grids are added while a group's order has not settled; 0 if
@@ -215,7 +222,8 @@ func (p *parser) fail(study int, path []string, key, format string, args ...any)
 var (
 	topKeys   = []string{"name", "description", "study"}
 	studyKeys = []string{"case", "label", "fixed", "axes", "together", "refine", "snapshot",
-		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional", "solver"}
+		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional", "solver",
+		"informational", "error_growth_tol", "order_drop_tol"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
 )
 
@@ -592,14 +600,19 @@ func (sp *studyParser) options(m map[string]any) error {
 	if st.Label == "" {
 		st.Label = st.Case
 	}
-	if raw, ok := m["snapshot"]; ok {
-		b, ok := raw.(bool)
-		if !ok {
-			return sp.fail(sub(sp.path, "snapshot"), "snapshot", "want true or false, got %s", typeName(raw))
-		}
-		st.Snapshot = b
-	}
 	var err error
+	if st.Snapshot, err = sp.flag(m, "snapshot"); err != nil {
+		return err
+	}
+	if st.Informational, err = sp.flag(m, "informational"); err != nil {
+		return err
+	}
+	if st.ErrorGrowthTol, err = sp.number(m, "error_growth_tol", job.DefaultErrorGrowthTol, false); err != nil {
+		return err
+	}
+	if st.OrderDropTol, err = sp.number(m, "order_drop_tol", job.DefaultOrderDropTol, false); err != nil {
+		return err
+	}
 	if st.DesignOrder, err = sp.number(m, "design_order", 0, true); err != nil {
 		return err
 	}
@@ -608,6 +621,19 @@ func (sp *studyParser) options(m map[string]any) error {
 	}
 	st.OrderTolHi, err = sp.number(m, "order_tol_high", st.OrderTol, false)
 	return err
+}
+
+// flag reads true or false under key, false if absent.
+func (sp *studyParser) flag(m map[string]any, key string) (bool, error) {
+	raw, ok := m[key]
+	if !ok {
+		return false, nil
+	}
+	b, ok := raw.(bool)
+	if !ok {
+		return false, sp.fail(sub(sp.path, key), key, "want true or false, got %s", typeName(raw))
+	}
+	return b, nil
 }
 
 // number reads a finite number >= 0 (> 0 if positive) under key, def if absent.

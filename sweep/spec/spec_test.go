@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/job"
 )
 
 // specTestCase is a test-only Euler case with a few parameters of its own,
@@ -60,6 +61,9 @@ together = [ { flux = ["hll", "hllc"], amp = [0.2, 0.3] } ]
 refine = { nx = [16, 32, 64] }
 snapshot = true
 order_tol = 0.2
+informational = true
+error_growth_tol = 0
+order_drop_tol = 0.05
 
 [[study]]
 case = "spec-test-case"
@@ -98,6 +102,15 @@ func TestParseSpecGood(t *testing.T) {
 	a, b := s.Studies[0], s.Studies[1]
 	if a.Index != 1 || a.Line != 4 || a.Label != "first" || !a.Snapshot || a.OrderTol != 0.2 || a.DesignOrder != 0 {
 		t.Errorf("study 1 header = %+v", a)
+	}
+	if !a.Informational || a.ErrorGrowthTol != 0 || a.OrderDropTol != 0.05 {
+		t.Errorf("study 1 gate settings = %v %v %v, want true 0 0.05", a.Informational, a.ErrorGrowthTol, a.OrderDropTol)
+	}
+	if b.Informational || b.ErrorGrowthTol != job.DefaultErrorGrowthTol || b.OrderDropTol != job.DefaultOrderDropTol {
+		t.Errorf("study 2 gate settings = %v %v %v, want the defaults", b.Informational, b.ErrorGrowthTol, b.OrderDropTol)
+	}
+	if ss := s.Settings(); !ss[0].Informational || ss[0].OrderDropTol != 0.05 || ss[1].ErrorGrowthTol != job.DefaultErrorGrowthTol {
+		t.Errorf("Settings() lost the gate settings: %+v", ss)
 	}
 	if a.Fixed["t_end"] != "0.5" || a.Fixed["cfl"] != "0.8" {
 		t.Errorf("fixed not canonical: %v", a.Fixed)
@@ -194,6 +207,9 @@ func TestParseSpecErrors(t *testing.T) {
 		{"snapshot type", study("case = \"spec-test-case\"\nsnapshot = \"yes\"\n"), 5, "snapshot", "want true or false"},
 		{"design order", study("case = \"spec-test-case\"\ndesign_order = -2\n"), 5, "design_order", "out of range"},
 		{"design order zero", study("case = \"spec-test-case\"\ndesign_order = 0\n"), 5, "design_order", "> 0"},
+		{"informational type", study("case = \"spec-test-case\"\ninformational = 1\n"), 5, "informational", "want true or false"},
+		{"error growth tol", study("case = \"spec-test-case\"\nerror_growth_tol = -0.1\n"), 5, "error_growth_tol", "out of range"},
+		{"order drop tol", study("case = \"spec-test-case\"\norder_drop_tol = \"x\"\n"), 5, "order_drop_tol", "want a number"},
 		{"order tol nan", study("case = \"spec-test-case\"\norder_tol = nan\n"), 5, "order_tol", "out of range"},
 		{"norm", study("case = \"spec-test-case\"\nnorm = \"l3\"\n"), 5, "norm", "not one of l1, l2, linf"},
 		{"var", study("case = \"spec-test-case\"\nvar = \"u\"\n"), 5, "var", "not a conserved variable"},

@@ -104,10 +104,15 @@ type Study struct {
 	Refine   string
 	ExtendTo int
 	Grids    []int
-	Groups   []Group
-	Done     int
-	Failed   int
-	Pending  int
+	// Informational, ErrorGrowthTol and OrderDropTol are the study's gate
+	// settings (job.StudySettings); the writers do not show them.
+	Informational  bool
+	ErrorGrowthTol float64
+	OrderDropTol   float64
+	Groups         []Group
+	Done           int
+	Failed         int
+	Pending        int
 }
 
 // Set is the tables of one sweep: what every writer writes.
@@ -177,10 +182,12 @@ func Build(settings []job.StudySettings, jobs []job.Job, outcomes map[string]job
 	reported := map[string]bool{} // functionals any result reports, for the Options.Functional error
 	for _, k := range idx {
 		sj := byStudy[k]
-		st := Study{Index: k, Case: sj[0].Case, Tol: verify.DefaultOrderTol, TolHi: verify.DefaultOrderTol, Norm: "l1"}
+		st := Study{Index: k, Case: sj[0].Case, Tol: verify.DefaultOrderTol, TolHi: verify.DefaultOrderTol, Norm: "l1",
+			ErrorGrowthTol: job.DefaultErrorGrowthTol, OrderDropTol: job.DefaultOrderDropTol}
 		if k >= 1 && k <= len(settings) {
 			ss := settings[k-1]
 			st.Var, st.Design, st.Tol, st.TolHi, st.Functional = ss.Var, ss.DesignOrder, ss.OrderTol, ss.OrderTolHi, ss.Functional
+			st.Informational, st.ErrorGrowthTol, st.OrderDropTol = ss.Informational, ss.ErrorGrowthTol, ss.OrderDropTol
 			if ss.Label != ss.Case {
 				st.Label = ss.Label
 			}
