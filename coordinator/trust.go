@@ -91,7 +91,7 @@ func (c *Coordinator) checkBatch(msgs []jetstream.Msg) ([]job.Outcome, []jetstre
 			m.Ack()
 			continue
 		}
-		if err := c.checkSnapshot(o, d.Job); err != nil {
+		if err := c.checkSnapshot(&o, d.Job); err != nil {
 			c.refuse(m, o.Worker, err)
 			continue
 		}
@@ -138,8 +138,11 @@ func SnapshotBound(j job.Job) int64 {
 
 // checkSnapshot checks the snapshot an outcome names: the job asked for
 // one, it is the job's own object, and it is no larger than SnapshotBound.
-// An oversized object is deleted.
-func (c *Coordinator) checkSnapshot(o job.Outcome, j job.Job) error {
+// An oversized object is deleted. It records the object's digest in o
+// (whatever the worker sent there is dropped), so that a reader finds a
+// snapshot that another worker credential overwrote after this.
+func (c *Coordinator) checkSnapshot(o *job.Outcome, j job.Job) error {
+	o.SnapshotDigest = ""
 	if o.Snapshot == "" {
 		return nil
 	}
@@ -165,5 +168,6 @@ func (c *Coordinator) checkSnapshot(o job.Outcome, j job.Job) error {
 		}
 		return fmt.Errorf("job %s: snapshot of %d bytes exceeds its grid's %d", o.JobID, info.Size, bound)
 	}
+	o.SnapshotDigest = info.Digest
 	return nil
 }

@@ -12,6 +12,7 @@ import (
 
 	"fvsweep/coordinator"
 	"fvsweep/coordinator/client"
+	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
@@ -296,5 +297,51 @@ snapshot = true
 	}
 	if _, ok, _ := r.db.Outcome(j.ID); ok {
 		t.Error("the result with the oversized snapshot was stored")
+	}
+}
+
+// A snapshot overwritten after its result was stored (any worker
+// credential may write objects) is found by its digest, which the
+// coordinator records with the outcome.
+func TestReplacedSnapshotIsFound(t *testing.T) {
+	r := newRig(t, testDelivery)
+	r.addWorker(1, worker.FV2D{}.Run)
+	r.submit(`name = "digest"
+[[study]]
+case = "burgers-sine"
+fixed = { nx = 16, t_end = 0.01 }
+snapshot = true
+`)
+	r.wait("digest", 1, 20*time.Second)
+	jobs, _ := r.db.Jobs("digest")
+	o, _, _ := r.db.Outcome(jobs[0].ID)
+	if o.Snapshot == "" || !strings.HasPrefix(o.SnapshotDigest, "SHA-256=") {
+		t.Fatalf("outcome snapshot %q digest %q", o.Snapshot, o.SnapshotDigest)
+	}
+	ctx := context.Background()
+	raw, err := client.FetchField(ctx, r.nc, o.Snapshot)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The digest is the object store's own (nats.go computes it on put).
+	if err := field.CheckDigest(raw, o.SnapshotDigest); err != nil {
+		t.Fatalf("the stored snapshot fails its own digest: %v", err)
+	}
+	js, _ := jetstream.New(r.nc)
+	obs, err := js.ObjectStore(ctx, r.names.FieldBucket())
+	if err != nil {
+		t.Fatal(err)
+	}
+	junk := append([]byte(nil), raw...)
+	junk[len(junk)-1] ^= 0xff
+	if _, err := obs.PutBytes(ctx, jobs[0].ID, junk); err != nil {
+		t.Fatal(err)
+	}
+	raw, err = client.FetchField(ctx, r.nc, o.Snapshot)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := field.CheckDigest(raw, o.SnapshotDigest); err == nil || !strings.Contains(err.Error(), "replaced") {
+		t.Fatalf("a replaced snapshot passes: %v", err)
 	}
 }

@@ -345,6 +345,9 @@ func snapshotOf(row wire.Row, file string, fetch func(ref string) ([]byte, error
 		if raw, err = fetch(out.Snapshot); err != nil {
 			return field.Header{}, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
 		}
+		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
+			return field.Header{}, nil, fmt.Errorf("job %s: %w", jb.ID, err)
+		}
 		file = out.Snapshot
 	}
 	hdr, data, err := field.Decode(raw)

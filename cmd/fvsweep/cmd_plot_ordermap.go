@@ -234,8 +234,12 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, fetch func(re
 	var snaps []gridSnapshot
 	for _, r := range rows {
 		jb := jobs[r.JobID]
-		raw, err := fetch(outcomes[r.JobID].Snapshot)
+		out := outcomes[r.JobID]
+		raw, err := fetch(out.Snapshot)
 		if err != nil {
+			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
+		}
+		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
 			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
 		}
 		hdr, data, err := field.Decode(raw)

@@ -116,5 +116,9 @@ type Outcome struct {
 	Totals          map[string]Total   `json:"totals,omitempty"`
 	Error           string             `json:"error,omitempty"`    // failure reason
 	Snapshot        string             `json:"snapshot,omitempty"` // object-store name of the field
-	Kernel          string             `json:"kernel,omitempty"`   // which solver code path ran it (fv2d: "portable")
+	// SnapshotDigest is the object store's digest ("SHA-256=" and the
+	// base64url SHA-256) of the snapshot when the coordinator stored the
+	// outcome; readers check it, so a snapshot overwritten later is found.
+	SnapshotDigest string `json:"snapshot_digest,omitempty"`
+	Kernel         string `json:"kernel,omitempty"` // which solver code path ran it (fv2d: "portable")
 }
