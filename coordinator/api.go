@@ -245,6 +245,9 @@ func (c *Coordinator) onStatus(m *nats.Msg) {
 		part.Sweeps = append(part.Sweeps, s)
 	}
 	for _, w := range c.Workers() {
+		if n := len(w.Current); n > wire.StatusCurrentMax {
+			w.Current, w.CurrentMore = w.Current[:wire.StatusCurrentMax], n-wire.StatusCurrentMax
+		}
 		if !p.room(reportSize(w), next) {
 			return
 		}

@@ -103,6 +103,12 @@ func TestReportFloodIsBounded(t *testing.T) {
 	if full > 200 {
 		t.Errorf("Go heap %.0f MB after the flood, want under 200 MB", full)
 	}
+	for _, w := range st.Workers {
+		if len(w.Current) > wire.StatusCurrentMax || len(w.Current)+w.CurrentMore != b.MaxCurrent {
+			t.Fatalf("worker %s listed with %d running jobs and %d more, want %d of %d", w.ID, len(w.Current), w.CurrentMore,
+				wire.StatusCurrentMax, b.MaxCurrent)
+		}
+	}
 	if len(st.Workers) < 900 || len(st.Workers) > b.MaxWorkers {
 		t.Errorf("%d workers listed: more than the bound, or the flood did not arrive", len(st.Workers))
 	}

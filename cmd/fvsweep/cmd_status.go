@@ -137,6 +137,9 @@ func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 		for i, j := range r.Current {
 			cur[i] = fmt.Sprintf("%s/%s (%s)", j.Sweep, j.JobID[:min(8, len(j.JobID))], time.Since(j.Since).Round(time.Second))
 		}
+		if r.CurrentMore > 0 {
+			cur = append(cur, fmt.Sprintf("and %d more", r.CurrentMore))
+		}
 		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%d\t%.0f%%\t%s\n", r.ID, r.Host, r.Cores, r.Concurrency, r.Done, r.Failed,
 			100*r.Busy, strings.Join(cur, " "))
 	}

@@ -256,7 +256,15 @@ type WorkerReport struct {
 	// Solvers are the outside programs the worker offers, "NAME@VERSION"
 	// each (every worker offers fv2d); absent when none.
 	Solvers []string `json:"solvers,omitempty"`
+	// CurrentMore counts the running jobs a status reply leaves out of
+	// Current (it lists at most StatusCurrentMax per worker); 0 in reports.
+	CurrentMore int `json:"current_more,omitempty"`
 }
+
+// StatusCurrentMax is the number of a worker's running jobs a status reply
+// lists; the rest are counted in CurrentMore, so that the reply of a
+// thousand busy workers stays a few megabytes.
+const StatusCurrentMax = 16
 
 // ReportBounds bound what a coordinator takes from worker reports.
 type ReportBounds struct {
@@ -309,6 +317,8 @@ func DecodeWorkerReport(data []byte, b ReportBounds) (WorkerReport, error) {
 		return bad("host name of %d bytes", len(r.Host))
 	case r.Cores < 0 || r.Cores > b.MaxCores || r.Concurrency < 0 || r.Concurrency > b.MaxCores:
 		return bad("cores %d, concurrency %d outside 0..%d", r.Cores, r.Concurrency, b.MaxCores)
+	case r.CurrentMore != 0:
+		return bad("current_more %d: a report lists all its running jobs", r.CurrentMore)
 	case r.Done < 0 || r.Failed < 0:
 		return bad("negative counts")
 	case !(r.Busy >= 0 && r.Busy <= 1.5): // a slot's run time may overlap its report period a little
