@@ -56,6 +56,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		m.Ack()
 		return
 	}
+	w.first.Do(func() { close(w.firstJob) })
 	res, err := w.safeRun(t.ctx, run, jb)
 	out := res.Outcome
 	out.Snapshot = ""
@@ -65,7 +66,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		if t.swept.Load() {
 			m.Ack()
 		} else {
-			m.Nak()
+			w.giveBack(m)
 		}
 		return
 	}
