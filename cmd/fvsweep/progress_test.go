@@ -1,15 +1,22 @@
 package main
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"regexp"
 	"slices"
+	"strconv"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/wire"
+	"fvsweep/worker"
 )
 
 // simJob is a job of a simulated sweep: its estimated cost and how long it
@@ -245,5 +252,100 @@ func TestRoughDuration(t *testing.T) {
 		if got := roughDuration(d); got != want {
 			t.Errorf("roughDuration(%v) = %q, want %q", d, got, want)
 		}
+	}
+}
+
+// stampedLines keeps each line written to it with the time it came.
+type stampedLines struct {
+	mu    sync.Mutex
+	lines []string
+	at    []time.Time
+}
+
+func (s *stampedLines) Write(b []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	for _, l := range strings.Split(strings.TrimRight(string(b), "\n"), "\n") {
+		s.lines, s.at = append(s.lines, l), append(s.at, time.Now())
+	}
+	return len(b), nil
+}
+
+const etaSpec = `name = "eta"
+[[study]]
+label = "sine"
+case = "burgers-sine"
+fixed = { t_end = 0.2 }
+axes = { limiter = ["minmod", "mc", "vanleer"], a = [1.0, 1.5] }
+refine = { nx = [32, 64, 128] }
+`
+
+// run prints a time left that is within a factor of 2 of the time the
+// sweep then takes, on every line from 10 % of the cost on (or within a
+// tenth of the whole run near the end): its workers run a stand-in solver
+// that takes a time proportional to the job's cost.
+func TestRunTimeLeftEndToEnd(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a sweep of about 8 s")
+	}
+	dir := t.TempDir()
+	file := filepath.Join(dir, "eta.toml")
+	if err := os.WriteFile(file, []byte(etaSpec), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var c common
+	pl, err := c.loadSpec(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const slots, seconds = 2, 8.0 // the run takes about seconds on slots
+	perCost := time.Duration(seconds * slots / pl.Cost * float64(time.Second))
+	lines := &stampedLines{}
+	runHooks.progress, runHooks.every = lines, 100*time.Millisecond
+	runHooks.runners = map[string]worker.Runner{job.BuiltinSolver: worker.RunnerFunc(func(ctx context.Context, jb job.Job) (worker.Result, error) {
+		d := time.Duration(jb.Cost) * perCost
+		select {
+		case <-ctx.Done():
+			return worker.Result{}, ctx.Err()
+		case <-time.After(d):
+		}
+		return worker.Result{Outcome: job.Outcome{Status: job.StatusDone, WallS: d.Seconds(), Steps: 1, TFinal: 0.2}}, nil
+	})}
+	t.Cleanup(func() { runHooks.progress, runHooks.runners = nil, nil })
+	start := time.Now()
+	code, out := capture(t, func() int {
+		return runRun([]string{file, "--data", filepath.Join(dir, "data"), "--concurrency", strconv.Itoa(slots), "--format", "none", "--log-level", "warn"})
+	})
+	end := time.Now()
+	if code != 0 {
+		t.Fatalf("run: exit %d\n%s", code, out)
+	}
+	total := end.Sub(start).Seconds()
+	re := regexp.MustCompile(`(\d+)% of the work  (~(\d+) s|<1 s) left`)
+	checked := 0
+	for i, l := range lines.lines {
+		m := re.FindStringSubmatch(l)
+		if m == nil {
+			continue
+		}
+		if share, _ := strconv.Atoi(m[1]); share < 10 {
+			continue
+		}
+		got := 0.5
+		if m[3] != "" {
+			n, _ := strconv.Atoi(m[3])
+			got = float64(n)
+		}
+		truth := end.Sub(lines.at[i]).Seconds()
+		if r := got / truth; (r < 0.5 || r > 2) && math.Abs(got-truth) > 0.1*total {
+			t.Errorf("%q at %.1f s: %.1f s were left (ratio %.2f)", l, lines.at[i].Sub(start).Seconds(), truth, r)
+		}
+		checked++
+	}
+	if checked < 3 {
+		t.Errorf("%d lines after 10 %% of the work checked, want 3 or more:\n%s", checked, strings.Join(lines.lines, "\n"))
+	}
+	if last := lines.lines[len(lines.lines)-1]; !strings.HasPrefix(last, "eta  18/18 done  0 failed  finished after ") {
+		t.Errorf("last line %q", last)
 	}
 }
