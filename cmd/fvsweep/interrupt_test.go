@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"os"
 	"os/exec"
-	"path/filepath"
 	"regexp"
 	"sync"
 	"testing"
@@ -133,12 +132,8 @@ func TestCtrlCThenResumeInTerminal(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs the command twice in a terminal (about 15 s)")
 	}
-	dir := t.TempDir()
-	spec := filepath.Join(dir, "ctrlc.toml")
-	if err := os.WriteFile(spec, []byte(interruptSpec), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	args := []string{"run", spec, "--data", filepath.Join(dir, "data"), "--concurrency", "2", "--format", "none"}
+	spec, data := specFiles(t, interruptSpec)
+	args := []string{"run", spec, "--data", data, "--concurrency", "2", "--format", "none"}
 	running := regexp.MustCompile(`0/4 done\s+0 failed\s+2 running`)
 
 	first := startInTerminal(t, args...)

@@ -4,8 +4,6 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
-	"os"
-	"path/filepath"
 	"regexp"
 	"slices"
 	"strconv"
@@ -288,11 +286,7 @@ func TestRunTimeLeftEndToEnd(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs a sweep of about 8 s")
 	}
-	dir := t.TempDir()
-	file := filepath.Join(dir, "eta.toml")
-	if err := os.WriteFile(file, []byte(etaSpec), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	file, data := specFiles(t, etaSpec)
 	var c common
 	pl, err := c.loadSpec(file)
 	if err != nil {
@@ -314,7 +308,7 @@ func TestRunTimeLeftEndToEnd(t *testing.T) {
 	t.Cleanup(func() { runHooks.progress, runHooks.runners = nil, nil })
 	start := time.Now()
 	code, out := capture(t, func() int {
-		return runRun([]string{file, "--data", filepath.Join(dir, "data"), "--concurrency", strconv.Itoa(slots), "--format", "none", "--log-level", "warn"})
+		return runRun([]string{file, "--data", data, "--concurrency", strconv.Itoa(slots), "--format", "none", "--log-level", "warn"})
 	})
 	end := time.Now()
 	if code != 0 {
