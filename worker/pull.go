@@ -134,7 +134,7 @@ func (w *Worker) slot(ctx context.Context) {
 		delete(w.buffered, m)
 		w.mu.Unlock()
 		if ctx.Err() != nil && !w.lastDelivery(m) {
-			m.Nak()
+			w.giveBack(m)
 		} else {
 			w.handle(m, beat)
 		}

@@ -16,12 +16,26 @@ func (w *Worker) background(stop <-chan struct{}) {
 	defer rep.Stop()
 	defer hb.Stop()
 	w.report(false)
+	last := time.Now()
+	first := w.firstJob
+	var soon <-chan time.Time
 	for {
 		select {
 		case <-stop:
 			return
 		case <-rep.C:
 			w.report(false)
+			last = time.Now()
+		case <-first:
+			first = nil
+			// The first job is reported at once, so that a status shows it
+			// running (a resumed sweep) without waiting a report interval;
+			// a coordinator takes one report per wire MinEvery.
+			soon = time.After(firstReportGap - time.Since(last))
+		case <-soon:
+			soon = nil
+			w.report(false)
+			last = time.Now()
 		case now := <-hb.C:
 			w.mu.Lock()
 			for _, t := range w.tasks {
@@ -40,6 +54,10 @@ func (w *Worker) background(stop <-chan struct{}) {
 		}
 	}
 }
+
+// firstReportGap is the least time between the worker's first report and
+// the one that shows its first job (twice the default wire MinEvery).
+const firstReportGap = 100 * time.Millisecond
 
 // Stats is what a worker has done so far.
 type Stats struct {

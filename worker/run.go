@@ -60,6 +60,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		m.Ack()
 		return
 	}
+	w.first.Do(func() { close(w.firstJob) })
 	res, err := w.safeRun(t.ctx, run, jb)
 	out := res.Outcome
 	out.Snapshot = ""
@@ -69,7 +70,7 @@ func (w *Worker) handle(m jetstream.Msg, beat time.Time) {
 		if t.swept.Load() {
 			m.Ack()
 		} else {
-			m.Nak()
+			w.giveBack(m)
 		}
 		return
 	}

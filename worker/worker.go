@@ -84,10 +84,13 @@ type Worker struct {
 	queue chan jetstream.Msg // fetched, not yet taken by a slot
 	held  atomic.Int64       // buffered or running
 	freed chan struct{}      // a slot finished a job (capacity 1)
-	acks  chan pending       // outcomes published, waiting for the server
-	wg    sync.WaitGroup     // slots
-	abort context.CancelFunc
-	base  context.Context
+	// firstJob is closed when the first job starts (report it at once).
+	firstJob chan struct{}
+	first    sync.Once
+	acks     chan pending   // outcomes published, waiting for the server
+	wg       sync.WaitGroup // slots
+	abort    context.CancelFunc
+	base     context.Context
 
 	mu       sync.Mutex
 	tasks    map[uint64]*task
@@ -154,7 +157,7 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 		return nil, fmt.Errorf("jetstream: %w", err)
 	}
 	w := &Worker{cfg: cfg, nc: nc, js: js, log: cfg.Log.With("worker", cfg.ID), host: host,
-		queue: make(chan jetstream.Msg, cfg.Concurrency+cfg.Prefetch), freed: make(chan struct{}, 1),
+		queue: make(chan jetstream.Msg, cfg.Concurrency+cfg.Prefetch), freed: make(chan struct{}, 1), firstJob: make(chan struct{}),
 		acks: make(chan pending, cfg.Pending), tasks: map[uint64]*task{}, buffered: map[jetstream.Msg]time.Time{},
 		canceled: map[string]bool{}, refused: map[string]bool{}}
 	n := cfg.Names

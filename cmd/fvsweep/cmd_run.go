@@ -9,7 +9,6 @@ import (
 	"os"
 	"runtime"
 	"slices"
-	"strings"
 	"sync"
 	"time"
 
@@ -17,6 +16,7 @@ import (
 	"golang.org/x/term"
 
 	"fvsweep/coordinator"
+	"fvsweep/sweep/spec"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
@@ -25,13 +25,14 @@ const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--sol
 
 Runs a sweep on this machine in one go: an embedded NATS server, the
 coordinator and N local workers. It queues every job of SPEC that has no
-stored outcome (largest first), shows the progress (a bar with done, failed,
-running and an ETA on a terminal, a log line every few seconds otherwise),
+stored outcome (largest first), shows the progress (on a terminal a bar per
+study and one for the sweep with the time left, otherwise a line every 5 s),
 then prints the convergence tables. The sweep's name, printed first, is
 what status, table, export and cancel take.
 
-Ctrl-C stops cleanly: running jobs go back to the queue, stored outcomes
-stay, and running the same command again resumes where it stopped. Other
+Ctrl-C stops cleanly (exit status 130): running jobs go back to the queue at
+once, stored outcomes stay, and running the same command again resumes
+where it stopped. Other
 terminals can watch with 'fvsweep status' (a browser with --http, whose
 page stays up after the sweep ends until Ctrl-C) meanwhile, or add workers with 'fvsweep worker --nats URL' (the URL is in
 DIR/coordinator.url).
@@ -110,7 +111,8 @@ func runRun(args []string) int {
 	if err := wf.check(&c); err != nil {
 		return usageErr("run", "%v", err)
 	}
-	s, err := startService(&c, &sf, *listen, inner, nil)
+	prog := newSweepProgress(spec.Name, studyLabels(spec))
+	s, err := startService(&c, &sf, *listen, inner, prog.stored)
 	if err != nil {
 		return fail("run: %v", err)
 	}
@@ -135,6 +137,9 @@ func runRun(args []string) int {
 			return fail("run: %v", err)
 		}
 		defer nc.Close()
+		if runHooks.runners != nil {
+			offer = runHooks.runners
+		}
 		w, err := worker.New(wctx, nc, worker.Config{Concurrency: *conc, Runners: offer, Log: inner.Named("worker")})
 		if err != nil {
 			return fail("run: %v", err)
@@ -161,15 +166,16 @@ func runRun(args []string) int {
 	printSubmitted(rep)
 	fmt.Printf("%d local %s x %d %s; other terminals: fvsweep status %s --data %s\n",
 		*nw, plural(*nw, "worker"), *conc, plural(*conc, "slot"), rep.Sweep, c.data)
-	finished := watchProgress(ctx, s.coord, rep, os.Stderr, log)
+	rows := func() ([]wire.Row, error) { return coordinator.Rows(s.db, rep.Sweep, nil) }
+	finished := watchProgress(ctx, s.coord, prog, rows, log)
 	stop(!finished)
 	if !finished {
 		st, _ := s.coord.Status(rep.Sweep)
 		if len(st) == 1 {
-			fmt.Printf("interrupted: %d of %d jobs stored (%d failed); run the same command again to resume\n",
+			fmt.Printf("interrupted: %d of %d jobs stored (%d failed), the running ones back in the queue; run the same command again to resume\n",
 				st[0].Done+st[0].Failed, st[0].JobsTotal, st[0].Failed)
 		}
-		return 1
+		return exitInterrupted
 	}
 	if *format != "none" {
 		rows, err := coordinator.Rows(s.db, rep.Sweep, nil)
@@ -189,88 +195,78 @@ func runRun(args []string) int {
 	return 0
 }
 
+// runHooks are what tests of run change: the runners of its local workers
+// (nil: the default) and where the plain progress lines go, how often
+// (nil: standard error, a bar on a terminal).
+var runHooks struct {
+	runners  map[string]worker.Runner
+	progress io.Writer
+	every    time.Duration
+}
+
+// progressEvery is the interval of the plain progress lines.
+const progressEvery = 5 * time.Second
+
 // watchProgress shows the sweep's progress until all its jobs have an
-// outcome (true) or ctx is done (false).
-func watchProgress(ctx context.Context, coord *coordinator.Coordinator, rep wire.SubmitReply, out *os.File, log hclog.Logger) bool {
-	tty := term.IsTerminal(int(out.Fd()))
-	every := 5 * time.Second // between log lines
-	if tty {
-		every = 200 * time.Millisecond
+// outcome (true) or ctx is done (false). p follows the jobs (load is done
+// here); rows reads them from the store.
+func watchProgress(ctx context.Context, coord *coordinator.Coordinator, p *sweepProgress, rows func() ([]wire.Row, error), log hclog.Logger) bool {
+	all, err := rows()
+	if err != nil {
+		log.Error("progress", "error", err)
+		return false
 	}
-	// The status is looked at often, so that the command ends soon after
-	// the last outcome whatever the log interval.
+	p.load(all)
+	p.setRunning(coord.Workers(), time.Now())
+	var view progressView
+	switch out := runHooks.progress; {
+	case out != nil:
+		view = &lineView{out: out, name: p.name, every: runHooks.every}
+	case term.IsTerminal(int(os.Stderr.Fd())):
+		view = newBarView(os.Stderr, p.name, p.labels, p.snapshot())
+	default:
+		view = &lineView{out: os.Stderr, name: p.name, every: progressEvery}
+	}
+	// The state is looked at often, so that the command ends soon after
+	// the last outcome whatever the interval of the lines.
 	tick := time.NewTicker(200 * time.Millisecond)
 	defer tick.Stop()
-	p := progress{start: time.Now(), base: rep.Stored - rep.Retried}
 	for {
-		st, err := coord.Status(rep.Sweep)
-		if err != nil || len(st) != 1 {
-			log.Error("progress", "error", err)
-			return false
-		}
-		s := st[0]
-		finished := s.Done+s.Failed >= s.JobsTotal
-		if tty {
-			fmt.Fprint(out, "\r"+p.bar(s, termWidth(out))+"\x1b[K")
-			if finished {
-				fmt.Fprintln(out)
+		p.setRunning(coord.Workers(), time.Now())
+		s := p.snapshot()
+		if !s.sweep.finished() {
+			// The store is the authority: an outcome it holds that did not
+			// come through the coordinator's hook is taken from it.
+			if st, err := coord.Status(p.name); err == nil && len(st) == 1 && st[0].Done+st[0].Failed >= st[0].JobsTotal {
+				if all, err := rows(); err == nil {
+					p.load(all)
+					s = p.snapshot()
+				}
 			}
-		} else if finished || time.Since(p.logged) >= every {
-			log.Info("progress", "sweep", s.Sweep, "done", s.Done, "failed", s.Failed, "running", s.Running,
-				"queued", s.Queued, "of", s.JobsTotal, "eta", p.eta(s))
-			p.logged = time.Now()
 		}
-		if finished {
+		if s.sweep.finished() {
+			view.end(s, true)
 			return true
 		}
+		view.show(s)
 		select {
 		case <-ctx.Done():
-			if tty {
-				fmt.Fprintln(out)
-			}
+			view.end(p.snapshot(), false)
 			return false
 		case <-tick.C:
 		}
 	}
 }
 
-// progress computes the bar and the ETA of a sweep.
-type progress struct {
-	start  time.Time
-	base   int // outcomes stored before this run
-	logged time.Time
-}
+// exitInterrupted is run's exit status when a signal stopped the sweep
+// (128 + SIGINT, as shells report a command that Ctrl-C ended).
+const exitInterrupted = 130
 
-// eta extrapolates the rate of this run's outcomes so far. Jobs are run
-// largest first, so the estimate is pessimistic early on.
-func (p *progress) eta(s wire.SweepStatus) string {
-	got := s.Done + s.Failed - p.base
-	left := s.JobsTotal - s.Done - s.Failed
-	if left == 0 {
-		return "0s"
+// studyLabels are the labels of the plan's studies, by index - 1.
+func studyLabels(pl *spec.Plan) []string {
+	out := make([]string, len(pl.Studies))
+	for i, st := range pl.Studies {
+		out[i] = st.Label
 	}
-	if got <= 0 {
-		return "?"
-	}
-	el := time.Since(p.start)
-	return (time.Duration(float64(el) / float64(got) * float64(left))).Round(time.Second).String()
-}
-
-func (p *progress) bar(s wire.SweepStatus, width int) string {
-	text := fmt.Sprintf(" %d/%d done  %d failed  %d running  ETA %s", s.Done, s.JobsTotal, s.Failed, s.Running, p.eta(s))
-	n := max(10, min(40, width-len(text)-3))
-	filled := 0
-	if s.JobsTotal > 0 {
-		filled = n * (s.Done + s.Failed) / s.JobsTotal
-	}
-	return "[" + strings.Repeat("#", filled) + strings.Repeat(".", n-filled) + "]" + text
-}
-
-func termWidth(f io.Writer) int {
-	if ff, ok := f.(*os.File); ok {
-		if w, _, err := term.GetSize(int(ff.Fd())); err == nil && w > 0 {
-			return w
-		}
-	}
-	return 80
+	return out
 }
