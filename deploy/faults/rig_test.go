@@ -263,14 +263,15 @@ func (r *rig) waitDone(name, url string, n int, within time.Duration) wire.Sweep
 // observer counts every outcome published on the results subjects (core
 // NATS sees each publish, including those the stream drops as duplicates).
 type observer struct {
-	mu   sync.Mutex
-	seen map[string][]job.Outcome
-	nc   *nats.Conn
+	mu    sync.Mutex
+	seen  map[string][]job.Outcome
+	first map[string]time.Time // when each job's first outcome was seen
+	nc    *nats.Conn
 }
 
 func observe(t *testing.T, url string, opts ...nats.Option) *observer {
 	t.Helper()
-	o := &observer{seen: map[string][]job.Outcome{}}
+	o := &observer{seen: map[string][]job.Outcome{}, first: map[string]time.Time{}}
 	var err error
 	o.nc, err = nats.Connect(url, append(opts, nats.MaxReconnects(-1), nats.ReconnectWait(200*time.Millisecond))...)
 	if err != nil {
@@ -283,6 +284,9 @@ func observe(t *testing.T, url string, opts ...nats.Option) *observer {
 			return
 		}
 		o.mu.Lock()
+		if len(o.seen[out.JobID]) == 0 {
+			o.first[out.JobID] = time.Now()
+		}
 		o.seen[out.JobID] = append(o.seen[out.JobID], out)
 		o.mu.Unlock()
 	})
@@ -297,6 +301,21 @@ func (o *observer) results(id string) []job.Outcome {
 	o.mu.Lock()
 	defer o.mu.Unlock()
 	return append([]job.Outcome(nil), o.seen[id]...)
+}
+
+// workSince is the run time (wall_s of the first outcome) of the jobs
+// whose first outcome was seen after t: work that had to be done after t
+// whatever happened before.
+func (o *observer) workSince(t time.Time) time.Duration {
+	o.mu.Lock()
+	defer o.mu.Unlock()
+	var s float64
+	for id, at := range o.first {
+		if at.After(t) {
+			s += o.seen[id][0].WallS
+		}
+	}
+	return time.Duration(s * float64(time.Second))
 }
 
 // jobs is the number of jobs with at least one outcome published.
