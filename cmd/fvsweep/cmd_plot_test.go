@@ -151,7 +151,7 @@ func TestPlotErrors(t *testing.T) {
 		code int
 		want string
 	}{
-		{[]string{"pics"}, 2, "want SWEEP and one of"},
+		{[]string{"pics"}, 2, "missing PLOT"},
 		{[]string{"pics", "histogram", "--out", out}, 2, `unknown plot "histogram"`},
 		{[]string{"pics", "convergence"}, 2, "--out FILE is required"},
 		{[]string{"pics", "convergence", "--out", "x.gif"}, 2, `unknown image format ".gif"`},
@@ -159,7 +159,7 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "field", "--out", out, "--cut", "z"}, 2, `--cut "z"`},
 		{[]string{"pics", "convergence", "--out", out, "--x", "work"}, 2, "--x is for the cost plot"},
 		{[]string{"pics", "cost", "--out", out, "--x", "wall"}, 2, `--x "wall": want cpu or work`},
-		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 1, `norm "l7"`},
+		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 2, `--norm "l7": want l1, l2 or linf`},
 		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
 		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
@@ -211,7 +211,7 @@ func TestReportCommand(t *testing.T) {
 		want string
 	}{
 		{[]string{"pics", "--data", dir}, "--out DIR is required"},
-		{[]string{"--data", dir, "--out", out}, "want one SWEEP"},
+		{[]string{"--data", dir, "--out", out}, "missing SWEEP"},
 		{[]string{"../pics", "--data", dir, "--out", out}, "no path separators"},
 	} {
 		stderr.Reset()

@@ -10,34 +10,37 @@ import (
 	"fvsweep/worker"
 )
 
-const workerUsage = `usage: fvsweep worker --nats URL [--concurrency N]
+// maxSlots is the most jobs a worker runs at once: a coordinator takes no
+// report that lists more.
+var maxSlots = wire.DefaultReportBounds().MaxCurrent
 
-Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
+func init() {
+	register(command{name: "worker", run: runWorker,
+		summary: "run jobs from a coordinator's queue",
+		about: `Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
 serve'), N at a time, and sends back their outcomes. A worker may join or
 leave at any time. The first SIGINT or SIGTERM drains it: it takes no new
 jobs and finishes the running ones; a second one stops those too and returns
-them to the queue.
-
-flags:
-  --concurrency N    jobs run at once, at most 256 (default: the number of cores)
-  --id NAME          worker name in status and results (default host-pid-random)
-` + commonUsage
-
-func init() {
-	register(command{name: "worker", summary: "run jobs from a coordinator's queue", run: runWorker})
+them to the queue. Losing the server and finding it again are logged.`,
+		flags: flagSet([]flagDoc{
+			{"slots", "N", "jobs run at once, 1 to 256", "the number of cores"},
+			{"id", "NAME", "worker name in status and results", "host-pid-random"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep worker --nats nats://10.0.0.5:4222 --token-file worker.key",
+			"fvsweep worker --data fvsweep-data --slots 4",
+		}})
 }
 
 func runWorker(args []string) int {
 	fs := flag.NewFlagSet("worker", flag.ContinueOnError)
 	var c common
 	c.register(fs)
-	conc := fs.Int("concurrency", runtime.NumCPU(), "")
+	conc := intFlag(fs, "slots", min(runtime.NumCPU(), maxSlots), 1, maxSlots)
+	alias(fs, "concurrency", "slots")
 	id := fs.String("id", "", "")
-	if _, code, done := parseCommand("worker", workerUsage, fs, args, func(n int) bool { return n == 0 }); done {
+	if _, code, done := parseCommand("worker", fs, args); done {
 		return code
-	}
-	if *conc < 1 {
-		return usageErr("worker", "--concurrency %d: want at least 1", *conc)
 	}
 	log, err := c.logger("fvsweep")
 	if err != nil {
