@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"os"
 
 	"github.com/hashicorp/go-hclog"
 	natsserver "github.com/nats-io/nats-server/v2/server"
@@ -63,9 +64,18 @@ type service struct {
 // listen (unless c.nats is set), connects, and runs a coordinator.
 //
 // tune, if given, adjusts the coordinator's configuration (boundFlags.apply).
-func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome), tune ...func(*coordinator.Config)) (*service, error) {
+func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome), tune ...func(*coordinator.Config)) (s *service, err error) {
 	if err := sf.check(); err != nil {
 		return nil, err
+	}
+	// A data directory made here for a service that then fails to start
+	// is removed again: it holds nothing but empty files.
+	if _, serr := os.Stat(c.data); errors.Is(serr, os.ErrNotExist) {
+		defer func() {
+			if err != nil {
+				os.RemoveAll(c.data)
+			}
+		}()
 	}
 	db, err := store.Open(c.dir().DB(), store.Options{})
 	if errors.Is(err, store.ErrInUse) {
@@ -74,7 +84,7 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	if err != nil {
 		return nil, err
 	}
-	s := &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
+	s = &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
 	o := c.dialOptions(c.nats, "fvsweep coordinator", wire.RoleOperator)
 	if c.nats == "" {
 		s.srv, err = server.Start(server.Options{Dir: c.dir().NATS(), Listen: listen, Log: log,
