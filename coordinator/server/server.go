@@ -151,6 +151,6 @@ func (s serverLog) Fatalf(f string, v ...any) {
 	default:
 	}
 }
-func (s serverLog) Errorf(f string, v ...any)  { s.l.Error(fmt.Sprintf(f, v...)) }
-func (s serverLog) Debugf(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }
-func (s serverLog) Tracef(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }
+func (s serverLog) Errorf(f string, v ...any) { s.l.Error(fmt.Sprintf(f, v...)) }
+func (s serverLog) Debugf(f string, v ...any) { s.l.Trace(fmt.Sprintf(f, v...)) }
+func (s serverLog) Tracef(f string, v ...any) { s.l.Trace(fmt.Sprintf(f, v...)) }
