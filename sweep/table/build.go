@@ -72,6 +72,7 @@ type Group struct {
 	GCI []FunctionalGCI
 
 	functionals []string // Study.Functionals, the names of GridRow.Phi
+	kinds       map[string]fv2d.Kind // of the case's parameters, for JSON; nil for a case fv2d does not know
 }
 
 // Study is the convergence tables of one [[study]] of a spec.
@@ -218,10 +219,11 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 	}
 	sort.Strings(order)
 	varying := varyingKeys(byGroup)
+	kinds := paramKinds(st.Case)
 	seenVar, otherVars := false, map[string]bool{}
 	for _, ident := range order {
 		gj := byGroup[ident]
-		g := Group{Ident: ident, functionals: st.Functionals}
+		g := Group{Ident: ident, functionals: st.Functionals, kinds: kinds}
 		for _, j := range gj {
 			nan := math.NaN()
 			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]), Status: "pending",
