@@ -71,7 +71,7 @@ type Group struct {
 	// the group's finished grids, in the order of Study.Functionals.
 	GCI []FunctionalGCI
 
-	functionals []string // Study.Functionals, the names of GridRow.Phi
+	functionals []string             // Study.Functionals, the names of GridRow.Phi
 	kinds       map[string]fv2d.Kind // of the case's parameters, for JSON; nil for a case fv2d does not know
 }
 
