@@ -86,6 +86,7 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	}
 	s = &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
 	o := c.dialOptions(c.nats, "fvsweep coordinator", wire.RoleOperator)
+	o.Log = log.Named("nats")
 	if c.nats == "" {
 		s.srv, err = server.Start(server.Options{Dir: c.dir().NATS(), Listen: listen, Log: log,
 			Access: sf.access(c), TLS: c.tls})

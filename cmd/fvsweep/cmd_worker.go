@@ -6,6 +6,7 @@ import (
 	"runtime"
 	"time"
 
+	"fvsweep/coordinator/client"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
@@ -50,7 +51,9 @@ func runWorker(args []string) int {
 	if url == "" {
 		return usageErr("worker", "no NATS URL: give --nats URL or set FVSWEEP_NATS")
 	}
-	nc, err := c.dial(url, "fvsweep worker", wire.RoleWorker)
+	o := c.dialOptions(url, "fvsweep worker", wire.RoleWorker)
+	o.Log = log.Named("nats")
+	nc, err := client.Dial(o)
 	if err != nil {
 		return fail("worker: %v", err)
 	}
