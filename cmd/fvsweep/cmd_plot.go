@@ -120,8 +120,11 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case *costX != "":
 		axis = report.CostAxis(*costX)
 	}
-	if kind != "order-map" && (*group != "" || *coarse != 0) {
-		return bad("--group and --coarse are for the order map")
+	if kind != "order-map" && *coarse != 0 {
+		return bad("--coarse is for the order map")
+	}
+	if kind == "field" && *group != "" {
+		return bad("--group is for the convergence, cost and order-map plots")
 	}
 	atV := math.NaN()
 	if *at != "" {
@@ -154,7 +157,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case "field":
 		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
 	default:
-		d, notes, err = studyPlot(sd, kind, *studyN, jf.options(), axis)
+		d, notes, err = studyPlot(sd, kind, *studyN, *group, jf.options(), axis)
 	}
 	if err != nil {
 		return failed(err)
@@ -170,7 +173,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 // studyPlot prepares the convergence or cost plot of one study.
-func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
+func studyPlot(sd *sweepData, kind string, n int, group string, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
 	set, err := sd.tables(o)
 	studies := set.Studies
 	if err != nil {
@@ -204,6 +207,11 @@ func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.C
 	if !st.HasErrors() {
 		return nil, nil, fmt.Errorf("study %d has no errors to plot yet (no finished grid, or no exact solution)", st.Index)
 	}
+	sub, err := pickGroups(*st, group)
+	if err != nil {
+		return nil, nil, err
+	}
+	st = &sub
 	var f *plots.Figure
 	if kind == "convergence" {
 		f, err = report.ConvergenceFigure(*st)
@@ -408,4 +416,57 @@ func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
 // in --data, opened just for this.
 func fetchSnapshot(c *common, ref string) ([]byte, error) {
 	return datadir.Snapshot(context.Background(), c.dir(), c.dialOptions(c.nats, "fvsweep plot", wire.RoleReader), ref)
+}
+
+// pickGroups is st with only the groups whose parameters match every k=v of
+// sel (commas or spaces between; "" keeps all). More groups than there are
+// line colours is an error that names the parameters telling them apart,
+// so that no colour repeats within a plot.
+func pickGroups(st table.Study, sel string) (table.Study, error) {
+	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	var kept []table.Group
+	for _, g := range st.Groups {
+		match := true
+		for _, p := range pairs {
+			k, v, ok := strings.Cut(p, "=")
+			if !ok || g.Params[k] != v {
+				match = false
+			}
+		}
+		if match {
+			kept = append(kept, g)
+		}
+	}
+	if len(kept) == 0 {
+		return st, fmt.Errorf("--group %q: no group of study %d matches", sel, st.Index)
+	}
+	if len(kept) > plots.Colours() {
+		return st, fmt.Errorf("study %d: %d groups to draw, more than the %d colours of one plot; pick at most %d with --group k=v,... (they differ in %s)",
+			st.Index, len(kept), plots.Colours(), plots.Colours(), differing(kept))
+	}
+	st.Groups = kept
+	return st, nil
+}
+
+// differing is "k (v1, v2, ...); ..." of the parameters whose values differ
+// among groups.
+func differing(groups []table.Group) string {
+	var keys []string
+	for k := range groups[0].Params {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	var parts []string
+	for _, k := range keys {
+		var vals []string
+		for _, g := range groups {
+			if !slices.Contains(vals, g.Params[k]) {
+				vals = append(vals, g.Params[k])
+			}
+		}
+		if len(vals) > 1 && k != "nx" && k != "ny" {
+			parts = append(parts, k+" ("+strings.Join(vals, ", ")+")")
+		}
+	}
+	return strings.Join(parts, "; ")
 }

@@ -14,6 +14,7 @@ import (
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
+	"fvsweep/sweep/table"
 	"fvsweep/worker"
 
 	"fvsweep/coordinator/datadir"
@@ -218,5 +219,34 @@ func TestReportCommand(t *testing.T) {
 		if code := runReport(tc.args, &stdout, &stderr); code != 2 || !strings.Contains(stderr.String(), tc.want) {
 			t.Errorf("report %v: exit %d, %q; want %q", tc.args, code, stderr.String(), tc.want)
 		}
+	}
+}
+
+// A plot never draws more groups than there are line colours: a study
+// with more is refused with the parameters that tell them apart, and
+// --group picks a few by k=v.
+func TestPickGroups(t *testing.T) {
+	st := table.Study{Index: 2}
+	for _, flux := range []string{"hll", "hllc", "roe", "rusanov"} {
+		for _, lim := range []string{"minmod", "mc", "vanleer"} {
+			st.Groups = append(st.Groups, table.Group{Params: map[string]string{"flux": flux, "limiter": lim, "nx": "16"}})
+		}
+	}
+	_, err := pickGroups(st, "")
+	if err == nil || !strings.Contains(err.Error(), "12 groups to draw, more than the 6 colours") ||
+		!strings.Contains(err.Error(), "flux (hll, hllc, roe, rusanov); limiter (minmod, mc, vanleer)") {
+		t.Errorf("12 groups: %v", err)
+	}
+	sub, err := pickGroups(st, "flux=roe")
+	if err != nil || len(sub.Groups) != 3 {
+		t.Fatalf("--group flux=roe: %d groups, %v; want 3", len(sub.Groups), err)
+	}
+	for _, g := range sub.Groups {
+		if g.Params["flux"] != "roe" {
+			t.Errorf("--group flux=roe kept %v", g.Params)
+		}
+	}
+	if _, err := pickGroups(st, "flux=exact"); err == nil || !strings.Contains(err.Error(), "no group of study 2 matches") {
+		t.Errorf("--group flux=exact: %v", err)
 	}
 }
