@@ -2,7 +2,7 @@
 # add-worker.sh: turn a spare machine into an fvsweep worker in one command.
 #
 #   deploy/add-worker.sh HOST [--nats URL] [--token-file F] [--user NAME]
-#                             [--binary PATH] [--concurrency N]
+#                             [--binary PATH] [--slots N]
 #
 # HOST is anything ssh accepts (user@host, an alias of ~/.ssh/config). The
 # account there needs sudo. The script copies the fvsweep binary, the worker
@@ -15,13 +15,14 @@
 #                     of "fvsweep serve", which takes the bare token)
 #   --binary PATH     the fvsweep binary to copy (default: build one from this
 #                     checkout, static, for linux/amd64 or $GOARCH)
-#   --concurrency N   jobs at once on HOST (default: its number of cores)
+#   --slots N         jobs at once on HOST (default: its number of cores);
+#                     --concurrency N, its old name, is deprecated
 set -euo pipefail
 
 here="$(cd "$(dirname "$0")" && pwd)"
 die() { echo "add-worker: $*" >&2; exit 1; }
 
-[ $# -ge 1 ] || die "usage: add-worker.sh HOST [--nats URL] [--token-file F] [--user NAME] [--binary PATH] [--concurrency N]"
+[ $# -ge 1 ] || die "usage: add-worker.sh HOST [--nats URL] [--token-file F] [--user NAME] [--binary PATH] [--slots N]"
 host="$1"; shift
 case "$host" in -*) die "first argument must be the host, got $host" ;; esac
 
@@ -29,7 +30,7 @@ nats="${FVSWEEP_NATS:-}"
 token="${FVSWEEP_TOKEN:-}"
 user="worker"
 binary=""
-concurrency=""
+slots=""
 while [ $# -gt 0 ]; do
 	case "$1" in
 	--nats) [ $# -ge 2 ] || die "--nats needs a URL"; nats="$2"; shift 2 ;;
@@ -39,10 +40,10 @@ while [ $# -gt 0 ]; do
 		token="$(tr -d ' \t\r\n' <"$2")"; shift 2 ;;
 	--user) [ $# -ge 2 ] || die "--user needs a name"; user="$2"; shift 2 ;;
 	--binary) [ $# -ge 2 ] || die "--binary needs a path"; binary="$2"; shift 2 ;;
-	--concurrency)
-		[ $# -ge 2 ] || die "--concurrency needs a number"
-		case "$2" in '' | *[!0-9]*) die "--concurrency $2: not a positive number" ;; esac
-		concurrency="$2"; shift 2 ;;
+	--slots | --concurrency)
+		[ $# -ge 2 ] || die "$1 needs a number"
+		case "$2" in '' | *[!0-9]*) die "$1 $2: not a positive number" ;; esac
+		slots="$2"; shift 2 ;;
 	*) die "unknown option $1" ;;
 	esac
 done
@@ -70,8 +71,8 @@ fi
 } >"$work/fvsweep.env"
 
 unit="$work/fvsweep-worker.service"
-if [ -n "$concurrency" ]; then
-	sed "s|^ExecStart=/usr/local/bin/fvsweep worker\$|& --concurrency $concurrency|" \
+if [ -n "$slots" ]; then
+	sed "s|^ExecStart=/usr/local/bin/fvsweep worker\$|& --slots $slots|" \
 		"$here/systemd/fvsweep-worker.service" >"$unit"
 else
 	cp "$here/systemd/fvsweep-worker.service" "$unit"

@@ -55,7 +55,7 @@ func TestAddWorkerInstallsAndStarts(t *testing.T) {
 		t.Fatal(err)
 	}
 	out, err := addWorker(t, env, "spare-7", "--nats", "nats://a:4222,nats://b:4222",
-		"--token-file", tok, "--binary", bin, "--concurrency", "6")
+		"--token-file", tok, "--binary", bin, "--slots", "6")
 	if err != nil {
 		t.Fatalf("add-worker.sh: %v\n%s", err, out)
 	}
@@ -76,7 +76,7 @@ func TestAddWorkerInstallsAndStarts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(unit), "\nExecStart=/usr/local/bin/fvsweep worker --concurrency 6\n") ||
+	if !strings.Contains(string(unit), "\nExecStart=/usr/local/bin/fvsweep worker --slots 6\n") ||
 		!strings.Contains(string(unit), "\nEnvironmentFile=/etc/fvsweep/fvsweep.env\n") {
 		t.Errorf("unit:\n%s", unit)
 	}
@@ -110,6 +110,7 @@ func TestAddWorkerRefusesIncompleteArguments(t *testing.T) {
 		{[]string{"h", "--token-file", "/nonexistent/token"}, "--token-file /nonexistent/token: cannot read it"},
 		{[]string{"h", "--nats", "nats://a:4222"}, "no worker token"},
 		{[]string{"h"}, "no NATS URL"},
+		{[]string{"h", "--slots", "x2"}, "--slots x2: not a positive number"},
 		{[]string{"h", "--concurrency", "x2"}, "--concurrency x2: not a positive number"},
 		{[]string{"h", "--frobnicate"}, "unknown option --frobnicate"},
 	} {

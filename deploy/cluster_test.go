@@ -178,7 +178,7 @@ func TestClusterConfigRunsASweep(t *testing.T) {
 [[study]]
 case = "burgers-sine"
 fixed = { t_end = 0.05 }
-axes = { limiter = ["minmod", "vanleer"] }
+cross = { limiter = ["minmod", "vanleer"] }
 refine = { nx = [16, 32] }
 [[study]]
 case = "burgers-sine"

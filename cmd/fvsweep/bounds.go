@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"math"
 	"time"
 
 	"fvsweep/coordinator"
@@ -23,29 +24,29 @@ type boundFlags struct {
 	reconcile time.Duration
 }
 
-const boundUsage = `  --max-functionals N  functionals in one result (default 64)
-  --max-vars N         error norms and totals in one result (default 16)
-  --max-text N         bytes of a result's error text (default 2048)
-  --max-steps N        steps a result may state (default 1000000000)
-  --max-wall D         wall time a result may state (default 720h)
-  --max-report SIZE    bytes of a worker report (default 32KiB)
-  --max-workers N      workers known at once (default 2048)
-  --report-every-max D longest report interval a worker may state; a worker
-                       expires 3 intervals after its last report (default 1m)
-  --job-bytes SIZE     bytes the jobs stream holds (default 1GiB)
-  --result-bytes SIZE  bytes the results stream holds (default 1GiB)
-  --field-bytes SIZE   bytes the snapshot bucket holds (default 16GiB)
-  --reconcile D        how often jobs with no message and no outcome are
-                       looked for and queued again (default 1m; 0: never)
-`
+// boundDocs document the flags of boundFlags.
+var boundDocs = []flagDoc{
+	{"max-functionals", "N", "functionals in one result", "64"},
+	{"max-vars", "N", "error norms and totals in one result", "16"},
+	{"max-text", "N", "bytes of a result's error text", "2048"},
+	{"max-steps", "N", "steps a result may state", "1000000000"},
+	{"max-wall", "D", "wall time a result may state", "720h"},
+	{"max-report", "SIZE", "bytes of a worker report, 1KiB to 1MiB", "32KiB"},
+	{"max-workers", "N", "workers known at once", "2048"},
+	{"report-every-max", "D", "longest report interval a worker may state, at least 2s; a worker expires 3 intervals after its last report", "1m"},
+	{"job-bytes", "SIZE", "bytes the jobs stream holds, at least 1MiB", "1GiB"},
+	{"result-bytes", "SIZE", "bytes the results stream holds, at least 1MiB", "1GiB"},
+	{"field-bytes", "SIZE", "bytes the snapshot bucket holds, at least 1MiB", "16GiB"},
+	{"reconcile", "D", "how often jobs with no message and no outcome are looked for and queued again (0: never)", "1m"},
+}
 
 func (f *boundFlags) register(fs *flag.FlagSet) {
 	f.out, f.rep = job.DefaultBounds(), wire.DefaultReportBounds()
-	fs.IntVar(&f.out.MaxFunctionals, "max-functionals", f.out.MaxFunctionals, "")
-	fs.IntVar(&f.out.MaxVars, "max-vars", f.out.MaxVars, "")
-	fs.IntVar(&f.out.MaxText, "max-text", f.out.MaxText, "")
-	fs.IntVar(&f.out.MaxSteps, "max-steps", f.out.MaxSteps, "")
-	fs.DurationVar(&f.out.MaxWall, "max-wall", f.out.MaxWall, "")
+	fs.Var(intRange(&f.out.MaxFunctionals, 1, math.MaxInt), "max-functionals", "")
+	fs.Var(intRange(&f.out.MaxVars, 1, math.MaxInt), "max-vars", "")
+	fs.Var(intRange(&f.out.MaxText, 1, math.MaxInt), "max-text", "")
+	fs.Var(intRange(&f.out.MaxSteps, 1, math.MaxInt), "max-steps", "")
+	durationVar(fs, &f.out.MaxWall, "max-wall", f.out.MaxWall, time.Second, math.MaxInt64)
 	fs.Func("max-report", "", func(s string) error {
 		n, err := spec.ParseBytes(s)
 		if err == nil && (n < 1024 || n > wire.MaxMessage) {
@@ -54,12 +55,12 @@ func (f *boundFlags) register(fs *flag.FlagSet) {
 		f.rep.MaxBytes = int(n)
 		return err
 	})
-	fs.IntVar(&f.rep.MaxWorkers, "max-workers", f.rep.MaxWorkers, "")
-	fs.DurationVar(&f.rep.MaxEvery, "report-every-max", f.rep.MaxEvery, "")
+	fs.Var(intRange(&f.rep.MaxWorkers, 1, math.MaxInt), "max-workers", "")
+	durationVar(fs, &f.rep.MaxEvery, "report-every-max", f.rep.MaxEvery, 2*time.Second, math.MaxInt64)
 	fs.StringVar(&f.jobBytes, "job-bytes", "1GiB", "")
 	fs.StringVar(&f.resBytes, "result-bytes", "1GiB", "")
 	fs.StringVar(&f.objBytes, "field-bytes", "16GiB", "")
-	fs.DurationVar(&f.reconcile, "reconcile", time.Minute, "")
+	durationVar(fs, &f.reconcile, "reconcile", time.Minute, 0, math.MaxInt64)
 }
 
 // apply checks the flags and returns a tune function for the coordinator's

@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"math"
 	"os"
 	"strconv"
 	"time"
@@ -21,28 +22,15 @@ type serverFlags struct {
 	maxDeliver                          int
 }
 
-const serverUsage = `  --worker-token-file FILE
-                     with the embedded server: the workers' secret, which may pull
-                     jobs and send outcomes, snapshots and reports, nothing else
-                     (default $FVSWEEP_WORKER_TOKEN_FILE, else $FVSWEEP_WORKER_TOKEN)
-  --submit-token-file FILE
-                     the submitters' secret: submit, cancel, forget and read
-                     (default $FVSWEEP_SUBMIT_TOKEN_FILE, else $FVSWEEP_SUBMIT_TOKEN)
-  --read-token-file FILE
-                     the readers' secret: status, table, export, report, plots and
-                     the status page (default $FVSWEEP_READ_TOKEN_FILE, else
-                     $FVSWEEP_READ_TOKEN). Each role's secret needs --token and
-                     differs from the others; --worker-token T, --submit-token T and
-                     --read-token T work too, with a warning
-  --tls-cert FILE, --tls-key FILE
-                     with the embedded server: serve clients over TLS; --tls-ca
-                     FILE then requires client certificates signed by that CA
-  --replicas N       replicas of every stream and bucket: 1 on one server, 3 on
-                     a three-node cluster (default 1, or $FVSWEEP_REPLICAS)
-  --ack-wait D       how long a job may run without a heartbeat from its worker
-                     before it goes to another (default 30s)
-  --max-deliver N    deliveries of a job before it is recorded as failed (default 3)
-`
+// serverDocs document the flags of serverFlags.
+var serverDocs = []flagDoc{
+	{"worker-token-file", "FILE", "with the embedded server: the workers' secret, which may pull jobs and send outcomes, snapshots and reports, nothing else", "$FVSWEEP_WORKER_TOKEN_FILE, else $FVSWEEP_WORKER_TOKEN"},
+	{"submit-token-file", "FILE", "the submitters' secret: submit, cancel, forget and read", "$FVSWEEP_SUBMIT_TOKEN_FILE, else $FVSWEEP_SUBMIT_TOKEN"},
+	{"read-token-file", "FILE", "the readers' secret: status, table, export, report, plots and the status page. Each role's secret needs --token-file and differs from the others; --worker-token T, --submit-token T and --read-token T work too, with a warning", "$FVSWEEP_READ_TOKEN_FILE, else $FVSWEEP_READ_TOKEN"},
+	{"replicas", "N", "replicas of every stream and bucket, 1 to 5: 1 on one server, 3 on a three-node cluster", "1, or $FVSWEEP_REPLICAS"},
+	{"ack-wait", "D", "how long a job may run without a heartbeat from its worker before it goes to another, at least 100ms", "30s"},
+	{"max-deliver", "N", "deliveries of a job before it is recorded as failed", "3"},
+}
 
 // defaultServerFlags are the values register gives without flags.
 func defaultServerFlags() *serverFlags {
@@ -59,9 +47,11 @@ func (f *serverFlags) register(fs *flag.FlagSet) {
 	registerSecret(fs, &f.workerToken, "worker-token", server.SecretEnv(wire.RoleWorker))
 	registerSecret(fs, &f.submitToken, "submit-token", server.SecretEnv(wire.RoleSubmitter))
 	registerSecret(fs, &f.readToken, "read-token", server.SecretEnv(wire.RoleReader))
-	fs.IntVar(&f.replicas, "replicas", replicas, "")
-	fs.DurationVar(&f.ackWait, "ack-wait", 30*time.Second, "")
-	fs.IntVar(&f.maxDeliver, "max-deliver", 3, "")
+	f.replicas = replicas
+	fs.Var(intRange(&f.replicas, 1, 5), "replicas", "")
+	durationVar(fs, &f.ackWait, "ack-wait", 30*time.Second, 100*time.Millisecond, math.MaxInt64)
+	f.maxDeliver = 3
+	fs.Var(intRange(&f.maxDeliver, 1, math.MaxInt), "max-deliver", "")
 }
 
 // check refuses values the server would refuse later, less clearly.

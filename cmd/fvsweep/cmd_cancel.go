@@ -9,23 +9,27 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const cancelUsage = `usage: fvsweep cancel SWEEP
-
-Cancels a sweep: its queued jobs are removed, workers stop its running jobs,
-and their outcomes are not waited for. Outcomes already stored stay. With
-no coordinator running, the store in --data is marked and the coordinator
-applies the cancel when it starts. Submitting the spec again resumes it.
-` + commonUsage
-
 func init() {
-	register(command{name: "cancel", summary: "cancel a sweep", run: runCancel})
+	register(command{name: "cancel", args: "SWEEP", run: runCancel,
+		summary: "cancel a sweep",
+		about: `Cancels a sweep: its queued jobs are removed, workers stop its running jobs,
+and their outcomes are not waited for. Outcomes already stored stay. With
+no server named and no coordinator running, the store in --data is marked
+and the coordinator applies the cancel when it starts; a server named with
+--nats that does not answer is an error, and the store is left alone.
+Submitting the spec again resumes the sweep.`,
+		flags: commonFlags(false),
+		examples: []string{
+			"fvsweep cancel blast-limiters",
+			"fvsweep cancel blast-limiters --nats nats://10.0.0.5:4222 --token-file sub.key",
+		}})
 }
 
 func runCancel(args []string) int {
 	fs := flag.NewFlagSet("cancel", flag.ContinueOnError)
 	var c common
 	c.register(fs)
-	pos, code, done := parseCommand("cancel", cancelUsage, fs, args, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("cancel", fs, args)
 	if done {
 		return code
 	}

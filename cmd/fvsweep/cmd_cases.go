@@ -1,6 +1,7 @@
 package main
 
 import (
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -11,20 +12,25 @@ import (
 )
 
 func init() {
-	register(command{name: "cases", summary: "list the cases with their parameters and defaults",
-		run: func(args []string) int { return casesMain(args, os.Stdout, os.Stderr) }})
+	register(command{name: "cases", args: "[CASE]", run: func(args []string) int { return casesMain(args, os.Stdout, os.Stderr) },
+		summary: "list the cases with their parameters and defaults",
+		about: `Lists every case with its own parameters (and the common ones it
+overrides), then the common scheme parameters of each equation; with CASE,
+the full parameter list of that case. Each parameter a line: name, default,
+type or choices, meaning.`,
+		examples: []string{
+			"fvsweep cases",
+			"fvsweep cases shocktube",
+		}})
 }
 
 // casesMain is `fvsweep cases [CASE]`: without an argument every case with
 // its own parameters (and the common ones it overrides), then the common
 // scheme parameters; with CASE its full parameter list.
 func casesMain(args []string, stdout, stderr io.Writer) int {
-	if len(args) > 1 || (len(args) == 1 && strings.HasPrefix(args[0], "-")) {
-		fmt.Fprintln(stderr, "usage: fvsweep cases [CASE]")
-		if len(args) == 1 && (args[0] == "-h" || args[0] == "--help") {
-			return 0
-		}
-		return 2
+	args, code, done := parseWith("cases", flag.NewFlagSet("cases", flag.ContinueOnError), args, stdout, stderr)
+	if done {
+		return code
 	}
 	if len(args) == 1 {
 		c, err := fv2d.LookupCase(args[0])

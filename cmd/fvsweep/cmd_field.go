@@ -11,9 +11,11 @@ import (
 	"fvsweep/sweep/field"
 )
 
-const fieldUsage = `usage: fvsweep field SWEEP --job ID --out FILE [--format npy|vtk|csv]
-
-Writes the stored final field of one job (snapshot = true in its study) to
+func init() {
+	register(command{name: "field", args: "SWEEP",
+		run:     func(args []string) int { return runField(args, os.Stdout, os.Stderr) },
+		summary: "write a job's stored final field as .npy, VTK (.vti) or CSV",
+		about: `Writes the stored final field of one job (snapshot = true in its study) to
 a file that other tools read:
 
   npy  NumPy's .npy: float64, shape (ny, nx, nvars), a[j, i, k] variable k
@@ -26,17 +28,15 @@ a file that other tools read:
 The values are the snapshot's (float32, written as float64). --format
 defaults to the extension of --out (.npy, .vti, .csv). The snapshot comes
 from the running coordinator's NATS server (or --nats), else from the
-server files in --data/nats.
-
-flags:
-  --job ID       the job (its ID, or a unique prefix of it)
-  --out FILE     the file to write
-  --format F     npy, vtk or csv
-` + commonUsage
-
-func init() {
-	register(command{name: "field", summary: "write a job's stored final field as .npy, VTK (.vti) or CSV",
-		run: func(args []string) int { return runField(args, os.Stdout, os.Stderr) }})
+server files in --data/nats.`,
+		flags: flagSet([]flagDoc{
+			{"job", "ID", "the job: its ID, a unique prefix of it, or k=v pairs one job matches", ""},
+			{"out", "FILE", "the file to write", ""},
+			{"format", "F", "npy, vtk or csv", "the extension of --out"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep field blast-limiters --job case=quadrants,flux=hllc,nx=200 --out q.vti",
+		}})
 }
 
 // fieldFormats maps the formats to their file extensions.
@@ -49,7 +49,7 @@ func runField(args []string, stdout, stderr io.Writer) int {
 	jobID := fs.String("job", "", "")
 	out := fs.String("out", "", "")
 	format := fs.String("format", "", "")
-	pos, code, done := parseCommand("field", fieldUsage, fs, args, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("field", fs, args)
 	if done {
 		return code
 	}

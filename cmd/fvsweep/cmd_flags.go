@@ -6,10 +6,8 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"os/signal"
@@ -63,24 +61,35 @@ func (c *common) register(fs *flag.FlagSet) {
 	fs.BoolVar(&c.logJSON, "log-json", false, "")
 }
 
-const commonUsage = `  --data DIR         data directory: store, embedded NATS files, coordinator.url
-                     (default $FVSWEEP_DATA or ./fvsweep-data)
-  --nats URL         NATS server or cluster URL(s) (default $FVSWEEP_NATS)
-  --token-file FILE  file whose first line is the secret for the NATS server
-                     (default $FVSWEEP_TOKEN_FILE, else $FVSWEEP_TOKEN), or with
-                     --user that user's password; for serve and run the operator's
-                     secret of the embedded server, required to --listen beyond
-                     loopback. --token T works too, with a warning: ps shows it
-  --user NAME        NATS user: the role, operator, submitter, reader or worker,
-                     on a cluster set up from deploy/nats (default $FVSWEEP_USER)
-  --creds FILE       NATS credentials file (default $FVSWEEP_CREDS)
-  --nkey FILE        file with an nkey seed (default $FVSWEEP_NKEY)
-  --tls-ca FILE      CA that signed the server's certificate (default $FVSWEEP_TLS_CA)
-  --tls-cert FILE    client certificate, with --tls-key, if the server wants one
-                     (defaults $FVSWEEP_TLS_CERT, $FVSWEEP_TLS_KEY)
-  --log-level LEVEL  trace, debug, info, warn or error (default info)
-  --log-json         log JSON lines instead of text
-`
+// commonFlags document the flags of register. A command that runs a
+// coordinator (serving) uses --tls-cert and --tls-key for its embedded
+// server too; they are documented once, with both uses.
+func commonFlags(serving bool) []flagDoc {
+	token := "file whose first line is the secret for the NATS server, or with --user that user's password"
+	if serving {
+		token += "; for the embedded server the operator's secret, required to --listen beyond loopback"
+	}
+	token += ". --token T works too, with a warning: ps shows it"
+	tlsCert := "client certificate, with --tls-key, if the server wants one"
+	tlsCA := "CA that signed the server's certificate"
+	if serving {
+		tlsCert = "with the embedded server: its certificate (with --tls-key) to serve clients over TLS; with --nats: the client certificate, if the server wants one"
+		tlsCA = "with the embedded server: clients must show a certificate this CA signed; with --nats: the CA that signed the server's certificate"
+	}
+	return []flagDoc{
+		{"data", "DIR", "data directory: store, embedded NATS files, coordinator.url", "$FVSWEEP_DATA or ./" + datadir.Default},
+		{"nats", "URL", "NATS server or cluster URL(s); a server named here that does not answer is an error", "$FVSWEEP_NATS"},
+		{"token-file", "FILE", token, "$FVSWEEP_TOKEN_FILE, else $FVSWEEP_TOKEN"},
+		{"user", "NAME", "NATS user: the role (operator, submitter, reader or worker) on a cluster set up from deploy/nats", "$FVSWEEP_USER"},
+		{"creds", "FILE", "NATS credentials file", "$FVSWEEP_CREDS"},
+		{"nkey", "FILE", "file with an nkey seed", "$FVSWEEP_NKEY"},
+		{"tls-ca", "FILE", tlsCA, "$FVSWEEP_TLS_CA"},
+		{"tls-cert", "FILE", tlsCert, "$FVSWEEP_TLS_CERT"},
+		{"tls-key", "FILE", "the key of --tls-cert", "$FVSWEEP_TLS_KEY"},
+		{"log-level", "LEVEL", "trace, debug, info, warn or error", "info"},
+		{"log-json", "", "log JSON lines instead of text", ""},
+	}
+}
 
 // logger returns the command's logger on stderr.
 func (c *common) logger(name string) (hclog.Logger, error) {
@@ -136,46 +145,6 @@ func openSweep(c *common, name string) (*sweepData, error) {
 		d.studies = spec.StoredSettings(d.specFile, d.spec)
 	}
 	return d, nil
-}
-
-// parseArgs parses flags that may come before or after the positional
-// arguments and returns those. A help request returns flag.ErrHelp.
-func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
-	fs.SetOutput(io.Discard)
-	var pos []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			return nil, err
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos, args = append(pos, fs.Arg(0)), fs.Args()[1:]
-	}
-	return pos, resolveSecrets(fs)
-}
-
-// usageErr reports a bad command line: exit code 2.
-func usageErr(cmd string, format string, a ...any) int {
-	fmt.Fprintf(os.Stderr, "fvsweep %s: %s (see fvsweep %s -h)\n", cmd, fmt.Sprintf(format, a...), cmd)
-	return 2
-}
-
-// parseCommand parses args for cmd; it prints usage on -h and returns
-// done=true with the exit code when the command should stop.
-func parseCommand(cmd, usage string, fs *flag.FlagSet, args []string, npos func(int) bool) (pos []string, code int, done bool) {
-	pos, err := parseArgs(fs, args)
-	if errors.Is(err, flag.ErrHelp) {
-		fmt.Print(usage)
-		return nil, 0, true
-	}
-	if err != nil {
-		return nil, usageErr(cmd, "%v", err), true
-	}
-	if !npos(len(pos)) {
-		return nil, usageErr(cmd, "unexpected arguments %q", pos), true
-	}
-	return pos, 0, false
 }
 
 // signals returns a context canceled on the first SIGINT or SIGTERM; a

@@ -4,6 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"math"
 	"os"
 	"os/user"
 
@@ -11,25 +12,27 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const forgetUsage = `usage: fvsweep forget SWEEP [--job ID | --study N | --failed]
-
-Discards stored outcomes of a sweep so that the next 'fvsweep submit' of its
-spec runs those jobs again: one job (--job), the jobs of one study (--study N,
-the N-th [[study]] of the spec, counted from 1), the failed ones (--failed), or with none of
-these every outcome of the sweep. --study and --failed may be combined.
-Outcomes are keyed by job ID: a job that another sweep shares loses its
-outcome there too. The store keeps a record of each forget: what, when and
-by whom. With no coordinator running, the store in --data is changed
-directly (only when no coordinator holds it).
-
-flags:
-  --job ID     forget the outcome of this job only
-  --study N    forget the outcomes of the N-th study (from 1)
-  --failed     forget the failed outcomes
-` + commonUsage
-
 func init() {
-	register(command{name: "forget", summary: "discard stored outcomes so that they run again", run: runForget})
+	register(command{name: "forget", args: "SWEEP", run: runForget,
+		summary: "discard stored outcomes so that they run again",
+		about: `Discards stored outcomes of a sweep so that the next 'fvsweep submit' of its
+spec runs those jobs again: one job (--job), the jobs of one study (--study
+N, the N-th [[study]] of the spec, counted from 1), the failed ones
+(--failed), or with none of these every outcome of the sweep. --study and
+--failed may be combined. Outcomes are keyed by job ID: a job that another
+sweep shares loses its outcome there too. The store keeps a record of each
+forget: what, when and by whom. With no server named and no coordinator
+running, the store in --data is changed directly (only when no coordinator
+holds it); a server named with --nats that does not answer is an error.`,
+		flags: flagSet([]flagDoc{
+			{"job", "ID", "forget the outcome of this job only", ""},
+			{"study", "N", "forget the outcomes of the N-th study (from 1)", ""},
+			{"failed", "", "forget the failed outcomes", ""},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep forget blast-limiters --failed",
+			"fvsweep forget blast-limiters --study 2",
+		}})
 }
 
 func runForget(args []string) int {
@@ -37,14 +40,11 @@ func runForget(args []string) int {
 	var c common
 	c.register(fs)
 	jobID := fs.String("job", "", "")
-	study := fs.Int("study", 0, "")
+	study := intFlag(fs, "study", 0, 1, math.MaxInt)
 	failed := fs.Bool("failed", false, "")
-	pos, code, done := parseCommand("forget", forgetUsage, fs, args, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("forget", fs, args)
 	if done {
 		return code
-	}
-	if *study < 0 {
-		return usageErr("forget", "--study %d: studies count from 1", *study)
 	}
 	if *jobID != "" && (*study > 0 || *failed) {
 		return usageErr("forget", "--job picks one job: give it without --study or --failed")

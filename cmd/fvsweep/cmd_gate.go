@@ -14,12 +14,12 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const gateUsage = `usage: fvsweep gate SPEC [--baseline FILE] [--write-baseline FILE] [--junit FILE]
-                   [--markdown FILE] [--judge-only] [-- RUN FLAGS]
-
-Runs SPEC as 'fvsweep run' does (flags after -- go to run, e.g. -- --workers 2),
-then judges every group of its convergence tables and exits with a code a
-build pipeline can test:
+func init() {
+	register(command{name: "gate", args: "SPEC", run: runGate,
+		summary: "run a spec and judge it for a pipeline: exit code, baseline, JUnit XML",
+		about: `Runs SPEC as 'fvsweep run' does (flags after -- go to run, e.g.
+-- --workers 2), then judges every group of its convergence tables and exits
+with a code a build pipeline can test:
 
   0   every group passed
   1   the tool could not run: bad spec, no server, store or file error,
@@ -42,26 +42,18 @@ whatever else the sweep in --data holds.
 
 Without --data the run uses a new temporary data directory, removed at the
 end, so that outcomes stored by an earlier build are never judged as this
-one's. With --data, jobs whose outcome is stored there are not run again.
-
-flags:
-  --baseline FILE        compare each group's errors and orders with FILE: an
-                         error may grow by the study's error_growth_tol
-                         (relative, default 1e-6), an order drop by its
-                         order_drop_tol (default 0.01); improvements are listed
-  --write-baseline FILE  write this run's errors and orders to FILE (JSON, to
-                         commit next to the spec), whatever the verdicts
-  --junit FILE           write the judgement as JUnit XML: one testsuite per
-                         study, one testcase per group
-  --markdown FILE        write a short Markdown summary (failing groups, and
-                         improvements over the baseline); - for stdout
-  --judge-only           run nothing: judge the results stored in --data (or
-                         held by the coordinator at --nats), e.g. of a sweep
-                         that 'fvsweep submit' sent to a cluster
-` + limitUsage + commonUsage
-
-func init() {
-	register(command{name: "gate", summary: "run a spec and judge it for a pipeline: exit code, baseline, JUnit XML", run: runGate})
+one's. With --data, jobs whose outcome is stored there are not run again.`,
+		flags: flagSet([]flagDoc{
+			{"baseline", "FILE", "compare each group's errors and orders with FILE: an error may grow by the study's error_growth_tol (relative), an order drop by its order_drop_tol; improvements are listed", ""},
+			{"write-baseline", "FILE", "write this run's errors and orders to FILE (JSON, to commit next to the spec), whatever the verdicts", ""},
+			{"junit", "FILE", "write the judgement as JUnit XML: one testsuite per study, one testcase per group", ""},
+			{"markdown", "FILE", "write a short Markdown summary (failing groups, and improvements over the baseline); - for stdout", ""},
+			{"judge-only", "", "run nothing: judge the results stored in --data (or held by the coordinator at --nats)", ""},
+		}, limitDocs, commonFlags(false)),
+		examples: []string{
+			"fvsweep gate configs/gate.toml --junit gate.xml --markdown -",
+			"fvsweep gate configs/gate.toml --baseline gate-baseline.json -- --workers 2",
+		}})
 }
 
 // gateOnly are the flags of gate that run does not take, and whether each
@@ -86,7 +78,7 @@ func runGate(args []string) int {
 	junit := fs.String("junit", "", "")
 	markdown := fs.String("markdown", "", "")
 	judgeOnly := fs.Bool("judge-only", false, "")
-	pos, code, done := parseCommand("gate", gateUsage, fs, own, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("gate", fs, own)
 	if done {
 		return code
 	}

@@ -14,10 +14,10 @@ import (
 	"text/tabwriter"
 )
 
-const gciUsage = `usage: fvsweep gci --values PHI1,PHI2,... (--cells N1,N2,... --dim D | --h H1,H2,...)
-                  [--method celik|lsq] [--order P] [--fs F] [--design P] [--json]
-
-Discretisation-error estimate of a functional computed on several grids. The
+func init() {
+	register(command{name: "gci", run: func(args []string) int { return runGCI(args, os.Stdout, os.Stderr) },
+		summary: "grid convergence index of values from any code",
+		about: `Discretisation-error estimate of a functional computed on several grids. The
 default method, celik, is the procedure of Celik et al. 2008 (J. Fluids Eng.
 130, 078001): apparent order, Richardson extrapolation, relative errors and
 the grid convergence index of each successive triple. The method lsq is the
@@ -30,27 +30,24 @@ sorted by spacing and reported finest first. With two grids (celik only)
 factor of safety becomes 3. Implausible input or results (close grids,
 orders out of range, differences at round-off level, too few grids) are
 printed as warnings under the record, and listed under "warnings" in JSON.
-
-flags (--help or -h alone prints this):
-  --values  the functional on each grid, comma separated
-  --cells   cell count of each grid (h = (1/N)^(1/dim)); needs --dim
-  --dim     space dimension for --cells: 1, 2 or 3
-  --h       grid spacing of each grid, instead of --cells
-  --method  celik (default) or lsq (three grids or more)
-  --order   assumed order, for two grids only (celik)
-  --fs      factor of safety (celik; default 1.25, or 3 for two grids)
-  --design  design order of the scheme: an observed order above twice it
-            is warned about, and for lsq the trusted orders become
-            [0.5, design + 0.1) instead of [0.5, 2.1)
-  --json    print JSON. celik: one record for two or three grids, otherwise
-            {"records": [one per successive triple], "least_squares": {...}};
-            lsq: {"uncertainty" (fraction of |phi_1|), "uncertainty_abs",
-            "extrapolated", "order", "fit", "sigma", "u" (every grid), ...}
-`
-
-func init() {
-	register(command{name: "gci", summary: "grid convergence index of values from any code",
-		run: func(args []string) int { return runGCI(args, os.Stdout, os.Stderr) }})
+All input is given by flags; -h alone asks for this help, -h with a value
+gives the spacings.`,
+		flags: []flagDoc{
+			{"values", "PHI1,PHI2,...", "the functional on each grid, comma separated (required)", ""},
+			{"cells", "N1,N2,...", "cell count of each grid (h = (1/N)^(1/dim)); needs --dim", ""},
+			{"dim", "D", "space dimension for --cells: 1, 2 or 3", ""},
+			{"h", "H1,H2,...", "grid spacing of each grid, instead of --cells", ""},
+			{"method", "M", "celik, or lsq (three grids or more)", "celik"},
+			{"order", "P", "assumed order, for two grids only (celik)", ""},
+			{"fs", "F", "factor of safety (celik)", "1.25, or 3 for two grids"},
+			{"design", "P", "design order of the scheme: an observed order above twice it is warned about, and for lsq the trusted orders become [0.5, design + 0.1) instead of [0.5, 2.1)", ""},
+			{"json", "", `print JSON. celik: one record for two or three grids, otherwise {"records": [one per successive triple], "least_squares": {...}}; lsq: {"uncertainty" (fraction of |phi_1|), "uncertainty_abs", "extrapolated", "order", "fit", "sigma", "u" (every grid), ...}`, ""},
+		},
+		examples: []string{
+			"fvsweep gci --values 5.863,5.972,6.063 --h 0.04,0.03,0.02",
+			"fvsweep gci --values 6.063,5.972 --cells 16384,4096 --dim 2 --order 2",
+			"fvsweep gci --values 1.0003,1.0012,1.0048,1.019 --h 1,2,4,8 --method lsq",
+		}})
 }
 
 // gciFloats is a comma-separated list of finite numbers as a flag value.
@@ -85,19 +82,16 @@ func runGCI(args []string, stdout, stderr io.Writer) int {
 	design := fs.Float64("design", 0, "")
 	method := fs.String("method", "celik", "")
 	asJSON := fs.Bool("json", false, "")
-	bad := func(format string, a ...any) int {
-		fmt.Fprintf(stderr, "fvsweep gci: "+format+"\n", a...)
-		return 2
-	}
+	bad := func(format string, a ...any) int { return usageTo(stderr, "gci", format, a...) }
 	if len(args) == 1 && (args[0] == "-h" || args[0] == "--h") {
 		args = []string{"--help"} // -h alone asks for help; with a value it is the spacings flag
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
-			fmt.Fprint(stdout, gciUsage)
+			showHelp(stdout, "gci", fs)
 			return 0
 		}
-		return bad("%v (see fvsweep gci -h)", err)
+		return bad("%s", flagError(err))
 	}
 	if fs.NArg() > 0 {
 		return bad("unexpected argument %q (all input is given by flags)", fs.Arg(0))

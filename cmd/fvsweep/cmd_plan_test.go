@@ -109,9 +109,9 @@ func TestPlanErrors(t *testing.T) {
 		code int
 		msg  string
 	}{
-		{nil, 2, "want one SPEC file, got 0"},
-		{[]string{good, good}, 2, "want one SPEC file, got 2"},
-		{[]string{"--colour", good}, 2, "flag provided but not defined"},
+		{nil, 2, "fvsweep expand: missing SPEC (see fvsweep expand --help)"},
+		{[]string{good, good}, 2, "unexpected argument"},
+		{[]string{"--colour", good}, 2, "unknown flag --colour"},
 		{[]string{bad}, 1, ":4: study 1: axes.limiter: \"foo\" is not one of"},
 		{[]string{filepath.Join(t.TempDir(), "none.toml")}, 1, "no such file"},
 		{[]string{good, "--job-limit", "5"}, 1, "expands to 9 jobs (this study 8), over the job limit of 5"},
@@ -123,11 +123,11 @@ func TestPlanErrors(t *testing.T) {
 		var out, errb bytes.Buffer
 		code := runPlan(tc.args, &out, &errb)
 		if code != tc.code || !strings.Contains(errb.String(), tc.msg) {
-			t.Errorf("plan %v: exit %d, stderr %q; want %d and %q", tc.args, code, errb.String(), tc.code, tc.msg)
+			t.Errorf("expand %v: exit %d, stderr %q; want %d and %q", tc.args, code, errb.String(), tc.code, tc.msg)
 		}
 	}
 	var out, errb bytes.Buffer
-	if code := runPlan([]string{"-h"}, &out, &errb); code != 0 || !strings.Contains(out.String(), "usage: fvsweep plan SPEC") {
+	if code := runPlan([]string{"-h"}, &out, &errb); code != 0 || !strings.Contains(out.String(), "usage: fvsweep expand SPEC") {
 		t.Errorf("-h: exit %d, %q", code, out.String())
 	}
 }

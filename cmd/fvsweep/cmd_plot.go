@@ -20,10 +20,15 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const plotUsage = `usage: fvsweep plot SWEEP convergence|cost|field|order-map [flags] --out FILE
+func init() {
+	register(command{name: "plot", args: "SWEEP PLOT", run: func(args []string) int { return runPlot(args, os.Stdout, os.Stderr) },
+		summary: "draw convergence, cost or field plots of a sweep (PNG, SVG)",
+		about: `Draws one plot of a sweep into --out. PLOT is one of:
 
   convergence  error norm against h, log-log, one line per parameter group,
-               reference slopes of order 1 and 2, fitted order in the legend
+               reference slopes of order 1 and 2, fitted order in the legend;
+               a study with many groups is split into panels by the
+               parameters that vary (or pick one group with --group)
   cost         error norm against cost (work-precision), log-log: the CPU
                seconds of the solving threads, or with --x work the cells
                updated (nx x ny x steps), the same on any machine
@@ -38,32 +43,25 @@ The extension of --out (.png or .svg) picks the format. Results come from
 the running coordinator, or from the store in --data opened read-only. A
 field snapshot (snapshot = true in the study) comes from the JetStream
 object store: through the running coordinator's NATS server (or --nats),
-else from the server files in --data/nats.
-
-flags:
-  --out       output file (.png or .svg), required
-  --study N   the study to plot (default: the only one with errors to show)
-  --job ID    field: the job: its ID, a unique prefix of it, or k=v pairs
-              (commas between; case=NAME too) that only its parameters match
-  --snapshot FILE  field: read the snapshot from this file instead
-  --cut x|y   field: a line cut along x or y instead of the heat map
-  --at V      field: the cut passes through the cells nearest to y = V
-              (--cut x) or x = V (--cut y); default: the middle
-  --x A       cost: the x axis, cpu (default) or work
-  --var V     variable (default: the study's, else the case's first);
-              field: a conserved variable, or u, v, p of an Euler case
-  --norm N    l1, l2 or linf (default: the study's, else l1)
-  --group G   order-map: the group, as k=v pairs (commas or spaces between)
-              that its parameters match, or its label in the table
-  --coarse NX order-map: the nx of the map's grid, the coarsest of the grids
-              compared (default: the finest that has the grids it needs)
-  --format F  order-map: png or svg (default: from --out), or csv to write
-              x,y,order per cell (empty order: masked) to --out or stdout
-` + commonUsage
-
-func init() {
-	register(command{name: "plot", summary: "draw convergence, cost or field plots of a sweep (PNG, SVG)",
-		run: func(args []string) int { return runPlot(args, os.Stdout, os.Stderr) }})
+else from the server files in --data/nats.`,
+		flags: flagSet([]flagDoc{
+			{"out", "FILE", "output file, .png or .svg (required)", ""},
+			{"study", "N", "the study to plot", "the only one with errors to show"},
+			{"job", "ID", "field: the job: its ID, a unique prefix of it, or k=v pairs (commas between; case=NAME too) that only its parameters match", ""},
+			{"snapshot", "FILE", "field: read the snapshot from this file instead", ""},
+			{"cut", "x|y", "field: a line cut along x or y instead of the heat map", ""},
+			{"at", "V", "field: the cut passes through the cells nearest to y = V (--cut x) or x = V (--cut y)", "the middle"},
+			{"x", "A", "cost: the x axis, cpu or work", "cpu"},
+		}, judgeDocs, []flagDoc{
+			{"group", "G", "convergence, cost: draw only this group; order-map: the group. As k=v pairs (commas or spaces between) that its parameters match, or its label in the table", ""},
+			{"coarse", "NX", "order-map: the nx of the map's grid, the coarsest of the grids compared", "the finest that has the grids it needs"},
+			{"format", "F", "order-map: png or svg, or csv to write x,y,order per cell (empty order: masked) to --out or stdout", "from --out"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep plot blast-limiters convergence --out conv.svg",
+			"fvsweep plot blast-limiters cost --x work --out cost.png",
+			"fvsweep plot blast-limiters field --job nx=128,limiter=mc --out field.png",
+		}})
 }
 
 // runPlot is the plot command: exit code 0, 1 on failure, 2 on bad usage.
@@ -74,32 +72,23 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	var jf judgeFlags
 	jf.register(fs)
 	out := fs.String("out", "", "")
-	studyN := fs.Int("study", 0, "")
+	studyN := intFlag(fs, "study", 0, 1, math.MaxInt)
 	jobID := fs.String("job", "", "")
 	snapshot := fs.String("snapshot", "", "")
-	cut := fs.String("cut", "", "")
+	cut := choiceFlag(fs, "cut", "", "x", "y")
 	at := fs.String("at", "", "")
 	group := fs.String("group", "", "")
-	coarse := fs.Int("coarse", 0, "")
-	format := fs.String("format", "", "")
-	costX := fs.String("x", "", "")
-	bad := func(format string, a ...any) int {
-		fmt.Fprintf(stderr, "fvsweep plot: "+format+"\n", a...)
-		return 2
-	}
+	coarse := intFlag(fs, "coarse", 0, 1, math.MaxInt)
+	format := choiceFlag(fs, "format", "", "png", "svg", "csv")
+	costX := choiceFlag(fs, "x", "", "cpu", "work")
+	bad := func(format string, a ...any) int { return usageTo(stderr, "plot", format, a...) }
 	failed := func(err error) int {
 		fmt.Fprintf(stderr, "fvsweep plot: %v\n", err)
 		return 1
 	}
-	pos, err := parseArgs(fs, args)
-	if err == flag.ErrHelp {
-		fmt.Fprint(stdout, plotUsage)
-		return 0
-	} else if err != nil {
-		return bad("%v (see fvsweep plot -h)", err)
-	}
-	if len(pos) != 2 {
-		return bad("want SWEEP and one of convergence, cost, field, order-map (see fvsweep plot -h)")
+	pos, code, done := parseWith("plot", fs, args, stdout, stderr)
+	if done {
+		return code
 	}
 	name, kind := pos[0], pos[1]
 	if kind != "convergence" && kind != "cost" && kind != "field" && kind != "order-map" {
@@ -109,8 +98,6 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	switch {
 	case *format != "" && kind != "order-map":
 		return bad("--format is for the order map (other plots take theirs from --out)")
-	case *format != "" && !csv && *format != "png" && *format != "svg":
-		return bad("--format %q: want png, svg or csv", *format)
 	case *out == "" && !csv:
 		return bad("--out FILE is required")
 	}
@@ -130,22 +117,18 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	switch {
 	case *costX != "" && kind != "cost":
 		return bad("--x is for the cost plot")
-	case *costX != "" && !slices.Contains(report.CostAxes, report.CostAxis(*costX)):
-		return bad("--x %q: want cpu or work", *costX)
 	case *costX != "":
 		axis = report.CostAxis(*costX)
 	}
-	if kind != "order-map" && (*group != "" || *coarse != 0) {
-		return bad("--group and --coarse are for the order map")
+	if kind != "order-map" && *coarse != 0 {
+		return bad("--coarse is for the order map")
 	}
-	if *coarse < 0 {
-		return bad("--coarse %d: want a grid's nx", *coarse)
-	}
-	if *cut != "" && *cut != "x" && *cut != "y" {
-		return bad("--cut %q: want x or y", *cut)
+	if kind == "field" && *group != "" {
+		return bad("--group is for the convergence, cost and order-map plots")
 	}
 	atV := math.NaN()
 	if *at != "" {
+		var err error
 		if atV, err = strconv.ParseFloat(*at, 64); err != nil || math.IsInf(atV, 0) || math.IsNaN(atV) {
 			return bad("--at %q: not a finite number", *at)
 		}
@@ -174,7 +157,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case "field":
 		d, notes, err = fieldPlot(sd, *jobID, *snapshot, fetch, jf.v, *cut, atV)
 	default:
-		d, notes, err = studyPlot(sd, kind, *studyN, jf.options(), axis)
+		d, notes, err = studyPlot(sd, kind, *studyN, *group, jf.options(), axis)
 	}
 	if err != nil {
 		return failed(err)
@@ -190,7 +173,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 // studyPlot prepares the convergence or cost plot of one study.
-func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
+func studyPlot(sd *sweepData, kind string, n int, group string, o table.Options, axis report.CostAxis) (plots.Drawer, []string, error) {
 	set, err := sd.tables(o)
 	studies := set.Studies
 	if err != nil {
@@ -224,6 +207,11 @@ func studyPlot(sd *sweepData, kind string, n int, o table.Options, axis report.C
 	if !st.HasErrors() {
 		return nil, nil, fmt.Errorf("study %d has no errors to plot yet (no finished grid, or no exact solution)", st.Index)
 	}
+	sub, err := pickGroups(*st, group)
+	if err != nil {
+		return nil, nil, err
+	}
+	st = &sub
 	var f *plots.Figure
 	if kind == "convergence" {
 		f, err = report.ConvergenceFigure(*st)
@@ -443,4 +431,57 @@ func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
 // in --data, opened just for this.
 func fetchSnapshot(c *common, ref string) ([]byte, error) {
 	return datadir.Snapshot(context.Background(), c.dir(), c.dialOptions(c.nats, "fvsweep plot", wire.RoleReader), ref)
+}
+
+// pickGroups is st with only the groups whose parameters match every k=v of
+// sel (commas or spaces between; "" keeps all). More groups than there are
+// line colours is an error that names the parameters telling them apart,
+// so that no colour repeats within a plot.
+func pickGroups(st table.Study, sel string) (table.Study, error) {
+	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	var kept []table.Group
+	for _, g := range st.Groups {
+		match := true
+		for _, p := range pairs {
+			k, v, ok := strings.Cut(p, "=")
+			if !ok || g.Params[k] != v {
+				match = false
+			}
+		}
+		if match {
+			kept = append(kept, g)
+		}
+	}
+	if len(kept) == 0 {
+		return st, fmt.Errorf("--group %q: no group of study %d matches", sel, st.Index)
+	}
+	if len(kept) > plots.Colours() {
+		return st, fmt.Errorf("study %d: %d groups to draw, more than the %d colours of one plot; pick at most %d with --group k=v,... (they differ in %s)",
+			st.Index, len(kept), plots.Colours(), plots.Colours(), differing(kept))
+	}
+	st.Groups = kept
+	return st, nil
+}
+
+// differing is "k (v1, v2, ...); ..." of the parameters whose values differ
+// among groups.
+func differing(groups []table.Group) string {
+	var keys []string
+	for k := range groups[0].Params {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	var parts []string
+	for _, k := range keys {
+		var vals []string
+		for _, g := range groups {
+			if !slices.Contains(vals, g.Params[k]) {
+				vals = append(vals, g.Params[k])
+			}
+		}
+		if len(vals) > 1 && k != "nx" && k != "ny" {
+			parts = append(parts, k+" ("+strings.Join(vals, ", ")+")")
+		}
+	}
+	return strings.Join(parts, "; ")
 }

@@ -14,6 +14,7 @@ import (
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
+	"fvsweep/sweep/table"
 	"fvsweep/worker"
 
 	"fvsweep/coordinator/datadir"
@@ -151,7 +152,7 @@ func TestPlotErrors(t *testing.T) {
 		code int
 		want string
 	}{
-		{[]string{"pics"}, 2, "want SWEEP and one of"},
+		{[]string{"pics"}, 2, "missing PLOT"},
 		{[]string{"pics", "histogram", "--out", out}, 2, `unknown plot "histogram"`},
 		{[]string{"pics", "convergence"}, 2, "--out FILE is required"},
 		{[]string{"pics", "convergence", "--out", "x.gif"}, 2, `unknown image format ".gif"`},
@@ -159,7 +160,7 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "field", "--out", out, "--cut", "z"}, 2, `--cut "z"`},
 		{[]string{"pics", "convergence", "--out", out, "--x", "work"}, 2, "--x is for the cost plot"},
 		{[]string{"pics", "cost", "--out", out, "--x", "wall"}, 2, `--x "wall": want cpu or work`},
-		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 1, `norm "l7"`},
+		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 2, `--norm "l7": want l1, l2 or linf`},
 		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
 		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
@@ -211,12 +212,41 @@ func TestReportCommand(t *testing.T) {
 		want string
 	}{
 		{[]string{"pics", "--data", dir}, "--out DIR is required"},
-		{[]string{"--data", dir, "--out", out}, "want one SWEEP"},
+		{[]string{"--data", dir, "--out", out}, "missing SWEEP"},
 		{[]string{"../pics", "--data", dir, "--out", out}, "no path separators"},
 	} {
 		stderr.Reset()
 		if code := runReport(tc.args, &stdout, &stderr); code != 2 || !strings.Contains(stderr.String(), tc.want) {
 			t.Errorf("report %v: exit %d, %q; want %q", tc.args, code, stderr.String(), tc.want)
 		}
+	}
+}
+
+// A plot never draws more groups than there are line colours: a study
+// with more is refused with the parameters that tell them apart, and
+// --group picks a few by k=v.
+func TestPickGroups(t *testing.T) {
+	st := table.Study{Index: 2}
+	for _, flux := range []string{"hll", "hllc", "roe", "rusanov"} {
+		for _, lim := range []string{"minmod", "mc", "vanleer"} {
+			st.Groups = append(st.Groups, table.Group{Params: map[string]string{"flux": flux, "limiter": lim, "nx": "16"}})
+		}
+	}
+	_, err := pickGroups(st, "")
+	if err == nil || !strings.Contains(err.Error(), "12 groups to draw, more than the 6 colours") ||
+		!strings.Contains(err.Error(), "flux (hll, hllc, roe, rusanov); limiter (minmod, mc, vanleer)") {
+		t.Errorf("12 groups: %v", err)
+	}
+	sub, err := pickGroups(st, "flux=roe")
+	if err != nil || len(sub.Groups) != 3 {
+		t.Fatalf("--group flux=roe: %d groups, %v; want 3", len(sub.Groups), err)
+	}
+	for _, g := range sub.Groups {
+		if g.Params["flux"] != "roe" {
+			t.Errorf("--group flux=roe kept %v", g.Params)
+		}
+	}
+	if _, err := pickGroups(st, "flux=exact"); err == nil || !strings.Contains(err.Error(), "no group of study 2 matches") {
+		t.Errorf("--group flux=exact: %v", err)
 	}
 }

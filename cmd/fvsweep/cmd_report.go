@@ -14,37 +14,40 @@ import (
 	"fvsweep/sweep/report"
 )
 
-const reportUsage = `usage: fvsweep report SWEEP --out DIR [--var V] [--norm l1|l2|linf] [--functional NAME] [--data DIR] [--nats URL]
-
-Writes DIR/SWEEP.html: one self-contained HTML file (no external files or
+func init() {
+	register(command{name: "report", args: "SWEEP", run: func(args []string) int { return runReport(args, os.Stdout, os.Stderr) },
+		summary: "write a self-contained HTML report of a sweep",
+		about: `Writes DIR/SWEEP.html: one self-contained HTML file (no external files or
 links) with, per study, the convergence and work-precision plots as inline
 SVG and the convergence tables (h, error, observed order per pair, fitted
 order, verdict; for functionals their values and grid convergence index,
 as in fvsweep table); the failures with their reasons; the spec as
-submitted; and the machine, Go and fvsweep versions. Results come from the running
-coordinator, or from the store in --data opened read-only.
-
-flags:
-  --out DIR          directory to write the report into (created if missing)
-  --var V            variable the tables judge (default: the study's, else
-                     the case's first)
-  --norm N           l1, l2 or linf (default: the study's, else l1)
-  --functional NAME  functional for the GCI, in the studies whose runs report
-                     it (default: the study's functional)
-` + commonUsage
-
-func init() {
-	register(command{name: "report", summary: "write a self-contained HTML report of a sweep",
-		run: func(args []string) int { return runReport(args, os.Stdout, os.Stderr) }})
+submitted; and the machine, Go and fvsweep versions. Results come from the
+running coordinator, or from the store in --data opened read-only.`,
+		flags: flagSet([]flagDoc{
+			{"out", "DIR", "directory to write the report into, created if missing (required)", ""},
+		}, judgeDocs, []flagDoc{
+			{"functional", "NAME", "functional for the GCI, in the studies whose runs report it", "the study's functional"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep report blast-limiters --out reports",
+			"fvsweep report splitting-order --out reports --norm l2",
+		}})
 }
 
 // judgeFlags are the flags plot and report add to the common ones: what
 // the tables judge.
 type judgeFlags struct{ v, norm string }
 
+// judgeDocs document the flags of judgeFlags.
+var judgeDocs = []flagDoc{
+	{"var", "V", "conserved variable judged", "the study's var, or the case's first: u or rho"},
+	{"norm", "N", "norm of the orders and the verdict: l1, l2 or linf", "the study's, else l1"},
+}
+
 func (j *judgeFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&j.v, "var", "", "")
-	fs.StringVar(&j.norm, "norm", "", "")
+	fs.Var(oneOf{&j.norm, table.Norms}, "norm", "")
 }
 
 func (j judgeFlags) options() table.Options { return table.Options{Var: j.v, Norm: j.norm} }
@@ -58,19 +61,10 @@ func runReport(args []string, stdout, stderr io.Writer) int {
 	jf.register(fs)
 	out := fs.String("out", "", "")
 	functional := fs.String("functional", "", "")
-	bad := func(format string, a ...any) int {
-		fmt.Fprintf(stderr, "fvsweep report: "+format+"\n", a...)
-		return 2
-	}
-	names, err := parseArgs(fs, args)
-	if err == flag.ErrHelp {
-		fmt.Fprint(stdout, reportUsage)
-		return 0
-	} else if err != nil {
-		return bad("%v (see fvsweep report -h)", err)
-	}
-	if len(names) != 1 {
-		return bad("want one SWEEP, got %d (see fvsweep report -h)", len(names))
+	bad := func(format string, a ...any) int { return usageTo(stderr, "report", format, a...) }
+	names, code, done := parseWith("report", fs, args, stdout, stderr)
+	if done {
+		return code
 	}
 	if *out == "" {
 		return bad("--out DIR is required")

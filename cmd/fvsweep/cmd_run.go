@@ -21,33 +21,35 @@ import (
 	"fvsweep/worker"
 )
 
-const runUsage = `usage: fvsweep run SPEC [--workers N] [--concurrency C] [--solver FILE]... [--data DIR] [--http HOST:PORT]
-
-Runs a sweep on this machine in one go: an embedded NATS server, the
+func init() {
+	register(command{name: "run", args: "SPEC", run: runRun,
+		summary: "run a sweep on this machine: server, coordinator, workers, tables",
+		about: `Runs a sweep on this machine in one go: an embedded NATS server, the
 coordinator and N local workers. It queues every job of SPEC that has no
 stored outcome (largest first), shows the progress (on a terminal a bar per
 study and one for the sweep with the time left, otherwise a line every 5 s),
-then prints the convergence tables. The sweep's name, printed first, is
-what status, table, export and cancel take.
+then prints the convergence tables. The sweep's name, printed first, is what
+status, table, export and cancel take. The programs of --solver are offered
+by the local workers too.
 
 Ctrl-C stops cleanly (exit status 130): running jobs go back to the queue at
 once, stored outcomes stay, and running the same command again resumes
 where it stopped. Other
-terminals can watch with 'fvsweep status' (a browser with --http, whose
-page stays up after the sweep ends until Ctrl-C) meanwhile, or add workers with 'fvsweep worker --nats URL' (the URL is in
-DIR/coordinator.url).
-
-flags:
-  --workers N        local workers (default 1)
-  --concurrency C    jobs each worker runs at once (default: cores / N, at least 1)
-  --listen HOST:PORT client address of the embedded server (default 127.0.0.1, a free port)
-  --retry-failed     run again the jobs whose stored outcome is failed
-  --format F         format of the tables at the end: text, markdown, csv, json or none
-` + solverUsage + `                     (the local workers offer it too)
-` + limitUsage + webUsage + serverUsage + commonUsage
-
-func init() {
-	register(command{name: "run", summary: "run a sweep on this machine: server, coordinator, workers, tables", run: runRun})
+terminals can watch with 'fvsweep status' (a browser with --http, whose page
+stays up after the sweep ends until Ctrl-C) meanwhile, or add workers with
+'fvsweep worker --nats URL' (the URL is in DIR/coordinator.url).`,
+		flags: flagSet([]flagDoc{
+			{"workers", "N", "local workers, 1 to 1024", "1"},
+			{"slots", "N", "jobs each worker runs at once, 1 to 256", "cores / N, at least 1"},
+			{"listen", "HOST:PORT", "client address of the embedded server", "127.0.0.1, a free port"},
+			{"rerun-failed", "", "run again the jobs whose stored outcome is failed", ""},
+			{"format", "F", "format of the tables at the end: text, markdown, csv, json or none", "text"},
+		}, solverDocs, limitDocs, webDocs, serverDocs, commonFlags(true)),
+		examples: []string{
+			"fvsweep run configs/blast-limiters.toml",
+			"fvsweep run configs/splitting-order.toml --workers 2 --slots 1",
+			"fvsweep run configs/blast-limiters.toml --http 127.0.0.1:8080",
+		}})
 }
 
 func runRun(args []string) int {
@@ -58,16 +60,18 @@ func runRun(args []string) int {
 	sf.register(fs)
 	var wf webFlags
 	wf.register(fs)
-	nw := fs.Int("workers", 1, "")
-	conc := fs.Int("concurrency", 0, "")
+	nw := intFlag(fs, "workers", 1, 1, 1024)
+	conc := intFlag(fs, "slots", 0, 1, maxSlots)
+	alias(fs, "concurrency", "slots")
 	listen := fs.String("listen", "", "")
-	retry := fs.Bool("retry-failed", false, "")
-	format := fs.String("format", "text", "")
+	retry := fs.Bool("rerun-failed", false, "")
+	alias(fs, "retry-failed", "rerun-failed")
+	format := choiceFlag(fs, "format", "text", append(slices.Clone(table.Formats), "none")...)
 	var lf limitFlags
 	lf.register(fs)
 	var sv solverFlags
 	sv.register(fs)
-	pos, code, done := parseCommand("run", runUsage, fs, args, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("run", fs, args)
 	if done {
 		return code
 	}
@@ -76,14 +80,8 @@ func runRun(args []string) int {
 		return usageErr("run", "%v", err)
 	}
 	c.lim = lim
-	if *nw < 0 {
-		return usageErr("run", "--workers %d: want 0 or more", *nw)
-	}
 	if *conc == 0 {
 		*conc = max(1, runtime.NumCPU()/max(1, *nw))
-	}
-	if !slices.Contains(table.Formats, *format) && *format != "none" {
-		return usageErr("run", "--format %q: want text, markdown, csv, json or none", *format)
 	}
 	log, err := c.logger("fvsweep")
 	if err != nil {

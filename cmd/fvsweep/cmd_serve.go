@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"os"
 
 	"github.com/hashicorp/go-hclog"
 	natsserver "github.com/nats-io/nats-server/v2/server"
@@ -20,23 +21,24 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const serveUsage = `usage: fvsweep serve [--data DIR] [--listen HOST:PORT] [--nats URL] [--http HOST:PORT]
-
-Runs the coordinator of the store in DIR: it takes submissions, queues jobs
+func init() {
+	register(command{name: "serve", run: runServe,
+		summary: "run the coordinator (and an embedded NATS server)",
+		about: `Runs the coordinator of the store in DIR: it takes submissions, queues jobs
 on NATS JetStream, stores the outcomes workers send back and answers status,
 table and export. Without --nats it starts an embedded NATS server with its
-JetStream files in DIR/nats, listening on --listen (default 127.0.0.1:4222).
-Workers join with 'fvsweep worker --nats URL'. The client URL is written to
+JetStream files in DIR/nats, listening on --listen. Workers join with
+'fvsweep worker --nats URL'. The client URL is written to
 DIR/coordinator.url while it runs, so that the other commands find it.
-SIGINT or SIGTERM stops it after storing the outcomes in hand.
-
-flags:
-  --listen HOST:PORT  client address of the embedded server (default 127.0.0.1:4222);
-                     any address but loopback needs --token
-` + limitUsage + webUsage + serverUsage + boundUsage + commonUsage
-
-func init() {
-	register(command{name: "serve", summary: "run the coordinator (and an embedded NATS server)", run: runServe})
+SIGINT or SIGTERM stops it after storing the outcomes in hand.`,
+		flags: flagSet([]flagDoc{
+			{"listen", "HOST:PORT", "client address of the embedded server; any address but loopback needs --token-file", "127.0.0.1:4222"},
+		}, limitDocs, webDocs, serverDocs, boundDocs, commonFlags(true)),
+		examples: []string{
+			"fvsweep serve --data fvsweep-data",
+			"fvsweep serve --listen 0.0.0.0:4222 --token-file op.key",
+			"fvsweep serve --nats nats://node-1:4222 --user operator --token-file op.key",
+		}})
 }
 
 // service is a running coordinator with its store and, unless an external
@@ -62,9 +64,18 @@ type service struct {
 // listen (unless c.nats is set), connects, and runs a coordinator.
 //
 // tune, if given, adjusts the coordinator's configuration (boundFlags.apply).
-func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome), tune ...func(*coordinator.Config)) (*service, error) {
+func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, onStored func([]job.Outcome), tune ...func(*coordinator.Config)) (s *service, err error) {
 	if err := sf.check(); err != nil {
 		return nil, err
+	}
+	// A data directory made here for a service that then fails to start
+	// is removed again: it holds nothing but empty files.
+	if _, serr := os.Stat(c.data); errors.Is(serr, os.ErrNotExist) {
+		defer func() {
+			if err != nil {
+				os.RemoveAll(c.data)
+			}
+		}()
 	}
 	db, err := store.Open(c.dir().DB(), store.Options{})
 	if errors.Is(err, store.ErrInUse) {
@@ -73,8 +84,9 @@ func startService(c *common, sf *serverFlags, listen string, log hclog.Logger, o
 	if err != nil {
 		return nil, err
 	}
-	s := &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
+	s = &service{db: db, log: log, dir: c.dir(), readToken: sf.readToken}
 	o := c.dialOptions(c.nats, "fvsweep coordinator", wire.RoleOperator)
+	o.Log = log.Named("nats")
 	if c.nats == "" {
 		s.srv, err = server.Start(server.Options{Dir: c.dir().NATS(), Listen: listen, Log: log,
 			Access: sf.access(c), TLS: c.tls})
@@ -167,7 +179,7 @@ func runServe(args []string) int {
 	lf.register(fs)
 	var bf boundFlags
 	bf.register(fs)
-	if _, code, done := parseCommand("serve", serveUsage, fs, args, func(n int) bool { return n == 0 }); done {
+	if _, code, done := parseCommand("serve", fs, args); done {
 		return code
 	}
 	lim, err := lf.limits()

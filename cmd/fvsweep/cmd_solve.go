@@ -21,8 +21,23 @@ import (
 )
 
 func init() {
-	register(command{name: "solve", summary: "run one case locally and report totals, errors and speed",
-		run: func(args []string) int { return solveMain(args, os.Stdout, os.Stderr) }})
+	register(command{name: "solve", args: "CASE", run: func(args []string) int { return solveMain(args, os.Stdout, os.Stderr) },
+		summary: "run one case locally and report totals, errors and speed",
+		about: `Runs one case in this process, with no server and no store, and prints
+its parameters, the grid and steps, the wall time and cell updates per
+second, the conserved totals at the start and the end, the errors against
+the exact solution (where the case has one) and its functionals. Ctrl-C
+stops it (exit 130).`,
+		flags: []flagDoc{
+			{"p", "KEY=VALUE", "a parameter of the case, repeatable (see fvsweep cases CASE)", ""},
+			{"json", "", "print the report as JSON", ""},
+			{"dump", "FILE", "write the final cell averages as CSV to FILE: x, y and the primitive variables", ""},
+			{"mem-limit", "SIZE", "refuse a run whose memory estimate exceeds SIZE", "8GiB"},
+		},
+		examples: []string{
+			"fvsweep solve vortex -p nx=64 -p ny=64",
+			"fvsweep solve shocktube -p test=1 -p scheme=muscl --dump tube.csv",
+		}})
 }
 
 // kvFlags collects repeated -p key=value settings.
@@ -46,47 +61,19 @@ func (kv kvFlags) Set(s string) error {
 // solveMain is `fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv]`.
 func solveMain(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("solve", flag.ContinueOnError)
-	fs.SetOutput(stderr)
 	kv := kvFlags{}
-	fs.Var(kv, "p", "parameter `key=value` (repeatable; see 'fvsweep cases CASE')")
-	asJSON := fs.Bool("json", false, "print the report as JSON")
-	dump := fs.String("dump", "", "write the final cell averages as CSV to `FILE`")
-	memLimit := fs.String("mem-limit", "8GiB", "refuse a run whose memory estimate exceeds `SIZE`")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: fvsweep solve CASE [-p key=value]... [--json] [--dump FILE.csv] [--mem-limit SIZE]")
-		fs.PrintDefaults()
+	fs.Var(kv, "p", "")
+	asJSON := fs.Bool("json", false, "")
+	dump := fs.String("dump", "", "")
+	memLimit := fs.String("mem-limit", "8GiB", "")
+	pos, code, done := parseWith("solve", fs, args, stdout, stderr)
+	if done {
+		return code
 	}
-	// The case name may come before or after the flags.
-	var name string
-	if len(args) > 0 && !strings.HasPrefix(args[0], "-") {
-		name, args = args[0], args[1:]
-	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return 0
-		}
-		return 2
-	}
-	rest := fs.Args()
-	if name == "" && len(rest) > 0 {
-		name = rest[0]
-		if err := fs.Parse(rest[1:]); err != nil {
-			return 2
-		}
-		rest = fs.Args()
-	}
-	if name == "" {
-		fmt.Fprintln(stderr, "fvsweep solve: missing CASE (see 'fvsweep cases')")
-		return 2
-	}
-	if len(rest) > 0 {
-		fmt.Fprintf(stderr, "fvsweep solve: unexpected argument %q\n", rest[0])
-		return 2
-	}
+	name := pos[0]
 	maxBytes, err := spec.ParseBytes(*memLimit)
 	if err != nil {
-		fmt.Fprintf(stderr, "fvsweep solve: --mem-limit: %v\n", err)
-		return 2
+		return usageTo(stderr, "solve", "--mem-limit: %v", err)
 	}
 	v, err := fv2d.Resolve(name, kv)
 	if err != nil {

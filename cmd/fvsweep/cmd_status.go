@@ -17,25 +17,25 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-const statusUsage = `usage: fvsweep status [SWEEP] [--json] [--http HOST:PORT]
-
-Shows the jobs of SWEEP (of every sweep without it): total, done, failed,
-running and queued, and the live workers with their current jobs. It asks
-the running coordinator, or reads the store in --data when none runs (then
-nothing is running and no workers are listed). With --http it asks the
-JSON API of a coordinator's status page instead (serve --http), which needs
-no NATS access.
-
-flags:
-  --json             print JSON: with SWEEP one object (sweep, jobs_total,
-                     done, failed, running, queued, canceled, workers), else
-                     {"sweeps": [...], "workers": [...]}
-  --http HOST:PORT   ask the status page at this address (or http://HOST:PORT)
-  --http-token T     its token (default $FVSWEEP_HTTP_TOKEN, else --token)
-` + commonUsage
-
 func init() {
-	register(command{name: "status", summary: "show the progress of sweeps and the live workers", run: runStatus})
+	register(command{name: "status", args: "[SWEEP]", run: runStatus,
+		summary: "show the progress of sweeps and the live workers",
+		about: `Shows the jobs of SWEEP (of every sweep without it): total, done, failed,
+running and queued, and the live workers with their current jobs. It asks
+the running coordinator, or reads the store in --data when no server is
+named and none runs (then nothing is running and no workers are listed).
+With --http it asks the JSON API of a coordinator's status page instead
+(serve --http), which needs no NATS access.`,
+		flags: flagSet([]flagDoc{
+			{"json", "", `print JSON: with SWEEP one object (sweep, jobs_total, done, failed, running, queued, canceled, workers), else {"sweeps": [...], "workers": [...]}`, ""},
+			{"http", "HOST:PORT", "ask the status page at this address (or http://HOST:PORT)", ""},
+			{"http-token-file", "FILE", "its token", "$FVSWEEP_HTTP_TOKEN_FILE, $FVSWEEP_HTTP_TOKEN, else --token"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep status",
+			"fvsweep status blast-limiters --json",
+			"fvsweep status --http 127.0.0.1:8080",
+		}})
 }
 
 func runStatus(args []string) int {
@@ -45,7 +45,7 @@ func runStatus(args []string) int {
 	asJSON := fs.Bool("json", false, "")
 	var wf webFlags
 	wf.register(fs)
-	pos, code, done := parseCommand("status", statusUsage, fs, args, func(n int) bool { return n <= 1 })
+	pos, code, done := parseCommand("status", fs, args)
 	if done {
 		return code
 	}

@@ -9,33 +9,35 @@ import (
 	"os"
 )
 
-const submitUsage = `usage: fvsweep submit SPEC [--retry-failed] [--solver FILE]...
-
-Sends the sweep spec SPEC to the running coordinator (found through
+func init() {
+	register(command{name: "submit", args: "SPEC", run: runSubmit,
+		summary: "queue a sweep spec on the running coordinator",
+		about: `Sends the sweep spec SPEC to the running coordinator (found through
 DIR/coordinator.url or --nats), which queues every job that has no stored
 outcome, largest first. The spec is checked here first. Submitting the same
 (or an edited) spec again queues only the jobs not yet stored. The manifests
 of --solver go with the spec: the coordinator checks the spec with them, and
-the jobs of each program wait for a worker that offers it.
-
-flags:
-  --retry-failed     also run again the jobs whose stored outcome is failed
-` + solverUsage + limitUsage + commonUsage
-
-func init() {
-	register(command{name: "submit", summary: "queue a sweep spec on the running coordinator", run: runSubmit})
+the jobs of each program wait for a worker that offers it.`,
+		flags: flagSet([]flagDoc{
+			{"rerun-failed", "", "also run again the jobs whose stored outcome is failed", ""},
+		}, solverDocs, limitDocs, commonFlags(false)),
+		examples: []string{
+			"fvsweep submit configs/blast-limiters.toml",
+			"fvsweep submit configs/blast-limiters.toml --rerun-failed",
+		}})
 }
 
 func runSubmit(args []string) int {
 	fs := flag.NewFlagSet("submit", flag.ContinueOnError)
 	var c common
 	c.register(fs)
-	retry := fs.Bool("retry-failed", false, "")
+	retry := fs.Bool("rerun-failed", false, "")
+	alias(fs, "retry-failed", "rerun-failed")
 	var lf limitFlags
 	lf.register(fs)
 	var sv solverFlags
 	sv.register(fs)
-	pos, code, done := parseCommand("submit", submitUsage, fs, args, func(n int) bool { return n == 1 })
+	pos, code, done := parseCommand("submit", fs, args)
 	if done {
 		return code
 	}

@@ -4,16 +4,16 @@ import (
 	"flag"
 	"io"
 	"os"
-	"slices"
 
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
 )
 
-const tableUsage = `usage: fvsweep table SWEEP [--var V] [--norm l1|l2|linf] [--functional NAME] [--format text|markdown|csv|json]
-
-Prints the convergence tables of a sweep: the runs of each study grouped by
+func init() {
+	register(command{name: "table", args: "SWEEP", run: runTable,
+		summary: "print the convergence tables of a sweep",
+		about: `Prints the convergence tables of a sweep: the runs of each study grouped by
 every parameter except the grid, and per group, for each grid, the spacing h,
 the L1, L2 and L-infinity errors of the variable V, the observed order of
 each pair of grids in the chosen norm, the least-squares fitted order and the
@@ -29,19 +29,15 @@ apparent order, the convergence class, the Richardson-extrapolated value,
 the relative errors e_a and e_ext, GCI_fine and the asymptotic ratio; from
 four grids on also the least-squares order. Text and markdown print the
 relative errors in percent, csv and json as fractions (json with the keys
-of fvsweep gci --json).
-
-flags:
-  --var V            conserved variable judged (default: the study's var, or
-                     the case's first: u or rho)
-  --norm N           norm of the orders and the verdict (default: the study's, l1)
-  --functional NAME  functional for the GCI, in the studies whose runs report
-                     it (default: the study's functional)
-  --format F         text (default), markdown, csv or json
-` + commonUsage
-
-func init() {
-	register(command{name: "table", summary: "print the convergence tables of a sweep", run: runTable})
+of fvsweep gci --json; numeric parameters as numbers).`,
+		flags: flagSet(judgeDocs, []flagDoc{
+			{"functional", "NAME", "functional for the GCI, in the studies whose runs report it", "the study's functional"},
+			{"format", "F", "text, markdown, csv or json", "text"},
+		}, commonFlags(false)),
+		examples: []string{
+			"fvsweep table blast-limiters",
+			"fvsweep table splitting-order --norm linf --var rho --format markdown",
+		}})
 }
 
 // sweepData is a sweep's jobs with their states, its stored spec and the
@@ -72,22 +68,19 @@ func runTable(args []string) int {
 	fs := flag.NewFlagSet("table", flag.ContinueOnError)
 	var c common
 	c.register(fs)
-	v := fs.String("var", "", "")
-	norm := fs.String("norm", "", "")
+	var jf judgeFlags
+	jf.register(fs)
 	functional := fs.String("functional", "", "")
-	format := fs.String("format", "text", "")
-	pos, code, done := parseCommand("table", tableUsage, fs, args, func(n int) bool { return n == 1 })
+	format := choiceFlag(fs, "format", "text", table.Formats...)
+	pos, code, done := parseCommand("table", fs, args)
 	if done {
 		return code
-	}
-	if !slices.Contains(table.Formats, *format) {
-		return usageErr("table", "--format %q: want text, markdown, csv or json", *format)
 	}
 	d, err := openSweep(&c, pos[0])
 	if err != nil {
 		return fail("table: %v", err)
 	}
-	if err := printTables(os.Stdout, d, table.Options{Var: *v, Norm: *norm, Functional: *functional}, *format); err != nil {
+	if err := printTables(os.Stdout, d, table.Options{Var: jf.v, Norm: jf.norm, Functional: *functional}, *format); err != nil {
 		return fail("table: %v", err)
 	}
 	return 0

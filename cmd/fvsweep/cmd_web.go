@@ -25,15 +25,11 @@ type webFlags struct {
 	addr, token string
 }
 
-const webUsage = `  --http HOST:PORT   serve the live status page and its JSON API there while
-                     the coordinator runs (off by default; e.g. 127.0.0.1:8080);
-                     an address other than loopback needs a token
-  --http-token-file FILE
-                     token the page and the API ask for: send "Authorization:
-                     Bearer T", or open http://HOST:PORT/?token=T once in a
-                     browser, which sets a cookie (default $FVSWEEP_HTTP_TOKEN_FILE,
-                     $FVSWEEP_HTTP_TOKEN, else the readers' secret, else --token)
-`
+// webDocs document the flags of webFlags.
+var webDocs = []flagDoc{
+	{"http", "HOST:PORT", "serve the live status page and its JSON API there while the coordinator runs (e.g. 127.0.0.1:8080); an address other than loopback needs a token", "off"},
+	{"http-token-file", "FILE", `token the page and the API ask for: send "Authorization: Bearer T", or open http://HOST:PORT/?token=T once in a browser, which sets a cookie`, "$FVSWEEP_HTTP_TOKEN_FILE, $FVSWEEP_HTTP_TOKEN, else the readers' secret, else --token"},
+}
 
 func (f *webFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&f.addr, "http", os.Getenv("FVSWEEP_HTTP"), "")

@@ -6,43 +6,47 @@ import (
 	"runtime"
 	"time"
 
+	"fvsweep/coordinator/client"
 	"fvsweep/sweep/wire"
 	"fvsweep/worker"
 )
 
-const workerUsage = `usage: fvsweep worker --nats URL [--concurrency N] [--solver FILE]...
+// maxSlots is the most jobs a worker runs at once: a coordinator takes no
+// report that lists more.
+var maxSlots = wire.DefaultReportBounds().MaxCurrent
 
-Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
+func init() {
+	register(command{name: "worker", run: runWorker,
+		summary: "run jobs from a coordinator's queue",
+		about: `Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
 serve'), N at a time, and sends back their outcomes. A worker may join or
 leave at any time. The first SIGINT or SIGTERM drains it: it takes no new
 jobs and finishes the running ones; a second one stops those too and returns
-them to the queue. Every worker runs fvsweep's own solver fv2d; --solver
-adds an outside program (its jobs come only to workers that offer it at the
-version the job names). A program that is not found or not executable here
-is refused at start.
-
-flags:
-  --concurrency N    jobs run at once, at most 256 (default: the number of cores)
-  --id NAME          worker name in status and results (default host-pid-random)
-` + solverUsage + commonUsage
-
-func init() {
-	register(command{name: "worker", summary: "run jobs from a coordinator's queue", run: runWorker})
+them to the queue. Losing the server and finding it again are logged. Every
+worker runs fvsweep's own solver fv2d; --solver adds an outside program (its
+jobs come only to workers that offer it at the version the job names). A
+program that is not found or not executable here is refused at start.`,
+		flags: flagSet([]flagDoc{
+			{"slots", "N", "jobs run at once, 1 to 256", "the number of cores"},
+			{"id", "NAME", "worker name in status and results", "host-pid-random"},
+		}, solverDocs, commonFlags(false)),
+		examples: []string{
+			"fvsweep worker --nats nats://fvsweep-nats-1:4222 --token-file worker.key",
+			"fvsweep worker --data fvsweep-data --slots 4",
+		}})
 }
 
 func runWorker(args []string) int {
 	fs := flag.NewFlagSet("worker", flag.ContinueOnError)
 	var c common
 	c.register(fs)
-	conc := fs.Int("concurrency", runtime.NumCPU(), "")
+	conc := intFlag(fs, "slots", min(runtime.NumCPU(), maxSlots), 1, maxSlots)
+	alias(fs, "concurrency", "slots")
 	id := fs.String("id", "", "")
 	var sv solverFlags
 	sv.register(fs)
-	if _, code, done := parseCommand("worker", workerUsage, fs, args, func(n int) bool { return n == 0 }); done {
+	if _, code, done := parseCommand("worker", fs, args); done {
 		return code
-	}
-	if *conc < 1 {
-		return usageErr("worker", "--concurrency %d: want at least 1", *conc)
 	}
 	log, err := c.logger("fvsweep")
 	if err != nil {
@@ -60,7 +64,9 @@ func runWorker(args []string) int {
 	if url == "" {
 		return usageErr("worker", "no NATS URL: give --nats URL or set FVSWEEP_NATS")
 	}
-	nc, err := c.dial(url, "fvsweep worker", wire.RoleWorker)
+	o := c.dialOptions(url, "fvsweep worker", wire.RoleWorker)
+	o.Log = log.Named("nats")
+	nc, err := client.Dial(o)
 	if err != nil {
 		return fail("worker: %v", err)
 	}

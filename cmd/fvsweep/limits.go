@@ -3,6 +3,8 @@ package main
 import (
 	"flag"
 	"fmt"
+	"math"
+
 	"fvsweep/sweep/spec"
 )
 
@@ -13,12 +15,15 @@ type limitFlags struct {
 	mem  string
 }
 
-const limitUsage = `  --job-limit N      refuse a spec that expands to more runs than N (default 200000)
-  --mem-limit SIZE   refuse a run whose memory estimate exceeds SIZE (default 8GiB)
-`
+// limitDocs document the flags of limitFlags.
+var limitDocs = []flagDoc{
+	{"job-limit", "N", "refuse a spec that expands to more runs than N", "200000"},
+	{"mem-limit", "SIZE", "refuse a run whose memory estimate exceeds SIZE", "8GiB"},
+}
 
 func (l *limitFlags) register(fs *flag.FlagSet) {
-	fs.IntVar(&l.jobs, "job-limit", spec.DefaultMaxJobs, "")
+	l.jobs = spec.DefaultMaxJobs
+	fs.Var(intRange(&l.jobs, 1, math.MaxInt), "job-limit", "")
 	fs.StringVar(&l.mem, "mem-limit", "8GiB", "")
 }
 

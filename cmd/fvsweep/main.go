@@ -1,58 +1,58 @@
 // Command fvsweep runs finite-volume parameter and grid-convergence sweeps.
-// Each subcommand lives in its own file and registers itself with command.
+// Each subcommand lives in its own file and registers itself with command
+// (help.go), with the text of its help.
 package main
 
 import (
 	"fmt"
 	"os"
-	"sort"
 )
 
-// command is one subcommand: run parses its own flags from args and returns
-// the process exit code.
-type command struct {
-	name    string
-	summary string
-	run     func(args []string) int
-}
+func main() { os.Exit(dispatch(os.Args[1:])) }
 
-var commands = map[string]command{}
-
-func register(c command) {
-	if _, dup := commands[c.name]; dup {
-		panic("duplicate command " + c.name)
+// dispatch runs the command named by args[0] and returns the exit code.
+func dispatch(args []string) int {
+	if len(args) == 0 {
+		writeCommands(os.Stderr)
+		return 2
 	}
-	commands[c.name] = c
-}
-
-func usage() {
-	fmt.Fprintln(os.Stderr, "usage: fvsweep COMMAND [flags] [args]\n\ncommands:")
-	names := make([]string, 0, len(commands))
-	for n := range commands {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		fmt.Fprintf(os.Stderr, "  %-10s %s\n", n, commands[n].summary)
-	}
-	fmt.Fprintln(os.Stderr, "\nRun 'fvsweep COMMAND -h' for the flags of a command.")
-}
-
-func main() {
-	if len(os.Args) < 2 || os.Args[1] == "-h" || os.Args[1] == "--help" || os.Args[1] == "help" {
-		usage()
-		if len(os.Args) < 2 {
-			os.Exit(2)
+	name, rest := args[0], args[1:]
+	switch name {
+	case "-h", "--help":
+		writeCommands(os.Stdout)
+		return 0
+	case "help":
+		if len(rest) == 0 {
+			writeCommands(os.Stdout)
+			return 0
 		}
-		return
+		c, ok := lookup(rest[0])
+		if !ok || len(rest) > 1 {
+			return usageErr("help", "unknown command %q", rest[0])
+		}
+		writeHelp(os.Stdout, c)
+		return 0
+	case "-version", "--version":
+		name = "version"
 	}
-	c, ok := commands[os.Args[1]]
+	c, ok := lookup(name)
 	if !ok {
-		fmt.Fprintf(os.Stderr, "fvsweep: unknown command %q\n", os.Args[1])
-		usage()
-		os.Exit(2)
+		fmt.Fprintf(os.Stderr, "fvsweep: unknown command %q (see fvsweep --help)\n", name)
+		return 2
 	}
-	os.Exit(c.run(os.Args[2:]))
+	if name != c.name {
+		fmt.Fprintf(os.Stderr, "fvsweep: warning: %s is deprecated; use fvsweep %s\n", name, c.name)
+	}
+	return c.run(rest)
+}
+
+// lookup finds a command by its name or a deprecated alias.
+func lookup(name string) (*command, bool) {
+	if n, ok := aliases[name]; ok {
+		name = n
+	}
+	c, ok := commands[name]
+	return c, ok
 }
 
 // fail prints a one-line error and returns exit code 1. format starts

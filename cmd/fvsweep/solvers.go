@@ -20,8 +20,10 @@ type solverFlags struct {
 	files []string
 }
 
-const solverUsage = `  --solver FILE      an outside solver program's manifest (repeatable); see docs/own-solver.md
-`
+// solverDocs documents --solver for the help of the commands that take it.
+var solverDocs = []flagDoc{
+	{"solver", "FILE", "an outside solver program's manifest (repeatable); see docs/own-solver.md", ""},
+}
 
 func (s *solverFlags) register(fs *flag.FlagSet) {
 	fs.Func("solver", "", func(v string) error { s.files = append(s.files, v); return nil })

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"flag"
 	"fmt"
 	"runtime"
 )
@@ -8,8 +9,18 @@ import (
 const version = "0.1.0-dev"
 
 func init() {
-	register(command{name: "version", summary: "print the version", run: func([]string) int {
-		fmt.Printf("fvsweep %s %s %s/%s\n", version, runtime.Version(), runtime.GOOS, runtime.GOARCH)
-		return 0
-	}})
+	register(command{name: "version", run: runVersion,
+		summary: "print the version",
+		about:   "Prints the version of fvsweep, the Go release it was built with, and the\noperating system and architecture. fvsweep --version does the same.",
+		examples: []string{
+			"fvsweep version",
+		}})
+}
+
+func runVersion(args []string) int {
+	if _, code, done := parseCommand("version", flag.NewFlagSet("version", flag.ContinueOnError), args); done {
+		return code
+	}
+	fmt.Printf("fvsweep %s %s %s/%s\n", version, runtime.Version(), runtime.GOOS, runtime.GOARCH)
+	return 0
 }

@@ -6,6 +6,7 @@ import (
 	"os"
 	"time"
 
+	"github.com/hashicorp/go-hclog"
 	"github.com/nats-io/nats.go"
 
 	"fvsweep/sweep/wire"
@@ -41,8 +42,12 @@ type DialOptions struct {
 	Timeout time.Duration
 	// QuietDenied leaves permissions violations unprinted: set it for the
 	// connections of the Client, whose requests report them as errors.
-	// Other asynchronous errors are printed to stderr.
+	// Other asynchronous errors are printed to stderr, or logged to Log.
 	QuietDenied bool
+	// Log, if set, receives the asynchronous errors and the connection's
+	// losses of the server and reconnections, with their time (a worker's
+	// and a coordinator's log).
+	Log hclog.Logger
 }
 
 // Dial connects to NATS. A worker or coordinator keeps reconnecting for as
@@ -58,10 +63,25 @@ func Dial(o DialOptions) (*nats.Conn, error) {
 		nats.MaxReconnects(-1),
 		nats.ReconnectWait(500 * time.Millisecond),
 		nats.ErrorHandler(func(_ *nats.Conn, _ *nats.Subscription, err error) {
-			if !o.QuietDenied || !errors.Is(err, nats.ErrPermissionViolation) {
+			switch {
+			case o.QuietDenied && errors.Is(err, nats.ErrPermissionViolation):
+			case o.Log != nil:
+				o.Log.Warn("nats", "connection", o.Name, "error", err)
+			default:
 				fmt.Fprintf(os.Stderr, "fvsweep: %s: %v\n", o.Name, err)
 			}
 		}),
+	}
+	if o.Log != nil {
+		opts = append(opts,
+			nats.DisconnectErrHandler(func(_ *nats.Conn, err error) {
+				if err != nil { // nil: closed on purpose
+					o.Log.Warn("lost the NATS server; reconnecting", "connection", o.Name, "error", err)
+				}
+			}),
+			nats.ReconnectHandler(func(nc *nats.Conn) {
+				o.Log.Info("reconnected to the NATS server", "connection", o.Name, "url", nc.ConnectedUrlRedacted())
+			}))
 	}
 	if o.Role != "" {
 		opts = append(opts, nats.CustomInboxPrefix(o.Names.Inbox(o.Role)))

@@ -12,6 +12,7 @@ import (
 	"fvsweep/coordinator/datadir"
 	"fvsweep/store"
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/wire"
 )
 
 // The layout is the one docs/running.md describes to users.
@@ -155,5 +156,57 @@ func TestSnapshotSources(t *testing.T) {
 	}
 	if _, err := datadir.Snapshot(context.Background(), d, client.DialOptions{}, ref); err == nil || !strings.Contains(err.Error(), "no NATS files at "+d.NATS()) {
 		t.Errorf("no URL, no files: %v", err)
+	}
+}
+
+// A server named by the caller that does not answer is an error naming
+// it: the store in the directory is neither read nor, by cancel and
+// forget, changed (it need not be that server's coordinator's).
+func TestNamedServerDoesNotFallBack(t *testing.T) {
+	ctx := context.Background()
+	d := stored(t)
+	dead := deadURL(t)
+	o := client.DialOptions{Name: "test", URL: dead}
+	if src, err := datadir.Open(ctx, d, o); err == nil || !strings.Contains(err.Error(), dead) {
+		if src != nil {
+			src.Close()
+		}
+		t.Errorf("open with %s named: %v; want an error naming it", dead, err)
+	}
+	if _, err := datadir.ReadSweep(ctx, d, o, "s"); err == nil || !strings.Contains(err.Error(), dead) {
+		t.Errorf("read with %s named: %v; want an error naming it", dead, err)
+	}
+	if _, _, err := datadir.Cancel(ctx, d, o, "s"); err == nil || !strings.Contains(err.Error(), dead) {
+		t.Errorf("cancel with %s named: %v; want an error naming it", dead, err)
+	}
+	if _, _, err := datadir.Forget(ctx, d, o, wire.ForgetRequest{Sweep: "s"}); err == nil || !strings.Contains(err.Error(), dead) {
+		t.Errorf("forget with %s named: %v; want an error naming it", dead, err)
+	}
+	src, err := datadir.Open(ctx, d, client.DialOptions{Name: "test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer src.Close()
+	if rep, err := src.Status(ctx, "s"); err != nil || rep.Sweeps[0].Canceled {
+		t.Errorf("store after a cancel to a dead server: %+v, %v; want it untouched", rep, err)
+	}
+}
+
+// A sweep that is not there is named with the ones that are.
+func TestNotFoundListsSweeps(t *testing.T) {
+	ctx := context.Background()
+	d := stored(t)
+	o := client.DialOptions{Name: "test"}
+	for what, err := range map[string]error{
+		"read":   func() error { _, err := datadir.ReadSweep(ctx, d, o, "nosuch"); return err }(),
+		"cancel": func() error { _, _, err := datadir.Cancel(ctx, d, o, "nosuch"); return err }(),
+		"forget": func() error {
+			_, _, err := datadir.Forget(ctx, d, o, wire.ForgetRequest{Sweep: "nosuch"})
+			return err
+		}(),
+	} {
+		if err == nil || !strings.Contains(err.Error(), `"nosuch": not found; the sweeps are: s`) {
+			t.Errorf("%s of an unknown sweep: %v; want the stored sweeps listed", what, err)
+		}
 	}
 }

@@ -5,6 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"sort"
+	"strings"
 	"time"
 
 	"github.com/nats-io/nats.go"
@@ -28,10 +30,14 @@ type Source struct {
 
 // Open finds the data of d: the coordinator when one answers at o.URL, or
 // at the URL d holds when o.URL is empty; otherwise the store in d,
-// read-only. With a URL given and no coordinator answering it still falls
-// back to the store, if there is one; a server that refuses the
-// credentials or the request is an error, not a reason to read the store.
+// read-only. The store is the fallback only when no server was named: a
+// URL given in o (a server the user named) that does not answer, or on
+// which no coordinator answers, is an error naming it, since the store in
+// d need not be that coordinator's. A URL that d holds may be one a
+// coordinator that died left behind, and then the store is read. A server
+// that refuses the credentials or the request is an error either way.
 func Open(ctx context.Context, d Dir, o client.DialOptions) (*Source, error) {
+	named := o.URL != ""
 	var coordErr error
 	if o.URL = d.CoordinatorURL(o.URL); o.URL != "" {
 		o.QuietDenied = true
@@ -44,9 +50,13 @@ func Open(ctx context.Context, d Dir, o client.DialOptions) (*Source, error) {
 				return &Source{Client: cl, nc: nc}, nil
 			}
 			nc.Close()
+			err = fmt.Errorf("no coordinator answers on the NATS server at %s: %w", o.URL, err)
 		}
 		if errors.Is(err, nats.ErrPermissionViolation) || errors.Is(err, nats.ErrAuthorization) {
 			return nil, err // the server answered: the store is not the fallback
+		}
+		if named {
+			return nil, fmt.Errorf("%w (the store in %s is read only when no server is named)", err, d)
 		}
 		coordErr = err
 	}
@@ -106,15 +116,38 @@ func (s *Source) Sweep(ctx context.Context, name string) (*Sweep, error) {
 	var err error
 	if s.Client != nil {
 		sw.Rows, sw.SpecFile, sw.Spec, sw.Studies, err = s.Client.RowsSpec(ctx, name)
-		return sw, err
+		return sw, s.namesIfMissing(ctx, err, name)
 	}
 	rec, err := s.db.Sweep(name)
 	if err != nil {
-		return nil, err
+		return nil, s.namesIfMissing(ctx, err, name)
 	}
 	sw.SpecFile, sw.Spec, sw.Studies = rec.SpecFile, rec.Spec, rec.Studies
 	sw.Rows, err = coordinator.Rows(s.db, name, nil)
 	return sw, err
+}
+
+// namesIfMissing adds the names of the sweeps there are to err when it
+// says that sweep name is not found; other errors, and nil, it returns as
+// they are. A coordinator's answer carries the store's error as text,
+// which ends in the same words.
+func (s *Source) namesIfMissing(ctx context.Context, err error, name string) error {
+	if err == nil || !strings.HasSuffix(err.Error(), fmt.Sprintf("sweep %q: %v", name, store.ErrNotFound)) {
+		return err
+	}
+	rep, serr := s.Status(ctx, "")
+	if serr != nil {
+		return err
+	}
+	names := make([]string, len(rep.Sweeps))
+	for i, sw := range rep.Sweeps {
+		names[i] = sw.Sweep
+	}
+	if len(names) == 0 {
+		return fmt.Errorf("%w; no sweep is stored yet", err)
+	}
+	sort.Strings(names)
+	return fmt.Errorf("%w; the sweeps are: %s", err, strings.Join(names, ", "))
 }
 
 // ReadSweep opens the data of d (see Open), reads sweep name and closes it.
@@ -128,9 +161,11 @@ func ReadSweep(ctx context.Context, d Dir, o client.DialOptions, name string) (*
 }
 
 // Cancel cancels sweep name through the running coordinator (live true,
-// rep says how many queued jobs it dropped), or, with none answering, marks
-// it canceled in the store of d for the coordinator to apply when it
-// starts.
+// rep says how many queued jobs it dropped), or, with no server named in o
+// and none answering, marks it canceled in the store of d for the
+// coordinator to apply when it starts: only when no coordinator holds the
+// store (the file lock). A server named in o that does not answer is an
+// error (see Open), and the store is left alone.
 func Cancel(ctx context.Context, d Dir, o client.DialOptions, name string) (rep wire.CancelReply, live bool, err error) {
 	src, err := Open(ctx, d, o)
 	if err != nil {
@@ -139,15 +174,18 @@ func Cancel(ctx context.Context, d Dir, o client.DialOptions, name string) (rep 
 	if src.Client != nil {
 		defer src.Close()
 		rep, err = src.Client.Cancel(ctx, name)
-		return rep, true, err
+		return rep, true, src.namesIfMissing(ctx, err, name)
 	}
 	src.Close() // read-only; reopen for writing
-	db, err := store.Open(d.DB(), store.Options{})
+	db, err := openToEdit(d)
 	if err != nil {
 		return rep, false, err
 	}
 	defer db.Close()
-	return rep, false, db.SetCanceled(name, true)
+	if err := db.SetCanceled(name, true); err != nil {
+		return rep, false, (&Source{db: db}).namesIfMissing(ctx, err, name)
+	}
+	return rep, false, nil
 }
 
 // Snapshot reads the field snapshot ref (see client.FetchField): through
@@ -174,8 +212,9 @@ func Snapshot(ctx context.Context, d Dir, o client.DialOptions, ref string) ([]b
 
 // Forget discards stored outcomes of a sweep (see wire.ForgetRequest)
 // through the running coordinator (live true), or, with none answering,
-// in the store of d, opened read-write: only when no coordinator holds it
-// (the file lock), so a coordinator never misses a forget.
+// in the store of d, opened read-write: only when no server is named in o
+// (see Open) and no coordinator holds the store (the file lock), so a
+// coordinator never misses a forget.
 func Forget(ctx context.Context, d Dir, o client.DialOptions, req wire.ForgetRequest) (rep wire.ForgetReply, live bool, err error) {
 	src, err := Open(ctx, d, o)
 	if err != nil {
@@ -184,15 +223,29 @@ func Forget(ctx context.Context, d Dir, o client.DialOptions, req wire.ForgetReq
 	if src.Client != nil {
 		defer src.Close()
 		rep, err = src.Client.Forget(ctx, req)
-		return rep, true, err
+		return rep, true, src.namesIfMissing(ctx, err, req.Sweep)
 	}
 	src.Close() // read-only; reopen for writing
-	db, err := store.Open(d.DB(), store.Options{})
+	db, err := openToEdit(d)
 	if err != nil {
 		return rep, false, err
 	}
 	defer db.Close()
 	rec, err := db.Forget(req.Sweep, coordinator.Selection(req), coordinator.Requester(req.By, "")+" (store opened directly)")
 	rep.Forgotten = len(rec.Jobs)
-	return rep, false, err
+	return rep, false, (&Source{db: db}).namesIfMissing(ctx, err, req.Sweep)
+}
+
+// openToEdit opens the existing store of d read-write, for a change made
+// while no coordinator runs; it fails at once with store.ErrInUse while a
+// coordinator holds it, and creates nothing.
+func openToEdit(d Dir) (*store.DB, error) {
+	if _, err := os.Stat(d.DB()); err != nil {
+		return nil, err
+	}
+	db, err := store.Open(d.DB(), store.Options{})
+	if errors.Is(err, store.ErrInUse) {
+		return nil, fmt.Errorf("%w: a coordinator holds %s but does not answer; retry when it does", err, d.DB())
+	}
+	return db, err
 }

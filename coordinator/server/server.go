@@ -3,6 +3,7 @@ package server
 import (
 	"fmt"
 	"net"
+	"os"
 	"path/filepath"
 	"strconv"
 	"time"
@@ -85,28 +86,71 @@ func Start(o Options) (*natsserver.Server, error) {
 		opts.TLSConfig, opts.TLS, opts.TLSVerify = cfg, true, o.TLS.CA != ""
 		opts.TLSTimeout = 5
 	}
+	if err := writable(o.Dir); err != nil {
+		return nil, fmt.Errorf("nats server: JetStream files: %w", err)
+	}
 	s, err := natsserver.NewServer(opts)
 	if err != nil {
 		return nil, fmt.Errorf("nats server: %w", err)
 	}
+	log := hclog.NewNullLogger()
 	if o.Log != nil {
-		s.SetLoggerV2(serverLog{o.Log.Named("nats")}, false, false, false)
+		log = o.Log.Named("nats")
 	}
+	// The server reports a failure to start (the port is taken, JetStream
+	// cannot use its directory) on its log and stops starting; the first
+	// such line ends the wait with its words.
+	fatal := make(chan string, 1)
+	s.SetLoggerV2(serverLog{l: log, fatal: fatal}, false, false, false)
 	go s.Start()
-	if !s.ReadyForConnections(15 * time.Second) {
-		s.Shutdown()
-		return nil, fmt.Errorf("nats server on %s:%d did not become ready (store %s)", host, port, o.Dir)
+	deadline := time.Now().Add(15 * time.Second)
+	for !s.ReadyForConnections(50 * time.Millisecond) {
+		select {
+		case msg := <-fatal:
+			s.Shutdown()
+			return nil, fmt.Errorf("nats server on %s: %s", net.JoinHostPort(host, strconv.Itoa(port)), msg)
+		default:
+		}
+		if time.Now().After(deadline) {
+			s.Shutdown()
+			return nil, fmt.Errorf("nats server on %s did not become ready in 15s (store %s)", net.JoinHostPort(host, strconv.Itoa(port)), o.Dir)
+		}
 	}
 	return s, nil
 }
 
+// writable makes dir if it is missing and checks that files can be made
+// in it: the server would otherwise fail later, and less clearly.
+func writable(dir string) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	f, err := os.CreateTemp(dir, ".fvsweep-probe-*")
+	if err != nil {
+		return fmt.Errorf("%s is not writable: %w", dir, err)
+	}
+	f.Close()
+	return os.Remove(f.Name())
+}
+
 // serverLog adapts hclog to the NATS server's logger; server notices are
-// debug-level chatter for fvsweep users.
-type serverLog struct{ l hclog.Logger }
+// debug-level chatter for fvsweep users. A fatal line is also sent to
+// fatal, if there is room, for Start to report.
+type serverLog struct {
+	l     hclog.Logger
+	fatal chan<- string
+}
 
 func (s serverLog) Noticef(f string, v ...any) { s.l.Debug(fmt.Sprintf(f, v...)) }
 func (s serverLog) Warnf(f string, v ...any)   { s.l.Warn(fmt.Sprintf(f, v...)) }
-func (s serverLog) Fatalf(f string, v ...any)  { s.l.Error(fmt.Sprintf(f, v...)) }
-func (s serverLog) Errorf(f string, v ...any)  { s.l.Error(fmt.Sprintf(f, v...)) }
-func (s serverLog) Debugf(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }
-func (s serverLog) Tracef(f string, v ...any)  { s.l.Trace(fmt.Sprintf(f, v...)) }
+func (s serverLog) Fatalf(f string, v ...any) {
+	msg := fmt.Sprintf(f, v...)
+	s.l.Error(msg)
+	select {
+	case s.fatal <- msg:
+	default:
+	}
+}
+func (s serverLog) Errorf(f string, v ...any) { s.l.Error(fmt.Sprintf(f, v...)) }
+func (s serverLog) Debugf(f string, v ...any) { s.l.Trace(fmt.Sprintf(f, v...)) }
+func (s serverLog) Tracef(f string, v ...any) { s.l.Trace(fmt.Sprintf(f, v...)) }

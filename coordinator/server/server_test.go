@@ -1,8 +1,12 @@
 package server_test
 
 import (
+	"net"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"fvsweep/coordinator/server"
 )
@@ -40,6 +44,37 @@ func TestIsLoopback(t *testing.T) {
 	} {
 		if got := server.IsLoopback(host); got != want {
 			t.Errorf("IsLoopback(%q) = %v, want %v", host, got, want)
+		}
+	}
+}
+
+// A server that cannot start says why at once: the port taken, the
+// JetStream directory unusable (a file where a directory should be: the
+// tests may run as root, for whom a read-only directory is writable).
+func TestStartReportsCauseAtOnce(t *testing.T) {
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	file := filepath.Join(t.TempDir(), "file")
+	if err := os.WriteFile(file, nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		o    server.Options
+		want string
+	}{
+		{server.Options{Listen: l.Addr().String(), Dir: t.TempDir()}, "address already in use"},
+		{server.Options{Dir: filepath.Join(file, "nats")}, "not a directory"},
+	} {
+		start := time.Now()
+		s, err := server.Start(c.o)
+		if err == nil {
+			s.Shutdown()
+		}
+		if took := time.Since(start); err == nil || !strings.Contains(err.Error(), c.want) || took > 3*time.Second {
+			t.Errorf("%+v: %v after %v; want %q within 3s", c.o, err, took, c.want)
 		}
 	}
 }

@@ -17,7 +17,7 @@ const clusterSpec = `name = "docker-cluster"
 [[study]]
 case = "density-wave"
 fixed = { t_end = 0.5 }
-axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc", "rusanov", "roe", "exact"] }
+cross = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc", "rusanov", "roe", "exact"] }
 refine = { nx = [48, 64, 96] }
 `
 
@@ -59,7 +59,7 @@ func TestDockerCluster(t *testing.T) {
 	var workers []*Container
 	for _, id := range []string{"worker-a", "worker-b"} {
 		workers = append(workers, e.Start(t, img, Spec{Stem: id, Network: n, Env: workerEnv,
-			Args: []string{"worker", "--id", id, "--concurrency", "1"}}))
+			Args: []string{"worker", "--id", id, "--slots", "1"}}))
 	}
 	for _, w := range workers {
 		w.WaitLog("slots on", 60*time.Second)

@@ -53,7 +53,7 @@ func TestWorkerCredentials(t *testing.T) {
 		{[]string{"FVSWEEP_USER=worker", "FVSWEEP_TOKEN=boss-7f3a"}, `refused the credentials (user "worker"`},
 	} {
 		r.env = c.env
-		out, errs, code := r.cli("worker", "--nats", url, "--concurrency", "1")
+		out, errs, code := r.cli("worker", "--nats", url, "--slots", "1")
 		if code == 0 || !strings.Contains(errs, c.want) || !strings.Contains(errs, "Authorization Violation") {
 			t.Errorf("worker with %v: exit %d, want non-zero and %q:\n%s%s", c.env, code, c.want, out, errs)
 		}

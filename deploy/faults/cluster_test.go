@@ -21,7 +21,7 @@ const shortJobs = `name = "short-jobs"
 [[study]]
 case = "density-wave"
 fixed = { t_end = 0.3 }
-axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc", "rusanov", "roe", "exact"] }
+cross = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc", "rusanov", "roe", "exact"] }
 refine = { nx = [48, 64, 96] }
 `
 

@@ -28,7 +28,7 @@ func (r *rig) serve(port int, extra ...string) (*proc, string) {
 // worker starts a worker named id with conc slots.
 func (r *rig) worker(id, url string, conc int, extra ...string) *proc {
 	r.t.Helper()
-	p := r.start(id, append([]string{"worker", "--nats", url, "--id", id, "--concurrency", fmt.Sprint(conc)}, extra...)...)
+	p := r.start(id, append([]string{"worker", "--nats", url, "--id", id, "--slots", fmt.Sprint(conc)}, extra...)...)
 	p.waitOutput("slots on", 20*time.Second)
 	return p
 }
@@ -50,7 +50,7 @@ fixed = { t_end = 1.5, nx = 256 }
 [[study]]
 case = "density-wave"
 fixed = { t_end = 0.2, nx = 32 }
-axes = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc"] }
+cross = { limiter = ["minmod", "vanleer", "mc", "superbee"], flux = ["hll", "hllc"] }
 `
 
 // bigJob returns the ID of the one job with nx = 256 of bigAndSmall.

@@ -57,6 +57,9 @@ type Style struct {
 	Marker int // index into the marker shapes
 }
 
+// Colours is the number of line colours: a plot of more lines repeats one.
+func Colours() int { return len(lineColours) }
+
 // StyleOf returns the style of data line i (i >= 0).
 func StyleOf(i int) Style {
 	return Style{Colour: lineColours[i%len(lineColours)], Dash: i % len(lineDashes), Marker: i % len(lineGlyphs)}

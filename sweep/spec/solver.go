@@ -65,7 +65,7 @@ func (sp *studyParser) solvers(m map[string]any, c fv2d.Case) error {
 			}
 		}
 	}
-	for _, tab := range []string{"fixed", "axes"} {
+	for _, tab := range []string{"fixed", crossKey, axesKey} {
 		if t, ok := m[tab].(map[string]any); ok {
 			if raw, ok := t[solverKey]; ok {
 				if err := add(sub(sp.path, tab, solverKey), tab+"."+solverKey, raw); err != nil {
@@ -141,7 +141,7 @@ func (sp *studyParser) solverPath(m map[string]any) ([]string, string) {
 	if _, ok := m[solverKey]; ok {
 		return sub(sp.path, solverKey), solverKey
 	}
-	for _, tab := range []string{"fixed", "axes"} {
+	for _, tab := range []string{"fixed", crossKey, axesKey} {
 		if t, ok := m[tab].(map[string]any); ok {
 			if _, ok := t[solverKey]; ok {
 				return sub(sp.path, tab, solverKey), tab + "." + solverKey

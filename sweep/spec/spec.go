@@ -116,7 +116,7 @@ type Study struct {
 }
 
 type origin struct {
-	key  string // "fixed.cfl", "axes.limiter", "together[1].flux", "refine.nx"
+	key  string // "fixed.cfl", "cross.limiter", "together[1].flux", "refine.nx"
 	line int
 }
 
@@ -221,7 +221,7 @@ func (p *parser) fail(study int, path []string, key, format string, args ...any)
 
 var (
 	topKeys   = []string{"name", "description", "study"}
-	studyKeys = []string{"case", "label", "fixed", "axes", "together", "refine", "snapshot",
+	studyKeys = []string{"case", "label", "fixed", "cross", "together", "refine", "snapshot",
 		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional", "solver",
 		"informational", "error_growth_tol", "order_drop_tol"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
@@ -284,7 +284,11 @@ func (p *parser) study(i int, raw any) (Study, error) {
 	if !ok {
 		return st, p.fail(st.Index, path, "", "want a table, got %s", typeName(raw))
 	}
-	if err := p.knownKeys(st.Index, path, "", m, studyKeys); err != nil {
+	known := studyKeys
+	if _, old := m[axesKey]; old {
+		known = append(slices.Clone(studyKeys), axesKey)
+	}
+	if err := p.knownKeys(st.Index, path, "", m, known); err != nil {
 		return st, err
 	}
 	cv, ok := m["case"]
@@ -386,7 +390,7 @@ func (sp *studyParser) fixed(m map[string]any) error {
 		s, msg := sp.value(prm, t[name])
 		if msg != "" {
 			if _, isList := t[name].([]any); isList {
-				msg = "want one value (lists go under axes), got a list"
+				msg = "want one value (lists go under cross), got a list"
 			}
 			return sp.fail(path, key, "%s", msg)
 		}
@@ -429,14 +433,28 @@ func (sp *studyParser) axis(path []string, key, name string, raw any, distinct b
 	return a, sp.claim(name, key, a.Line)
 }
 
+// crossKey is the key of the crossed parameters; axesKey its name before
+// 0.2, still read (stored specs use it) and deprecated.
+const (
+	crossKey = "cross"
+	axesKey  = "axes"
+)
+
 func (sp *studyParser) axes(m map[string]any) error {
-	t, err := sp.table(m, "axes")
+	key := crossKey
+	if _, ok := m[axesKey]; ok {
+		if _, both := m[crossKey]; both {
+			return sp.fail(sub(sp.path, axesKey), axesKey, "give the crossed parameters under cross only (axes is its old name)")
+		}
+		key = axesKey
+	}
+	t, err := sp.table(m, key)
 	if err != nil || t == nil {
 		return err
 	}
-	base := sub(sp.path, "axes")
+	base := sub(sp.path, key)
 	for _, name := range sp.lines.ordered(base, t) {
-		a, err := sp.axis(sub(base, name), "axes."+keyName(name), name, t[name], true)
+		a, err := sp.axis(sub(base, name), key+"."+keyName(name), name, t[name], true)
 		if err != nil {
 			return err
 		}

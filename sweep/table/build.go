@@ -77,8 +77,9 @@ type Group struct {
 	// until it does (refine.extend_to); nil otherwise.
 	Settle *verify.Settling
 
-	functionals []string // Study.Functionals, the names of GridRow.Phi
-	refine      string   // the refinement axis, for Settle's text
+	functionals []string             // Study.Functionals, the names of GridRow.Phi
+	refine      string               // the refinement axis, for Settle's text
+	kinds       map[string]fv2d.Kind // of the case's parameters, for JSON; nil for a case fv2d does not know
 }
 
 // Study is the convergence tables of one [[study]] of a spec.
@@ -240,10 +241,11 @@ func (st *Study) fill(jobs []job.Job, outcomes map[string]job.Outcome) error {
 	varying := varyingKeys(byGroup)
 	// A study with an outside program names each group's solver.
 	programs := slices.ContainsFunc(jobs, func(j job.Job) bool { return j.Solver != "" })
+	kinds := paramKinds(st.Case)
 	seenVar, otherVars := false, map[string]bool{}
 	for _, ident := range order {
 		gj := byGroup[ident]
-		g := Group{Ident: ident, functionals: st.Functionals}
+		g := Group{Ident: ident, functionals: st.Functionals, kinds: kinds}
 		for _, j := range gj {
 			nan := math.NaN()
 			r := GridRow{JobID: j.ID, NX: atoi(j.Params["nx"]), NY: atoi(j.Params["ny"]), Status: "pending",

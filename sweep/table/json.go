@@ -3,7 +3,9 @@ package table
 import (
 	"encoding/json"
 	"io"
+	"strconv"
 
+	"fvsweep/fv2d"
 	"fvsweep/sweep/verify"
 )
 
@@ -25,7 +27,7 @@ type studyJSON struct {
 
 type groupJSON struct {
 	Label    string              `json:"label"`
-	Params   map[string]string   `json:"params"`
+	Params   map[string]any      `json:"params"` // numbers and booleans as such
 	Rows     []rowJSON           `json:"rows"`
 	Fitted   Num                 `json:"fitted_order"`
 	FittedSE Num                 `json:"fitted_order_se"`
@@ -62,7 +64,7 @@ func (st Study) MarshalJSON() ([]byte, error) {
 // MarshalJSON writes the group with its rows; a functional's value is keyed
 // by its name.
 func (g Group) MarshalJSON() ([]byte, error) {
-	v := groupJSON{Label: g.Label, Params: g.Params, Verdict: g.Verdict, GCI: g.GCI, Fitted: none, FittedSE: none, Settle: g.Settle}
+	v := groupJSON{Label: g.Label, Params: typedParams(g.Params, g.kinds), Verdict: g.Verdict, GCI: g.GCI, Fitted: none, FittedSE: none, Settle: g.Settle}
 	if g.Fitted {
 		v.Fitted, v.FittedSE = Num(g.Fit.Order), Num(g.Fit.OrderSE)
 	}
@@ -85,4 +87,47 @@ func writeJSON(w io.Writer, s Set) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(s)
+}
+
+// paramKinds are the kinds of the parameters of case name; nil for a case
+// fv2d does not know (an outside program's), whose values stay strings.
+func paramKinds(name string) map[string]fv2d.Kind {
+	c, err := fv2d.LookupCase(name)
+	if err != nil {
+		return nil
+	}
+	kinds := map[string]fv2d.Kind{}
+	for _, p := range fv2d.ParamsOf(c) {
+		kinds[p.Name] = p.Kind
+	}
+	return kinds
+}
+
+// typedParams are params for JSON: the values of integer and real
+// parameters as numbers, of boolean ones as booleans, the others (and any
+// value that does not parse as its kind) as strings.
+func typedParams(params map[string]string, kinds map[string]fv2d.Kind) map[string]any {
+	out := make(map[string]any, len(params))
+	for k, v := range params {
+		out[k] = v
+		kind, ok := kinds[k]
+		if !ok {
+			continue
+		}
+		switch kind {
+		case fv2d.Int:
+			if n, err := strconv.ParseInt(v, 10, 64); err == nil {
+				out[k] = n
+			}
+		case fv2d.Float:
+			if x, err := strconv.ParseFloat(v, 64); err == nil {
+				out[k] = x
+			}
+		case fv2d.Bool:
+			if b, err := strconv.ParseBool(v); err == nil {
+				out[k] = b
+			}
+		}
+	}
+	return out
 }
