@@ -512,6 +512,68 @@ func TestWebPageCanceled(t *testing.T) {
 	shot(t, ctx, "canceled")
 }
 
+// closeGridsSpec refines by about 1 % per grid, far below the ratio of 1.3
+// that Celik et al. 2008 recommend (recalled from memory): the vortex's
+// order verdict and the quadrants' GCI both warn.
+const closeGridsSpec = `name = "close"
+[[study]]
+case = "vortex"
+fixed = { t_end = 0.5 }
+refine = { nx = [40, 41, 42] }
+[[study]]
+case = "quadrants"
+fixed = { config = 3 }
+refine = { nx = [100, 101, 102] }
+functional = "entropy"
+`
+
+// The page says out loud what the tables warn about, under the group it
+// concerns, and its JSON carries the same warnings.
+func TestWebPageWarnings(t *testing.T) {
+	ctx := browser(t)
+	r := newRig(t)
+	r.addWorker(2, worker.FV2D{})
+	r.submit(closeGridsSpec)
+	r.wait("close", 6, 60*time.Second)
+	w, err := web.Serve(r.coord, web.Options{Addr: "127.0.0.1:0"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer w.Close()
+	if err := chromedp.Do(ctx, chromedp.Navigate(w.URL())); err != nil {
+		t.Fatal(err)
+	}
+	err = waitFor(ctx, "the warnings of both studies", `(() => {
+		const ws = s => [...document.querySelectorAll('#tables-' + s + ' ul.warnings li')].map(li => li.textContent);
+		return ws(1).some(x => x.includes('order verdict: refinement ratio h2/h1 = 1.024 is below 1.3')) &&
+			ws(2).some(x => x.includes('entropy, grids 102/101/100: refinement ratio h2/h1 = 1.01 is below 1.3')); })()`, 15*time.Second)
+	if err != nil {
+		t.Fatalf("%v\ntables: %s", err, text(ctx, "#tables"))
+	}
+	// Shown, not merely present: the list has a box and the warning colour.
+	visible, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const u = document.querySelector('#tables ul.warnings');
+		const r = u.getBoundingClientRect(); return r.width > 0 && r.height > 0 && getComputedStyle(u).color !== getComputedStyle(document.body).color; })()`))
+	if err != nil || !visible {
+		t.Errorf("the warning list is not visibly set apart (%v)", err)
+	}
+	var got struct {
+		Studies []struct {
+			Groups []struct {
+				Verdict struct{ Warnings []string } `json:"verdict"`
+				GCI     []struct {
+					Records []struct{ Warnings []string } `json:"records"`
+				} `json:"gci"`
+			} `json:"groups"`
+		} `json:"studies"`
+	}
+	get(t, web.Handler(r.coord, ""), "127.0.0.1", "/api/sweeps/close/tables", &got)
+	if len(got.Studies) != 2 || len(got.Studies[0].Groups[0].Verdict.Warnings) == 0 || len(got.Studies[1].Groups[0].GCI) == 0 ||
+		len(got.Studies[1].Groups[0].GCI[0].Records[0].Warnings) == 0 {
+		t.Errorf("tables JSON lacks the warnings: %+v", got)
+	}
+	shot(t, ctx, "warnings")
+}
+
 // watchPaint makes the page record, before its own script runs, whether
 // it ever shows a sweep or a worker while its status line still says it is
 // connecting (window.__staleStatus).

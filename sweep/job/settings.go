@@ -32,7 +32,18 @@ type StudySettings struct {
 	// bit; records written before these keys existed read 0.
 	ErrorGrowthTol float64 `json:"error_growth_tol,omitempty"`
 	OrderDropTol   float64 `json:"order_drop_tol,omitempty"`
+	// Uncertainty is the estimate of a functional's discretisation error
+	// that the tables report: UncertaintyCelik, UncertaintyLSQ, or "" for
+	// Celik's GCI on up to three grids and the least-squares uncertainty
+	// on four or more.
+	Uncertainty string `json:"uncertainty,omitempty"`
 }
+
+// Values of StudySettings.Uncertainty.
+const (
+	UncertaintyCelik = "celik" // grid convergence index, Celik et al. 2008
+	UncertaintyLSQ   = "lsq"   // least-squares uncertainty, Eça & Hoekstra 2014
+)
 
 // Defaults of StudySettings.ErrorGrowthTol and OrderDropTol: a change of
 // an error by less than one part in a million, or of an order by less than

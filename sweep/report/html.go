@@ -66,6 +66,17 @@ type Report struct {
 	Notes     []string
 }
 
+// Warned reports whether some table of r carries a plausibility warning,
+// which the page then styles.
+func (r *Report) Warned() bool {
+	for _, st := range r.Studies {
+		if st.HasWarnings() {
+			return true
+		}
+	}
+	return false
+}
+
 // InlineSVG draws d as SVG and returns it ready to place in HTML: the XML
 // prolog and comments removed, the rest checked to be well-formed XML with
 // an <svg> root.
@@ -184,7 +195,8 @@ th { background: #eee; } td.t { text-align: left; }
 pre { background: #f6f6f6; border: 1px solid #ddd; padding: 0.8em; overflow-x: auto; font-size: 0.88em; }
 figure { margin: 1em 0; } figure svg { max-width: 100%; height: auto; }
 .note { color: #555; font-style: italic; }
-dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } dt { font-weight: bold; }
+{{if .Warned}}.warnings { color: #7a3d00; background: #fff6e5; border-left: 3px solid #d98c1f; margin: 0.3em 0 0.8em; padding: 0.3em 0.6em 0.3em 1.8em; }
+{{end}}dl { display: grid; grid-template-columns: max-content auto; gap: 0.2em 1em; } dt { font-weight: bold; }
 </style>
 </head>
 <body>

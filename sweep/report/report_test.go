@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -243,6 +244,8 @@ func TestWriteReport(t *testing.T) {
 		"refine = { nx = [16, 32, 64] }",              // the spec
 		ThisMachine("").GOOS, "test", "2025-03-01 12:00:00 UTC",
 		"1 done, 1 failed, 0 pending",
+		// Study 2 has one usable grid: its verdict warns, styled.
+		".warnings {", `<ul class="warnings">`, "<li>warning: order verdict: fewer than the two usable grids an order needs</li>",
 	} {
 		if !strings.Contains(html, want) {
 			t.Errorf("report lacks %q", want)
@@ -270,6 +273,25 @@ func TestWriteReport(t *testing.T) {
 		} else if err != nil {
 			t.Fatalf("report structure: %v", err)
 		}
+	}
+}
+
+// A report whose tables carry no warning has neither the warning lists
+// nor their style: it is what it was before tables warned.
+func TestWriteReportWithoutWarnings(t *testing.T) {
+	r := sampleReport(t)
+	st := r.Studies[0]
+	st.Groups = slices.DeleteFunc(st.Groups, func(g table.Group) bool { return g.Params["limiter"] != "mc" })
+	r.Studies, r.Failures = []StudyReport{st}, nil
+	if len(st.Groups) != 1 || st.HasWarnings() {
+		t.Fatalf("the mc group (three grids, ratio 2, order 2 exactly) should have no warning: %+v", st.Groups)
+	}
+	var buf bytes.Buffer
+	if err := Write(&buf, r); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(buf.String(), "warning") {
+		t.Errorf("report without warnings mentions them:\n%s", buf.String())
 	}
 }
 

@@ -10,7 +10,8 @@ func (s *Spec) Settings() []job.StudySettings {
 		out[i] = job.StudySettings{Index: st.Index, Label: st.Label, Case: st.Case, Refine: st.Refine,
 			Var: st.Var, Norm: st.Norm, DesignOrder: st.DesignOrder, OrderTol: st.OrderTol,
 			OrderTolHi: st.OrderTolHi, Functional: st.Functional,
-			Informational: st.Informational, ErrorGrowthTol: st.ErrorGrowthTol, OrderDropTol: st.OrderDropTol}
+			Informational: st.Informational, ErrorGrowthTol: st.ErrorGrowthTol, OrderDropTol: st.OrderDropTol,
+			Uncertainty: st.Uncertainty}
 		if st.ExtendTo > 0 {
 			out[i].ExtendTo, out[i].Grids = st.ExtendTo, gridInts(st.Grid[0].Values)
 		}

@@ -103,6 +103,10 @@ type Study struct {
 	Informational  bool
 	ErrorGrowthTol float64
 	OrderDropTol   float64
+	// Uncertainty is how the tables estimate a functional's discretisation
+	// error (job.StudySettings.Uncertainty): "celik", "lsq", or "" for the
+	// default by the number of grids (the spec's "auto").
+	Uncertainty string
 
 	// ExtendTo is refine.extend_to: the largest grid on the refinement axis
 	// to which grids are added while a group's order has not settled; 0 if
@@ -223,7 +227,7 @@ var (
 	topKeys   = []string{"name", "description", "study"}
 	studyKeys = []string{"case", "label", "fixed", "cross", "together", "refine", "snapshot",
 		"design_order", "order_tol", "order_tol_high", "var", "norm", "functional", "solver",
-		"informational", "error_growth_tol", "order_drop_tol"}
+		"informational", "error_growth_tol", "order_drop_tol", "uncertainty"}
 	sweepName = regexp.MustCompile(`^[A-Za-z0-9_-]{1,64}$`)
 )
 
@@ -592,7 +596,7 @@ func (sp *studyParser) follow() error {
 // options reads the study's scalar settings.
 func (sp *studyParser) options(m map[string]any) error {
 	st := sp.st
-	for _, key := range []string{"label", "var", "norm", "functional"} {
+	for _, key := range []string{"label", "var", "norm", "functional", "uncertainty"} {
 		raw, ok := m[key]
 		if !ok {
 			continue
@@ -613,6 +617,14 @@ func (sp *studyParser) options(m map[string]any) error {
 			st.Norm = s
 		case "functional":
 			st.Functional, st.functionalLine = s, sp.lines.at(sub(sp.path, key))
+		case "uncertainty":
+			switch s {
+			case job.UncertaintyCelik, job.UncertaintyLSQ:
+				st.Uncertainty = s
+			case "auto":
+			default:
+				return sp.fail(sub(sp.path, key), key, "%q is not one of celik, lsq, auto", s)
+			}
 		}
 	}
 	if st.Label == "" {

@@ -214,6 +214,7 @@ func TestParseSpecErrors(t *testing.T) {
 		{"order drop tol", study("case = \"spec-test-case\"\norder_drop_tol = \"x\"\n"), 5, "order_drop_tol", "want a number"},
 		{"order tol nan", study("case = \"spec-test-case\"\norder_tol = nan\n"), 5, "order_tol", "out of range"},
 		{"norm", study("case = \"spec-test-case\"\nnorm = \"l3\"\n"), 5, "norm", "not one of l1, l2, linf"},
+		{"uncertainty", study("case = \"spec-test-case\"\nuncertainty = \"gci\"\n"), 5, "uncertainty", "not one of celik, lsq, auto"},
 		{"var", study("case = \"spec-test-case\"\nvar = \"u\"\n"), 5, "var", "not a conserved variable"},
 		{"label newline", study("case = \"spec-test-case\"\nlabel = \"a\\nb\"\n"), 5, "label", "one-line string"},
 		{"functional", study("case = \"spec-test-case\"\nfunctional = \"nope\"\n"), 5, "functional", `no functional "nope" (it has: probe)`},
@@ -424,5 +425,22 @@ func TestFirstErrorInOrder(t *testing.T) {
 	_, err = LoadSource("o.toml", []byte(study("case = \"spec-test-case\"\naxes = { "+k0+" }\nrefine = { nx = [64, 70000, 80000] }\n")), DefaultLimits())
 	if err == nil || !strings.Contains(err.Error(), "grid 70000x70000 (at k0=0 nx=70000 ny=70000)") {
 		t.Fatalf("err = %v, want the run k0=0 nx=70000", err)
+	}
+}
+
+// The uncertainty key chooses the tables' estimate of a functional's
+// error; auto (or no key) leaves it to the number of grids.
+func TestParseUncertainty(t *testing.T) {
+	for _, tc := range []struct{ line, want string }{
+		{"", ""}, {"uncertainty = \"auto\"\n", ""},
+		{"uncertainty = \"celik\"\n", job.UncertaintyCelik}, {"uncertainty = \"lsq\"\n", job.UncertaintyLSQ},
+	} {
+		s, err := Parse("test.toml", []byte("name = \"u\"\n[[study]]\ncase = \"spec-test-case\"\n"+tc.line))
+		if err != nil {
+			t.Fatalf("%q: %v", tc.line, err)
+		}
+		if got := s.Settings()[0].Uncertainty; s.Studies[0].Uncertainty != tc.want || got != tc.want {
+			t.Errorf("%q: study %q, settings %q, want %q", tc.line, s.Studies[0].Uncertainty, got, tc.want)
+		}
 	}
 }

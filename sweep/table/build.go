@@ -11,8 +11,11 @@
 // an exact solution are judged by their error norms and observed orders;
 // functionals of the solution (the only measure when there is no exact
 // solution) by the grid convergence index of Celik et al. 2008
-// (verify.GCI). The maths is package verify's; this package only arranges
-// its inputs and results.
+// (verify.GCI) and, from four grids on or where the study asks for it, the
+// least-squares uncertainty of Eça & Hoekstra 2014
+// (verify.LeastSquaresUncertainty). The maths is package verify's; this
+// package only arranges its inputs and results, and the writers print the
+// plausibility warnings of verify under the records they concern.
 package table
 
 import (
@@ -110,10 +113,14 @@ type Study struct {
 	Informational  bool
 	ErrorGrowthTol float64
 	OrderDropTol   float64
-	Groups         []Group
-	Done           int
-	Failed         int
-	Pending        int
+	// Uncertainty is the study's choice of estimate for its functionals
+	// (job.StudySettings.Uncertainty): job.UncertaintyCelik, UncertaintyLSQ
+	// or "" (Celik's GCI up to three grids, least squares from four).
+	Uncertainty string
+	Groups      []Group
+	Done        int
+	Failed      int
+	Pending     int
 }
 
 // Set is the tables of one sweep: what every writer writes.
@@ -196,6 +203,7 @@ func Build(settings []job.StudySettings, jobs []job.Job, outcomes map[string]job
 				st.Norm = ss.Norm
 			}
 			st.Refine, st.ExtendTo, st.Grids = ss.Refine, ss.ExtendTo, ss.Grids
+			st.Uncertainty = ss.Uncertainty
 		}
 		if o.Var != "" {
 			st.Var = o.Var

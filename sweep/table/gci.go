@@ -21,12 +21,19 @@ import (
 // from four grids on, the least-squares fit; its records carry the keys of
 // `fvsweep gci --json`. Records is empty and Note says why when no estimate
 // can be made.
+//
+// LSQ is the least-squares uncertainty of Eça & Hoekstra 2014 over the same
+// grids, for a study that uses it (Study.Uncertainty; by default from four
+// grids on), nil otherwise; LSQNote says why a study that asks for it has
+// none.
 type FunctionalGCI struct {
 	Functional string `json:"functional"`
 	NX         []int  `json:"nx"` // of each grid in GCIStudy.H, finest first
 	NY         []int  `json:"ny"`
 	verify.GCIStudy
-	Note string `json:"note,omitempty"`
+	Note    string              `json:"note,omitempty"`
+	LSQ     *verify.Uncertainty `json:"lsq,omitempty"`
+	LSQNote string              `json:"lsq_note,omitempty"`
 }
 
 // chooseFunctionals sets st.Functional and st.Functionals, and st.Exact,
@@ -77,9 +84,23 @@ func (st *Study) chooseFunctionals(jobs []job.Job, outcomes map[string]job.Outco
 	}
 }
 
+// usesLSQ reports whether st estimates a functional's error on n grids by
+// least squares: as the study chooses, by default from four grids on.
+func (st *Study) usesLSQ(n int) bool {
+	switch st.Uncertainty {
+	case job.UncertaintyLSQ:
+		return true
+	case job.UncertaintyCelik:
+		return false
+	}
+	return n >= 4
+}
+
 // functionalGCI estimates the discretisation error of functional k of st
 // over the finished grids of g that report it. With two grids the order is
-// assumed to be the design order (factor of safety 3).
+// assumed to be the design order (factor of safety 3). The design order,
+// where known, sharpens the warnings and bounds the trusted orders of the
+// least-squares uncertainty.
 func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 	f := FunctionalGCI{Functional: st.Functionals[k]}
 	var phi, h []float64
@@ -94,14 +115,17 @@ func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 		f.Note = fmt.Sprintf("%d finished grid(s) with a value of %s; the GCI needs at least 2 (3 for an observed order)", len(phi), f.Functional)
 		return f
 	}
-	var opts verify.GCIOptions
+	design, known := st.designOrder(g)
+	if !known {
+		design = 0
+	}
+	opts := verify.GCIOptions{DesignOrder: design}
 	if len(phi) == 2 {
-		p, ok := st.designOrder(g)
-		if !ok {
+		if !known {
 			f.Note = "two finished grids and no design order to assume: set design_order in the study, or add a grid"
 			return f
 		}
-		opts.AssumedOrder = p
+		opts.AssumedOrder = design
 	}
 	gs, err := verify.GCI(phi, h, opts)
 	if err != nil {
@@ -109,6 +133,13 @@ func (st *Study) functionalGCI(g *Group, k int) FunctionalGCI {
 		return f
 	}
 	f.GCIStudy = *gs
+	if st.usesLSQ(len(phi)) {
+		if u, err := verify.LeastSquaresUncertainty(phi, h, verify.UncertaintyOptions{DesignOrder: design}); err != nil {
+			f.LSQNote = "no least-squares uncertainty: " + err.Error()
+		} else {
+			f.LSQ = u
+		}
+	}
 	// GCI sorts finest first; the rows run coarsest first with distinct h.
 	slices.Reverse(nx)
 	slices.Reverse(ny)
@@ -144,6 +175,53 @@ func (f FunctionalGCI) Cells() [][]string {
 	return rows
 }
 
+// LSQHeader names the columns of FunctionalGCI.LSQCells.
+var LSQHeader = []string{"functional", "grids (nx)", "fit", "order", "extrapolated", "sigma", "Fs", "U", "U/|phi_1|"}
+
+// LSQCaption heads the least-squares table of a group in every format.
+const LSQCaption = "Least-squares uncertainty (Eça & Hoekstra 2014) of the finest-grid value over all grids"
+
+// LSQCells returns f's least-squares uncertainty as one display row under
+// LSQHeader, nil without one. U/|phi_1| is in percent; a quantity the data
+// do not define is "–".
+func (f FunctionalGCI) LSQCells() [][]string {
+	u := f.LSQ
+	if u == nil {
+		return nil
+	}
+	fit := u.Fit
+	if u.Weighted {
+		fit += " (weighted)"
+	}
+	return [][]string{{f.Functional, f.GridNames(nil), fit, fmtPtr(u.Order, 'f', 2, 1), fmtPtr(u.Extrapolated, 'g', 7, 1),
+		fmtG(u.Sigma, 3), fmtG(u.SafetyFactor, 3), fmtG(u.UncertaintyAbs, 3), pct(u.Uncertainty)}}
+}
+
+// Warnings returns the plausibility warnings of f's records, its
+// least-squares order and its least-squares uncertainty, each headed by
+// the functional and the grids or the estimate it concerns.
+func (f FunctionalGCI) Warnings() []string {
+	var out []string
+	for _, r := range f.Records {
+		out = headed(out, f.Functional+", grids "+f.GridNames(r.Grids), r.Warnings)
+	}
+	if ls := f.LeastSquares; ls != nil {
+		out = headed(out, f.Functional+", least-squares order", ls.Warnings)
+	}
+	if u := f.LSQ; u != nil {
+		out = headed(out, f.Functional+", least-squares uncertainty", u.Warnings)
+	}
+	return out
+}
+
+// headed appends each of lines to out as "head: line".
+func headed(out []string, head string, lines []string) []string {
+	for _, l := range lines {
+		out = append(out, head+": "+l)
+	}
+	return out
+}
+
 // Notes returns the notes of f's records and fit, and the reason for no
 // estimate, each headed by the functional and the grids it concerns.
 func (f FunctionalGCI) Notes() []string {
@@ -151,27 +229,34 @@ func (f FunctionalGCI) Notes() []string {
 	if f.Note != "" {
 		out = append(out, f.Functional+": "+f.Note)
 	}
+	if f.LSQNote != "" {
+		out = append(out, f.Functional+": "+f.LSQNote)
+	}
 	for _, r := range f.Records {
-		for _, n := range r.Notes {
-			out = append(out, fmt.Sprintf("%s, grids %s: %s", f.Functional, f.GridNames(r.Grids), n))
-		}
+		out = headed(out, f.Functional+", grids "+f.GridNames(r.Grids), r.Notes)
 		if r.Convergence == verify.Oscillatory {
 			out = append(out, fmt.Sprintf("%s, grids %s: oscillatory convergence (R < 0): the order and the GCI are less certain than for monotone convergence",
 				f.Functional, f.GridNames(r.Grids)))
 		}
 	}
 	if ls := f.LeastSquares; ls != nil {
-		for _, n := range ls.Notes {
-			out = append(out, fmt.Sprintf("%s, least squares: %s", f.Functional, n))
-		}
+		out = headed(out, f.Functional+", least squares", ls.Notes)
+	}
+	if u := f.LSQ; u != nil {
+		out = headed(out, f.Functional+", least-squares uncertainty", u.Notes)
 	}
 	return out
 }
 
-// Result is the fine-grid value of f with its numerical uncertainty,
+// Result is the fine-grid value of f with its numerical uncertainty: with
+// a least-squares uncertainty phi1 ± U_1 (Eça & Hoekstra 2014), else
 // phi1 ± GCI_fine |phi1|, as Celik et al. 2008 ask it to be reported, from
-// the record of the finest grids; "" when that record has no GCI.
+// the record of the finest grids; "" when there is neither.
 func (f FunctionalGCI) Result() string {
+	if u := f.LSQ; u != nil && len(f.NX) > 0 {
+		return fmt.Sprintf("%s on the finest grid (nx %d): %s ± %s (least-squares U, %s; U/|phi_1| %s)",
+			f.Functional, f.NX[0], fmtG(u.Phi[0], 7), fmtG(u.UncertaintyAbs, 3), fitName(u), pct(u.Uncertainty))
+	}
 	if len(f.Records) == 0 || f.Records[0].GCIFine == nil || len(f.NX) == 0 {
 		return ""
 	}
@@ -226,14 +311,17 @@ func pct(p *float64) string {
 	return fmtPtr(p, 'g', 3, 100) + " %"
 }
 
-// GCICells is Cells of every functional of g, one table under GCIHeader.
-func (g Group) GCICells() [][]string {
-	var rows [][]string
+// eachGCI concatenates part of every functional of g, in order.
+func eachGCI[T any](g Group, part func(FunctionalGCI) []T) []T {
+	var out []T
 	for _, f := range g.GCI {
-		rows = append(rows, f.Cells()...)
+		out = append(out, part(f)...)
 	}
-	return rows
+	return out
 }
+
+// GCICells is Cells of every functional of g, one table under GCIHeader.
+func (g Group) GCICells() [][]string { return eachGCI(g, FunctionalGCI.Cells) }
 
 // GCIResults is Result of every functional of g that has one.
 func (g Group) GCIResults() []string {
@@ -249,11 +337,38 @@ func (g Group) GCIResults() []string {
 // GCICaption heads the GCI table of a group in every format.
 const GCICaption = "GCI (Celik et al. 2008; e_a, e_ext and GCI_fine relative to the finest-grid value)"
 
-// GCINotes is Notes of every functional of g.
-func (g Group) GCINotes() []string {
-	var out []string
-	for _, f := range g.GCI {
-		out = append(out, f.Notes()...)
+// fitName names the fit the least-squares uncertainty u chose.
+func fitName(u *verify.Uncertainty) string {
+	if u.Fit == verify.FitDataRange {
+		return "from the data range"
+	}
+	s := u.Fit + " fit"
+	if u.Weighted {
+		s = "weighted " + s
+	}
+	return s
+}
+
+// LSQCells is LSQCells of every functional of g, one table under
+// LSQHeader.
+func (g Group) LSQCells() [][]string { return eachGCI(g, FunctionalGCI.LSQCells) }
+
+// GCIWarnings is Warnings of every functional of g.
+func (g Group) GCIWarnings() []string { return eachGCI(g, FunctionalGCI.Warnings) }
+
+// VerdictWarnings are the plausibility warnings of g's order verdict, each
+// headed "order verdict"; none while g waits for grids still to come
+// (its verdict is provisional and says so).
+func (g Group) VerdictWarnings() []string {
+	if g.Waiting() {
+		return nil
+	}
+	out := make([]string, len(g.Verdict.Warnings))
+	for i, w := range g.Verdict.Warnings {
+		out[i] = "order verdict: " + w
 	}
 	return out
 }
+
+// GCINotes is Notes of every functional of g.
+func (g Group) GCINotes() []string { return eachGCI(g, FunctionalGCI.Notes) }

@@ -54,6 +54,30 @@ func (g Group) Waiting() bool {
 	return g.Verdict.Status == verify.StatusInsufficient && g.Finished() < len(g.Rows)
 }
 
+// HasLSQ reports whether some functional of st has a least-squares
+// uncertainty.
+func (st Study) HasLSQ() bool {
+	for _, g := range st.Groups {
+		for _, f := range g.GCI {
+			if f.LSQ != nil {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// HasWarnings reports whether some group of st shows a plausibility
+// warning (VerdictWarnings, GCIWarnings).
+func (st Study) HasWarnings() bool {
+	for _, g := range st.Groups {
+		if len(g.VerdictWarnings()) > 0 || len(g.GCIWarnings()) > 0 {
+			return true
+		}
+	}
+	return false
+}
+
 // NormLabel is the symbol of a norm of a variable: "L1(rho)".
 func NormLabel(norm, v string) string {
 	n := map[string]string{"l1": "L1", "l2": "L2", "linf": "Linf"}[norm]
@@ -76,6 +100,8 @@ var tmpl = template.Must(template.New("tables").Funcs(template.FuncMap{
 	"phi":        FormatPhi,
 	"gciHeader":  func() []string { return GCIHeader },
 	"gciCaption": func() string { return GCICaption },
+	"lsqHeader":  func() []string { return LSQHeader },
+	"lsqCaption": func() string { return LSQCaption },
 }).Parse(tablesTemplate))
 
 const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Index}}">
@@ -85,7 +111,7 @@ const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Ind
 {{end}}{{end}}
 
 {{define "head"}}<h2>Study {{.Index}}: {{.Case}}{{if .Label}} ({{.Label}}){{end}}</h2>
-<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. {{if .Exact}}Error measure: {{norm .Norm .Var}}.{{else}}No exact solution: no errors or orders.{{end}}{{if .Functionals}} Functionals: {{range $i, $f := .Functionals}}{{if $i}}, {{end}}{{$f}}{{end}}, with the grid convergence index (Celik et al. 2008).{{end}}</p>
+<p>{{.Done}} done, {{.Failed}} failed, {{.Pending}} pending. {{if .Exact}}Error measure: {{norm .Norm .Var}}.{{else}}No exact solution: no errors or orders.{{end}}{{if .Functionals}} Functionals: {{range $i, $f := .Functionals}}{{if $i}}, {{end}}{{$f}}{{end}}, with the grid convergence index (Celik et al. 2008){{if .HasLSQ}} and the least-squares uncertainty (Eça &amp; Hoekstra 2014){{end}}.{{end}}</p>
 {{end}}
 
 {{define "study"}}{{$st := .}}{{range .Groups}}
@@ -96,13 +122,23 @@ const tablesTemplate = `{{define "tables"}}{{range .}}<section id="tables-{{.Ind
 {{end}}</table>
 {{if $st.Exact}}<p>{{if .Fitted}}Fitted order {{order .Fit.Order}}{{if gt .Fit.DOF 0}} ± {{order .Fit.OrderSE}}{{end}} over {{.Fit.N}} grids. {{end}}Verdict:
 {{if .Waiting}}<span class="waiting">{{if .Finished}}waiting for more grids{{else}}not run yet{{end}}</span> — {{.Finished}} of {{len .Rows}} grids have a result{{else}}<span class="{{if eq .Verdict.Status "pass"}}pass{{else if or (eq .Verdict.Status "order-low") (eq .Verdict.Status "order-high")}}fail{{else}}other{{end}}">{{.Verdict.Status}}</span>{{if .Verdict.Summary}} — {{.Verdict.Summary}}{{end}}{{end}}</p>
-{{with .SettleText}}<p>{{.}}</p>
+{{template "warnings" .VerdictWarnings}}{{with .SettleText}}<p>{{.}}</p>
 {{end}}{{range .AddedLines}}<p class="note">{{.}}</p>
 {{end}}{{end}}{{if .GCI}}<p>{{gciCaption}}:</p>
 {{with .GCICells}}<table>
 <tr>{{range gciHeader}}<th>{{.}}</th>{{end}}</tr>
 {{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 2}} class="t"{{else if eq $i 4}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
 {{end}}</table>
+{{end}}{{with .LSQCells}}<p>{{lsqCaption}}:</p>
+<table>
+<tr>{{range lsqHeader}}<th>{{.}}</th>{{end}}</tr>
+{{range .}}<tr>{{range $i, $c := .}}<td{{if lt $i 3}} class="t"{{end}}>{{$c}}</td>{{end}}</tr>
+{{end}}</table>
 {{end}}{{range .GCIResults}}<p>{{.}}</p>
 {{end}}{{range .GCINotes}}<p class="note">{{.}}</p>
-{{end}}{{end}}{{end}}{{end}}`
+{{end}}{{template "warnings" .GCIWarnings}}{{end}}{{end}}{{end}}
+
+{{define "warnings"}}{{if .}}<ul class="warnings">
+{{range .}}<li>warning: {{.}}</li>
+{{end}}</ul>
+{{end}}{{end}}`

@@ -135,8 +135,11 @@ func writeAligned(w io.Writer, indent string, header []string, rows [][]string, 
 	}
 }
 
-// gciLeft are the text columns of GCIHeader.
-var gciLeft = []int{0, 1, 4}
+// gciLeft and lsqLeft are the text columns of GCIHeader and LSQHeader.
+var (
+	gciLeft = []int{0, 1, 4}
+	lsqLeft = []int{0, 1, 2}
+)
 
 func writeText(w io.Writer, s Set) error {
 	fmt.Fprintf(w, "sweep %s\n", s.Sweep)
@@ -148,6 +151,9 @@ func writeText(w io.Writer, s Set) error {
 			writeAligned(w, "    ", head, st.rowCells(g), len(head)-1)
 			if st.Exact {
 				fmt.Fprintf(w, "    %s\n", g.verdict(""))
+				for _, x := range g.VerdictWarnings() {
+					fmt.Fprintf(w, "      warning: %s\n", x)
+				}
 			}
 			for _, a := range g.AddedLines() {
 				fmt.Fprintf(w, "    %s\n", a)
@@ -156,11 +162,18 @@ func writeText(w io.Writer, s Set) error {
 				fmt.Fprintf(w, "    %s:\n", GCICaption)
 				writeAligned(w, "      ", GCIHeader, cells, gciLeft...)
 			}
+			if cells := g.LSQCells(); len(cells) > 0 {
+				fmt.Fprintf(w, "    %s:\n", LSQCaption)
+				writeAligned(w, "      ", LSQHeader, cells, lsqLeft...)
+			}
 			for _, r := range g.GCIResults() {
 				fmt.Fprintf(w, "    %s\n", r)
 			}
 			for _, n := range g.GCINotes() {
 				fmt.Fprintf(w, "      note: %s\n", n)
+			}
+			for _, x := range g.GCIWarnings() {
+				fmt.Fprintf(w, "      warning: %s\n", x)
 			}
 		}
 	}
@@ -194,6 +207,18 @@ func writeMarkdownTable(w io.Writer, header []string, rows [][]string, left ...i
 	}
 }
 
+// writeMarkdownList writes items as a list after a blank line, each
+// headed by lead; nothing when there are none.
+func writeMarkdownList(w io.Writer, lead string, items []string) {
+	if len(items) == 0 {
+		return
+	}
+	fmt.Fprintln(w)
+	for _, it := range items {
+		fmt.Fprintf(w, "- %s%s\n", lead, it)
+	}
+}
+
 func writeMarkdown(w io.Writer, s Set) error {
 	fmt.Fprintf(w, "# sweep %s\n", s.Sweep)
 	for _, st := range s.Studies {
@@ -205,26 +230,22 @@ func writeMarkdown(w io.Writer, s Set) error {
 			if st.Exact {
 				v := g.verdict("**")
 				fmt.Fprintf(w, "\n%s%s\n", strings.ToUpper(v[:1]), v[1:])
+				writeMarkdownList(w, "warning: ", g.VerdictWarnings())
 			}
-			if added := g.AddedLines(); len(added) > 0 {
-				fmt.Fprintln(w)
-				for _, a := range added {
-					fmt.Fprintf(w, "- %s\n", a)
-				}
-			}
+			writeMarkdownList(w, "", g.AddedLines())
 			if cells := g.GCICells(); len(cells) > 0 {
 				fmt.Fprintf(w, "\n%s:\n\n", GCICaption)
 				writeMarkdownTable(w, GCIHeader, cells, gciLeft...)
 			}
+			if cells := g.LSQCells(); len(cells) > 0 {
+				fmt.Fprintf(w, "\n%s:\n\n", LSQCaption)
+				writeMarkdownTable(w, LSQHeader, cells, lsqLeft...)
+			}
 			if res := g.GCIResults(); len(res) > 0 {
 				fmt.Fprintf(w, "\n%s\n", strings.Join(res, "  \n"))
 			}
-			if notes := g.GCINotes(); len(notes) > 0 {
-				fmt.Fprintln(w)
-				for _, n := range notes {
-					fmt.Fprintf(w, "- note: %s\n", n)
-				}
-			}
+			writeMarkdownList(w, "note: ", g.GCINotes())
+			writeMarkdownList(w, "warning: ", g.GCIWarnings())
 		}
 	}
 	writeFailures(w, s.Failures, "-")
