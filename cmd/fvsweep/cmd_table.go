@@ -27,9 +27,13 @@ of Celik et al. 2008 from the finished grids (refinement ratios from their
 actual spacings): per successive triple of grids, finest first, the
 apparent order, the convergence class, the Richardson-extrapolated value,
 the relative errors e_a and e_ext, GCI_fine and the asymptotic ratio; from
-four grids on also the least-squares order. Text and markdown print the
-relative errors in percent, csv and json as fractions (json with the keys
-of fvsweep gci --json; numeric parameters as numbers).`,
+four grids on also the least-squares order and the least-squares
+uncertainty of Eca & Hoekstra 2014 (the study key uncertainty = "celik",
+"lsq" or "auto" chooses). Text and markdown print the relative errors in
+percent, csv and json as fractions (json with the keys of fvsweep gci
+--json; numeric parameters as numbers). Plausibility warnings (refinement
+ratio below 1.3, implausible order, values within round-off, asymptotic
+ratio far from 1, too few grids) are printed under their record.`,
 		flags: flagSet(judgeDocs, []flagDoc{
 			{"functional", "NAME", "functional for the GCI, in the studies whose runs report it", "the study's functional"},
 			{"format", "F", "text, markdown, csv or json", "text"},
