@@ -54,9 +54,10 @@ func (k *hllcConsts) physFlux4(r, u, v, p vec4) (f0, f1, f2, f3 vec4) {
 
 // hllc4 is hllc lane by lane; the comments name hllc's steps.
 func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 vec4) {
-	// total enthalpies, Roe weights and averages, Roe sound speed
-	hl := k.g.Mul(pl).Div(rl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
-	hr := k.g.Mul(pr).Div(rr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
+	// p/rho, total enthalpies, Roe weights and averages, Roe sound speed
+	zl, zr := pl.Div(rl), pr.Div(rr)
+	hl := k.g.Mul(zl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
+	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
 	wl, wr := rl.Sqrt(), rr.Sqrt()
 	w := k.one.Div(wl.Add(wr))
 	u := wl.Mul(ul).Add(wr.Mul(ur)).Mul(w)
@@ -64,7 +65,7 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	h := wl.Mul(hl).Add(wr.Mul(hr)).Mul(w)
 	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
 	// Einfeldt speeds
-	al, ar := k.gamma.Mul(pl).Div(rl).Sqrt(), k.gamma.Mul(pr).Div(rr).Sqrt()
+	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
 	sl, sr := ul.Sub(al).Min(u.Sub(a)), ur.Add(ar).Max(u.Add(a))
 	// star flux on the side K of the contact
 	ql, qr := rl.Mul(sl.Sub(ul)), rr.Mul(sr.Sub(ur))
@@ -73,14 +74,11 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	r, uk, vk, p := rr.Merge(rl, right), ur.Merge(ul, right), vr.Merge(vl, right), pr.Merge(pl, right)
 	hk, sk, q := hr.Merge(hl, right), sr.Merge(sl, right), qr.Merge(ql, right)
 	m := r.Mul(uk)
-	e := r.Mul(hk).Sub(p)
-	t := sk.Sub(uk).Div(sk.Sub(ss))
-	t1 := t.Sub(k.one)
+	t1 := ss.Sub(uk).Div(sk.Sub(ss))
 	d0 := r.Mul(t1)
-	rt := r.Mul(t)
-	d1 := rt.Mul(ss).Sub(m)
+	d1 := r.Add(d0).Mul(ss).Sub(m)
 	d2 := vk.Mul(d0)
-	d3 := e.Mul(t1).Add(rt.Mul(ss.Sub(uk)).Mul(ss.Add(p.Div(q))))
+	d3 := t1.Mul(r.Mul(hk).Add(q.Mul(ss)))
 	f0 = m.Add(sk.Mul(d0))
 	f1 = m.Mul(uk).Add(p).Add(sk.Mul(d1))
 	f2 = m.Mul(vk).Add(sk.Mul(d2))
