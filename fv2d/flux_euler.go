@@ -87,10 +87,14 @@ func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 f
 // The pieces below are small enough for the compiler to inline, so that the
 // fluxes that use them make no calls.
 
-// totalEnthalpy is H = g p/rho + (u^2 + v^2)/2 with g = gamma/(gamma-1).
-func totalEnthalpy(g, r, u, v, p float64) float64 {
-	return g*p/r + float64(0.5*(float64(u*u)+float64(v*v)))
+// totalEnthalpy is H = g z + (u^2 + v^2)/2 with g = gamma/(gamma-1), given
+// z = p/rho, which a flux divides out once per side for H and the sound speed.
+func totalEnthalpy(g, z, u, v float64) float64 {
+	return float64(g*z) + float64(0.5*(float64(u*u)+float64(v*v)))
 }
+
+// sound is the sound speed a = sqrt(gamma z) of an ideal gas, given z = p/rho.
+func sound(gamma, z float64) float64 { return math.Sqrt(gamma * z) }
 
 // roeWeights returns sqrt(rho_L), sqrt(rho_R) and 1/(sqrt(rho_L) + sqrt(rho_R)).
 func roeWeights(rl, rr float64) (ql, qr, w float64) {
@@ -112,7 +116,7 @@ func roeSound(gm1, h, u, v float64) float64 {
 // right total enthalpies.
 func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (rho, u, v, h, a, hl, hr float64) {
 	g := gamma / (gamma - 1)
-	hl, hr = totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
+	hl, hr = totalEnthalpy(g, pl/rl, ul, vl), totalEnthalpy(g, pr/rr, ur, vr)
 	ql, qr, w := roeWeights(rl, rr)
 	u, v, h = roeMean(ql, qr, w, ul, ur), roeMean(ql, qr, w, vl, vr), roeMean(ql, qr, w, hl, hr)
 	return ql * qr, u, v, h, roeSound(gamma-1, h, u, v), hl, hr
@@ -120,9 +124,9 @@ func roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (rho, u, v, h, a,
 
 // einfeldt returns the HLLE wave speed estimates of Einfeldt (1988, SIAM
 // J. Numer. Anal. 25): S_L = min(u_L - a_L, u~ - a~) and
-// S_R = max(u_R + a_R, u~ + a~) with the Roe averages u~, a~.
-func einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, a float64) (sl, sr float64) {
-	al, ar := math.Sqrt(gamma*pl/rl), math.Sqrt(gamma*pr/rr)
+// S_R = max(u_R + a_R, u~ + a~) with the Roe averages u~, a~ and the sound
+// speeds a_L, a_R.
+func einfeldt(ul, al, ur, ar, u, a float64) (sl, sr float64) {
 	return min(ul-al, u-a), max(ur+ar, u+a)
 }
 
@@ -133,7 +137,7 @@ func einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, a float64) (sl, sr float64) {
 // the CFL condition (Einfeldt, Munz, Roe, Sjögreen 1991).
 func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
 	_, u, _, _, a, hl, hr := roeAverage(gamma, rl, ul, vl, pl, rr, ur, vr, pr)
-	sl, sr := einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, a)
+	sl, sr := einfeldt(ul, sound(gamma, pl/rl), ur, sound(gamma, pr/rr), u, a)
 	if sl >= 0 {
 		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
 	}
@@ -164,10 +168,11 @@ func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 fl
 // hllc is EulerHLLC given g = gamma/(gamma-1), which a sweep computes once.
 func hllc(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
 	// roeAverage, written out so that the default flux makes no call
-	hl, hr := totalEnthalpy(g, rl, ul, vl, pl), totalEnthalpy(g, rr, ur, vr, pr)
+	zl, zr := pl/rl, pr/rr
+	hl, hr := totalEnthalpy(g, zl, ul, vl), totalEnthalpy(g, zr, ur, vr)
 	wl, wr, w := roeWeights(rl, rr)
 	u, v, h := roeMean(wl, wr, w, ul, ur), roeMean(wl, wr, w, vl, vr), roeMean(wl, wr, w, hl, hr)
-	sl, sr := einfeldt(gamma, rl, ul, pl, rr, ur, pr, u, roeSound(gamma-1, h, u, v))
+	sl, sr := einfeldt(ul, sound(gamma, zl), ur, sound(gamma, zr), u, roeSound(gamma-1, h, u, v))
 	if sl >= 0 {
 		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
 	}
@@ -181,16 +186,18 @@ func hllc(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 floa
 	if ss < 0 {
 		r, u, v, p, h, sk, q = rr, ur, vr, pr, hr, sr, qr
 	}
-	// F_K + S_K (U*_K - U_K) (Toro 2009 eqs. 10.38, 10.39).
+	// F_K + S_K (U*_K - U_K) (Toro 2009 eqs. 10.38, 10.39). With
+	// t = rho*_K/rho_K = (S_K - u)/(S_K - S*) and q = rho (S_K - u):
+	// U*_K - U_K = (rho (t-1), rho t S* - m, v rho (t-1), (t-1) (rho H + q S*)),
+	// the energy row being eq. 10.39's E (t-1) + rho t (S*-u) (S* + p/q)
+	// with rho t (S*-u) = q (t-1). t-1 = (S*-u)/(S_K-S*) vanishes exactly when
+	// the contact moves with the state (S* = u), and so does U*_K - U_K.
 	m := float64(r * u)
-	e := float64(r*h) - p
-	// rho*_K = r t; written with t - 1 so that U*_K - U_K vanishes exactly
-	// when the contact moves with the state (ss = u).
-	t := (sk - u) / (sk - ss)
-	d0 := r * (t - 1)
-	d1 := float64(r*t*ss) - m
+	t1 := (ss - u) / (sk - ss)
+	d0 := float64(r * t1)
+	d1 := float64((r+d0)*ss) - m
 	d2 := v * d0
-	d3 := float64(e*(t-1)) + float64(r*t*(ss-u)*(ss+p/q))
+	d3 := t1 * (float64(r*h) + float64(q*ss))
 	return m + float64(sk*d0), float64(m*u) + p + float64(sk*d1), float64(m*v) + float64(sk*d2), float64(m*h) + float64(sk*d3)
 }
 

@@ -41,13 +41,15 @@ type sweepParams struct {
 // lineScratch is a worker's scratch for the passes over one line, four
 // arrays (one per line variable) of the longest line each: w the primitive
 // variables of the cells, d their slopes and then the left face values, r
-// the right face values, f the fluxes (f_i at face i+1/2).
+// the right face values, f the fluxes (f_i at face i+1/2); and ir, 1/rho of
+// the cells, divided once for the primitive variables and the half step.
 type lineScratch struct {
 	w, d, r, f [4][]float64
+	ir         []float64
 }
 
 func newLineScratch(n int) *lineScratch {
-	s := new(lineScratch)
+	s := &lineScratch{ir: make([]float64, n)}
 	for k := range 4 {
 		s.w[k], s.d[k], s.r[k], s.f[k] = make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
 	}
@@ -68,7 +70,11 @@ type lineKernel func(sp *sweepParams, rho, mn, mt, en []float64) lineResult
 // cellEuler converts the conserved state of one cell to primitive
 // variables.
 func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
-	inv := 1 / r
+	return primEuler(gm1, r, 1/r, m, t, e)
+}
+
+// primEuler is cellEuler given inv = 1/r.
+func primEuler(gm1, r, inv, m, t, e float64) (u, v, p float64) {
 	u, v = float64(m*inv), float64(t*inv)
 	p = float64(gm1 * (e - float64(0.5*r*(float64(u*u)+float64(v*v)))))
 	return
@@ -85,7 +91,7 @@ func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
 	}
 	if speed {
 		inv := 1 / r
-		a := math.Sqrt(gamma * (gamma - 1) * (e - 0.5*k2*inv) * inv)
+		a := math.Sqrt(gamma * (gamma - 1) * (e - float64(0.5*k2*inv)) * inv)
 		if s := math.Abs(m*inv) + a; s > res.sn {
 			res.sn = s
 		}
@@ -95,15 +101,21 @@ func checkEuler(res *lineResult, speed bool, gamma, r, m, t, e float64) {
 	}
 }
 
-// primLine sets w to the primitive variables (rho, u_n, u_t, p) of the
-// cells of the line (rho, mn, mt, en).
-func primLine(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64) {
+// primLine sets w to the primitive variables (rho, u_n, u_t, p) and ir to
+// 1/rho of the cells of the line (rho, mn, mt, en).
+func primLine(simd bool, gm1 float64, rho, mn, mt, en []float64, w *[4][]float64, ir []float64) {
 	m := len(rho)
-	mn, mt, en = mn[:m], mt[:m], en[:m]
+	mn, mt, en, ir = mn[:m], mt[:m], en[:m], ir[:m]
 	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
-	for i, r := range rho {
-		w0[i] = r
-		w1[i], w2[i], w3[i] = cellEuler(gm1, r, mn[i], mt[i], en[i])
+	start := 0
+	if simd {
+		start = primLine4(gm1, rho, mn, mt, en, w, ir)
+	}
+	for i := start; i < m; i++ {
+		r := rho[i]
+		inv := 1 / r
+		w0[i], ir[i] = r, inv
+		w1[i], w2[i], w3[i] = primEuler(gm1, r, inv, mn[i], mt[i], en[i])
 	}
 }
 
@@ -159,21 +171,32 @@ func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
 // updateEulerLine writes the conservative update
 // U_i -= c (F_{i+1/2} - F_{i-1/2}) of the cells lo <= i < hi, with f_i the
 // flux at face i+1/2, and checks the new states.
-func updateEulerLine(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en []float64, f *[4][]float64, lo, hi int) {
+func updateEulerLine(res *lineResult, sp *sweepParams, rho, mn, mt, en []float64, f *[4][]float64, lo, hi int) {
+	c := sp.dtdx
 	rho, mn, mt, en = rho[lo:hi], mn[lo:hi], mt[lo:hi], en[lo:hi]
 	n := len(rho)
 	f0, f1, f2, f3 := f[0][lo-1:hi], f[1][lo-1:hi], f[2][lo-1:hi], f[3][lo-1:hi]
 	f0, f1, f2, f3 = f0[:n+1], f1[:n+1], f2[:n+1], f3[:n+1]
-	for i := range rho {
+	start := 0
+	if sp.simd {
+		var bad bool
+		bad, start = updateEulerLine4(c, rho, mn, mt, en, f0, f1, f2, f3)
+		res.bad = res.bad || bad
+	}
+	for i := start; i < n; i++ {
 		a, b, d, e := rho[i]-c*(f0[i+1]-f0[i]), mn[i]-c*(f1[i+1]-f1[i]), mt[i]-c*(f2[i+1]-f2[i]), en[i]-c*(f3[i+1]-f3[i])
 		rho[i], mn[i], mt[i], en[i] = a, b, d, e
 		if !(a > 0 && float64(2*e*a) > float64(b*b)+float64(d*d)) { // checkEuler's positivity test
 			res.bad = true
 		}
 	}
-	if speed && !res.bad {
-		for i := range rho {
-			checkEuler(res, true, gamma, rho[i], mn[i], mt[i], en[i])
+	if sp.speed && !res.bad {
+		start := 0
+		if sp.simd {
+			res.sn, res.st, start = speedsEuler4(sp.gamma, rho, mn, mt, en)
+		}
+		for i := start; i < n; i++ {
+			checkEuler(res, true, sp.gamma, rho[i], mn[i], mt[i], en[i])
 		}
 	}
 }
@@ -190,9 +213,9 @@ func updateEuler(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en 
 // 2009 §6.2): piecewise-constant data, one ghost cell per side.
 func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m, w := len(rho), &sp.scr.w
-	primLine(sp.gamma-1, rho, mn, mt, en, w)
+	primLine(sp.simd, sp.gamma-1, rho, mn, mt, en, w, sp.scr.ir)
 	sp.eulerFaces(w, w, &sp.scr.f, 0, m-1)
-	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &sp.scr.f, 1, m-1)
+	updateEulerLine(&res, sp, rho, mn, mt, en, &sp.scr.f, 1, m-1)
 	return res
 }
 
@@ -206,29 +229,29 @@ func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 // then the numerical flux at each face. Two ghost cells per side.
 func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m, scr := len(rho), sp.scr
-	primLine(sp.gamma-1, rho, mn, mt, en, &scr.w)
+	primLine(sp.simd, sp.gamma-1, rho, mn, mt, en, &scr.w, scr.ir)
 	for k := range 4 {
 		sp.slopes(scr.w[k][:m], scr.d[k])
 	}
 	done := 0 // cells 1..done by the SIMD pass
 	if sp.simd {
-		done = evolvePrim4(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, m)
+		done = evolvePrim4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, m)
 	}
-	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, &scr.d, &scr.r, done, m)
+	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, done, m)
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
-	updateEulerLine(&res, sp.speed, sp.gamma, sp.dtdx, rho, mn, mt, en, &scr.f, 2, m-2)
+	updateEulerLine(&res, sp, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
 }
 
-// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w and slopes
-// d into their face values evolved by the half step h = dt/(2dx) of
+// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w (and
+// ir = 1/rho) and slopes d into their face values evolved by the half step h = dt/(2dx) of
 // eulerMUSCLPrim: the left face values replace d, the right ones go to r.
 // A cell whose evolved face density or pressure is not positive falls back
 // to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w, d, r *[4][]float64, lo, m int) {
+func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, lo, m int) {
 	w0, w1, w2, w3 := w[0][lo:m], w[1][lo:m], w[2][lo:m], w[3][lo:m]
 	n := len(w0)
-	w1, w2, w3 = w1[:n], w2[:n], w3[:n]
+	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[lo:m][:n]
 	d0, d1, d2, d3 := d[0][lo:m], d[1][lo:m], d[2][lo:m], d[3][lo:m]
 	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
 	r0, r1, r2, r3 := r[0][lo:m], r[1][lo:m], r[2][lo:m], r[3][lo:m]
@@ -238,7 +261,7 @@ func evolvePrim(g, h float64, w, d, r *[4][]float64, lo, m int) {
 		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
 		// half-step evolution: W - dt/(2dx) A(W) dW
 		er := h * (float64(uc*dr) + float64(rc*du))
-		eu := h * (float64(uc*du) + dp/rc)
+		eu := h * (float64(uc*du) + float64(dp*ir[i])) // p_x/rho as p_x (1/rho)
 		ev := h * (uc * dv)
 		ep := h * (float64(g*pc*du) + float64(uc*dp))
 		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep

@@ -13,4 +13,18 @@ func hllcFaces4(gamma, g float64, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3
 
 func vanLeerSlopes4(w, d []float64) int { return 0 }
 
-func evolvePrim4(g, h float64, w, d, r *[4][]float64, m int) int { return 0 }
+func evolvePrim4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) int {
+	return 0
+}
+
+func primLine4(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64, ir []float64) int {
+	return 0
+}
+
+func updateEulerLine4(c float64, rho, mn, mt, en []float64, f0, f1, f2, f3 []float64) (bad bool, n int) {
+	return false, 0
+}
+
+func speedsEuler4(gamma float64, rho, mn, mt, en []float64) (sn, st float64, n int) {
+	return 0, 0, 0
+}

@@ -54,9 +54,10 @@ func (k *hllcConsts) physFlux4(r, u, v, p vec4) (f0, f1, f2, f3 vec4) {
 
 // hllc4 is hllc lane by lane; the comments name hllc's steps.
 func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 vec4) {
-	// total enthalpies, Roe weights and averages, Roe sound speed
-	hl := k.g.Mul(pl).Div(rl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
-	hr := k.g.Mul(pr).Div(rr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
+	// p/rho, total enthalpies, Roe weights and averages, Roe sound speed
+	zl, zr := pl.Div(rl), pr.Div(rr)
+	hl := k.g.Mul(zl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
+	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
 	wl, wr := rl.Sqrt(), rr.Sqrt()
 	w := k.one.Div(wl.Add(wr))
 	u := wl.Mul(ul).Add(wr.Mul(ur)).Mul(w)
@@ -64,7 +65,7 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	h := wl.Mul(hl).Add(wr.Mul(hr)).Mul(w)
 	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
 	// Einfeldt speeds
-	al, ar := k.gamma.Mul(pl).Div(rl).Sqrt(), k.gamma.Mul(pr).Div(rr).Sqrt()
+	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
 	sl, sr := ul.Sub(al).Min(u.Sub(a)), ur.Add(ar).Max(u.Add(a))
 	// star flux on the side K of the contact
 	ql, qr := rl.Mul(sl.Sub(ul)), rr.Mul(sr.Sub(ur))
@@ -73,14 +74,11 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	r, uk, vk, p := rr.Merge(rl, right), ur.Merge(ul, right), vr.Merge(vl, right), pr.Merge(pl, right)
 	hk, sk, q := hr.Merge(hl, right), sr.Merge(sl, right), qr.Merge(ql, right)
 	m := r.Mul(uk)
-	e := r.Mul(hk).Sub(p)
-	t := sk.Sub(uk).Div(sk.Sub(ss))
-	t1 := t.Sub(k.one)
+	t1 := ss.Sub(uk).Div(sk.Sub(ss))
 	d0 := r.Mul(t1)
-	rt := r.Mul(t)
-	d1 := rt.Mul(ss).Sub(m)
+	d1 := r.Add(d0).Mul(ss).Sub(m)
 	d2 := vk.Mul(d0)
-	d3 := e.Mul(t1).Add(rt.Mul(ss.Sub(uk)).Mul(ss.Add(p.Div(q))))
+	d3 := t1.Mul(r.Mul(hk).Add(q.Mul(ss)))
 	f0 = m.Add(sk.Mul(d0))
 	f1 = m.Mul(uk).Add(p).Add(sk.Mul(d1))
 	f2 = m.Mul(vk).Add(sk.Mul(d2))
@@ -118,14 +116,14 @@ func vanLeerSlopes4(w, d []float64) int {
 
 // evolvePrim4 is evolvePrim four cells at a time, for the cells
 // 1 <= i < 1+n with n = (m-2) &^ 3, which it returns.
-func evolvePrim4(g, h float64, w, d, r *[4][]float64, m int) int {
+func evolvePrim4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) int {
 	n := (m - 2) &^ 3
 	gv, hv, half, zero := bcast4(g), bcast4(h), bcast4(0.5), bcast4(0)
 	for i := 1; i < 1+n; i += 4 {
 		rc, uc, vc, pc := load4(w[0][i:]), load4(w[1][i:]), load4(w[2][i:]), load4(w[3][i:])
 		dr, du, dv, dp := load4(d[0][i:]), load4(d[1][i:]), load4(d[2][i:]), load4(d[3][i:])
 		er := hv.Mul(uc.Mul(dr).Add(rc.Mul(du)))
-		eu := hv.Mul(uc.Mul(du).Add(dp.Div(rc)))
+		eu := hv.Mul(uc.Mul(du).Add(dp.Mul(load4(ir[i:]))))
 		ev := hv.Mul(uc.Mul(dv))
 		ep := hv.Mul(gv.Mul(pc).Mul(du).Add(uc.Mul(dp)))
 		lr, lu := rc.Sub(half.Mul(dr)).Sub(er), uc.Sub(half.Mul(du)).Sub(eu)
@@ -146,4 +144,76 @@ func evolvePrim4(g, h float64, w, d, r *[4][]float64, m int) int {
 	}
 	archsimd.ClearAVXUpperBits()
 	return n
+}
+
+// primLine4 is primLine four cells at a time, for the cells i < n with
+// n = len(rho) &^ 3, which it returns.
+func primLine4(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64, ir []float64) int {
+	n := len(rho) &^ 3
+	gv, half, one := bcast4(gm1), bcast4(0.5), bcast4(1)
+	for i := 0; i < n; i += 4 {
+		r := load4(rho[i:])
+		inv := one.Div(r)
+		u, v := load4(mn[i:]).Mul(inv), load4(mt[i:]).Mul(inv)
+		p := gv.Mul(load4(en[i:]).Sub(half.Mul(r).Mul(u.Mul(u).Add(v.Mul(v)))))
+		r.StoreSlice(w[0][i:])
+		u.StoreSlice(w[1][i:])
+		v.StoreSlice(w[2][i:])
+		p.StoreSlice(w[3][i:])
+		inv.StoreSlice(ir[i:])
+	}
+	archsimd.ClearAVXUpperBits()
+	return n
+}
+
+// updateEulerLine4 is the update and positivity test of updateEulerLine
+// four cells at a time, for the cells i < n with n = len(rho) &^ 3, which it
+// returns with whether any of them failed the test; f0..f3 start at the
+// face left of cell 0.
+func updateEulerLine4(c float64, rho, mn, mt, en []float64, f0, f1, f2, f3 []float64) (bad bool, n int) {
+	n = len(rho) &^ 3
+	cv, two, zero := bcast4(c), bcast4(2), bcast4(0)
+	ok := zero.Equal(zero) // all lanes true
+	for i := 0; i < n; i += 4 {
+		a := load4(rho[i:]).Sub(cv.Mul(load4(f0[i+1:]).Sub(load4(f0[i:]))))
+		b := load4(mn[i:]).Sub(cv.Mul(load4(f1[i+1:]).Sub(load4(f1[i:]))))
+		d := load4(mt[i:]).Sub(cv.Mul(load4(f2[i+1:]).Sub(load4(f2[i:]))))
+		e := load4(en[i:]).Sub(cv.Mul(load4(f3[i+1:]).Sub(load4(f3[i:]))))
+		a.StoreSlice(rho[i:])
+		b.StoreSlice(mn[i:])
+		d.StoreSlice(mt[i:])
+		e.StoreSlice(en[i:])
+		ok = ok.And(a.Greater(zero)).And(two.Mul(e).Mul(a).Greater(b.Mul(b).Add(d.Mul(d))))
+	}
+	archsimd.ClearAVXUpperBits()
+	return ok.ToBits() != 0xf, n
+}
+
+// speedsEuler4 is the wave-speed part of checkEuler four cells at a time:
+// the largest |u_n| + a and |u_t| + a of the cells i < n with
+// n = len(rho) &^ 3, which it returns with them. Each lane keeps its
+// maximum as checkEuler does (a new value wins only if greater).
+func speedsEuler4(gamma float64, rho, mn, mt, en []float64) (sn, st float64, n int) {
+	n = len(rho) &^ 3
+	gg, half, one, zero := bcast4(gamma*(gamma-1)), bcast4(0.5), bcast4(1), bcast4(0)
+	an, at := zero, zero
+	for i := 0; i < n; i += 4 {
+		r, m, t := load4(rho[i:]), load4(mn[i:]), load4(mt[i:])
+		k2 := m.Mul(m).Add(t.Mul(t))
+		inv := one.Div(r)
+		a := gg.Mul(load4(en[i:]).Sub(half.Mul(k2).Mul(inv))).Mul(inv).Sqrt()
+		u, v := m.Mul(inv), t.Mul(inv)
+		s := u.Max(zero.Sub(u)).Add(a) // |u| + a
+		an = s.Merge(an, s.Greater(an))
+		s = v.Max(zero.Sub(v)).Add(a)
+		at = s.Merge(at, s.Greater(at))
+	}
+	var bn, bt [4]float64
+	an.Store(&bn)
+	at.Store(&bt)
+	archsimd.ClearAVXUpperBits()
+	for k := range 4 {
+		sn, st = max(sn, bn[k]), max(st, bt[k])
+	}
+	return sn, st, n
 }
