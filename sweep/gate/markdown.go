@@ -77,7 +77,7 @@ func (r *Report) WriteText(w io.Writer) error {
 		}
 		fmt.Fprintf(&b, "%-4s  %s / %s  %s", result, c.Study, c.Group, status)
 		if c.Verdict.Grids >= 2 {
-			fmt.Fprintf(&b, " (order %.3g, fitted %.3g, design %g)", c.Verdict.Finest, c.Verdict.Fitted, c.Verdict.Design)
+			fmt.Fprintf(&b, " (order %.3g, fitted %.3g, design %.3g)", c.Verdict.Finest, c.Verdict.Fitted, c.Verdict.Design)
 		}
 		b.WriteByte('\n')
 		for _, f := range c.Failures {
