@@ -28,10 +28,11 @@ leave at any time. Ctrl-C on a terminal (SIGINT with stdin a terminal)
 stops the running jobs at once and returns them to the queue (exit status
 130). SIGTERM, or SIGINT without a terminal (a service manager), drains it:
 it takes no new jobs and finishes the running ones (exit status 0); a second
-signal stops those too and returns them to the queue. Losing the server and finding it again are logged. Every
-worker runs fvsweep's own solver fv2d; --solver adds an outside program (its
-jobs come only to workers that offer it at the version the job names). A
-program that is not found or not executable here is refused at start.`,
+signal stops those too and returns them to the queue. Losing the server
+and finding it again are logged. Every worker runs fvsweep's own solver
+fv2d; --solver adds an outside program (its jobs come only to workers that
+offer it at the version the job names). A program that is not found or not
+executable here is refused at start.`,
 		flags: flagSet([]flagDoc{
 			{"slots", "N", "jobs run at once, 1 to 256", "the number of cores"},
 			{"id", "NAME", "worker name in status and results", "host-pid-random"},
