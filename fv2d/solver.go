@@ -489,6 +489,7 @@ func badCell(eq Equation, gamma float64, c []float64) string {
 // start and end, errors against exact cell averages where the case has an
 // exact solution, and the case's functionals. A breakdown returns a
 // *Failure; a cancelled ctx stops the run between steps with ctx.Err().
+// A ctx from WithProgress is told t/t_end after each step.
 // cell_updates_per_s counts nx*ny*steps over the time-stepping wall time;
 // wall_s is the whole run including set-up and error evaluation.
 func Run(ctx context.Context, v Values) (*Result, error) {
@@ -506,6 +507,8 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 	runtime.LockOSThread()
 	defer runtime.UnlockOSThread()
 	cpu0, cpuOK := threadCPU()
+	prog := progressOf(ctx)
+	setProgress(prog, s.t, s.tEnd)
 	stepStart := time.Now()
 	for s.t < s.tEnd {
 		if err := ctx.Err(); err != nil {
@@ -533,6 +536,7 @@ func Run(ctx context.Context, v Values) (*Result, error) {
 		if last {
 			s.t, st.T = s.tEnd, s.tEnd
 		}
+		setProgress(prog, s.t, s.tEnd)
 	}
 	stepWall := time.Since(stepStart).Seconds()
 	cpu1, ok := threadCPU()

@@ -15,7 +15,7 @@ import (
 // case with fv2d. A run that breaks down (*fv2d.Failure) is a failed
 // outcome with the failure as its reason; parameters the case refuses are a
 // Permanent error. The snapshot, when the job asks for one, is the final
-// state as float32.
+// state as float32. The worker's reports show each running job's t/t_end.
 type FV2D struct{}
 
 // Run runs jb with fv2d.
@@ -26,6 +26,9 @@ func (FV2D) Run(ctx context.Context, jb job.Job) (Result, error) {
 	}
 	if id := job.NewID(v.String()); id != jb.ID {
 		return Result{}, Permanent(fmt.Errorf("job %s: its parameters give ID %s", jb.ID, id))
+	}
+	if p := progressOf(ctx); p != nil {
+		ctx = fv2d.WithProgress(ctx, p)
 	}
 	res, err := fv2d.Run(ctx, v)
 	var f *fv2d.Failure

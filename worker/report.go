@@ -2,6 +2,7 @@ package worker
 
 import (
 	"encoding/json"
+	"math"
 	"runtime"
 	"time"
 
@@ -86,7 +87,11 @@ func (w *Worker) report(leaving bool) {
 	}
 	w.mu.Lock()
 	for _, t := range w.tasks {
-		r.Current = append(r.Current, wire.RunningJob{JobID: t.jb.ID, Sweep: t.jb.Sweep, Since: t.since})
+		rj := wire.RunningJob{JobID: t.jb.ID, Sweep: t.jb.Sweep, Since: t.since}
+		if f := math.Float64frombits(t.progress.Load()); f >= 0 && f <= 1 {
+			rj.Progress = &f
+		}
+		r.Current = append(r.Current, rj)
 	}
 	w.mu.Unlock()
 	data, err := json.Marshal(r)

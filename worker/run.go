@@ -3,6 +3,7 @@ package worker
 import (
 	"context"
 	"fmt"
+	"math"
 	"runtime/debug"
 	"sync/atomic"
 	"time"
@@ -23,6 +24,9 @@ type task struct {
 	ctx    context.Context
 	swept  atomic.Bool // its sweep was canceled
 	key    uint64
+	// progress holds the float64 bits of the fraction of the job done,
+	// as the runner tells it (see progressOf); NaN while it tells none.
+	progress atomic.Uint64
 }
 
 // handle runs one delivered job and publishes its outcome, or settles its
@@ -174,7 +178,8 @@ func (w *Worker) begin(jb job.Job, m jetstream.Msg, beat time.Time) *task {
 	w.mu.Lock()
 	defer w.mu.Unlock()
 	t := &task{jb: jb, msg: m, since: time.Now(), beat: beat}
-	t.ctx, t.cancel = context.WithCancel(w.base)
+	t.progress.Store(math.Float64bits(math.NaN()))
+	t.ctx, t.cancel = context.WithCancel(context.WithValue(w.base, progressKey{}, &t.progress))
 	w.next++
 	t.key = w.next
 	w.tasks[t.key] = t

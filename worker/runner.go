@@ -3,6 +3,7 @@ package worker
 import (
 	"context"
 	"errors"
+	"sync/atomic"
 
 	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
@@ -27,6 +28,16 @@ type RunnerFunc func(ctx context.Context, jb job.Job) (Result, error)
 
 // Run calls f.
 func (f RunnerFunc) Run(ctx context.Context, jb job.Job) (Result, error) { return f(ctx, jb) }
+
+type progressKey struct{}
+
+// progressOf is where a runner may tell how much of the job in ctx is done:
+// the float64 bits of a fraction from 0 to 1, which the worker's reports
+// show beside the running job. nil outside a worker's job.
+func progressOf(ctx context.Context) *atomic.Uint64 {
+	p, _ := ctx.Value(progressKey{}).(*atomic.Uint64)
+	return p
+}
 
 // Result is what a runner reports of one job.
 type Result struct {

@@ -149,14 +149,22 @@ func openSweep(c *common, name string) (*sweepData, error) {
 
 // signals returns a context canceled on the first SIGINT or SIGTERM; a
 // second one calls again (if not nil) and a third exits at once.
-func signals(again func()) (context.Context, func()) {
+func signals(again func()) (context.Context, func()) { return signalsAt(again, nil) }
+
+// signalsAt is signals, but a first signal for which atOnce (if not nil)
+// is true calls again at once too, as a second one would.
+func signalsAt(again func(), atOnce func(os.Signal) bool) (context.Context, func()) {
 	ctx, cancel := context.WithCancel(context.Background())
 	ch := make(chan os.Signal, 3)
 	signal.Notify(ch, os.Interrupt, syscall.SIGTERM)
 	go func() {
 		n := 0
-		for range ch {
+		for sig := range ch {
 			n++
+			if n == 1 && atOnce != nil && atOnce(sig) {
+				n = 2
+				cancel()
+			}
 			switch n {
 			case 1:
 				cancel()

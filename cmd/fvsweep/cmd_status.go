@@ -135,7 +135,7 @@ func writeStatus(w io.Writer, rep wire.StatusReply, live bool) {
 	for _, r := range rep.Workers {
 		cur := make([]string, len(r.Current))
 		for i, j := range r.Current {
-			cur[i] = fmt.Sprintf("%s/%s (%s)", j.Sweep, j.JobID[:min(8, len(j.JobID))], time.Since(j.Since).Round(time.Second))
+			cur[i] = fmt.Sprintf("%s/%s (%s%s)", j.Sweep, j.JobID[:min(8, len(j.JobID))], time.Since(j.Since).Round(time.Second), progressText(j.Progress))
 		}
 		if r.CurrentMore > 0 {
 			cur = append(cur, fmt.Sprintf("and %d more", r.CurrentMore))
@@ -157,4 +157,13 @@ func plural(n int, noun string) string {
 		return noun
 	}
 	return noun + "s"
+}
+
+// progressText is ", 37% of t_end" for a running job's reported fraction
+// done (rounded down, so that 100% means finished); "" for none.
+func progressText(p *float64) string {
+	if p == nil {
+		return ""
+	}
+	return fmt.Sprintf(", %d%% of t_end", int(100**p))
 }

@@ -3,8 +3,12 @@ package main
 import (
 	"flag"
 	"fmt"
+	"os"
 	"runtime"
+	"sync/atomic"
 	"time"
+
+	"golang.org/x/term"
 
 	"fvsweep/coordinator/client"
 	"fvsweep/sweep/wire"
@@ -20,12 +24,15 @@ func init() {
 		summary: "run jobs from a coordinator's queue",
 		about: `Runs jobs of any sweep queued on the NATS server at URL (from 'fvsweep
 serve'), N at a time, and sends back their outcomes. A worker may join or
-leave at any time. The first SIGINT or SIGTERM drains it: it takes no new
-jobs and finishes the running ones; a second one stops those too and returns
-them to the queue. Losing the server and finding it again are logged. Every
-worker runs fvsweep's own solver fv2d; --solver adds an outside program (its
-jobs come only to workers that offer it at the version the job names). A
-program that is not found or not executable here is refused at start.`,
+leave at any time. Ctrl-C on a terminal (SIGINT with stdin a terminal)
+stops the running jobs at once and returns them to the queue (exit status
+130). SIGTERM, or SIGINT without a terminal (a service manager), drains it:
+it takes no new jobs and finishes the running ones (exit status 0); a second
+signal stops those too and returns them to the queue. Losing the server
+and finding it again are logged. Every worker runs fvsweep's own solver
+fv2d; --solver adds an outside program (its jobs come only to workers that
+offer it at the version the job names). A program that is not found or not
+executable here is refused at start.`,
 		flags: flagSet([]flagDoc{
 			{"slots", "N", "jobs run at once, 1 to 256", "the number of cores"},
 			{"id", "NAME", "worker name in status and results", "host-pid-random"},
@@ -72,11 +79,15 @@ func runWorker(args []string) int {
 	}
 	defer nc.Close()
 	var w *worker.Worker
-	ctx, release := signals(func() {
+	var interrupted atomic.Bool
+	ctx, release := signalsAt(func() {
 		if w != nil {
-			log.Warn("second signal: stopping running jobs, they go back to the queue")
+			log.Warn("stopping running jobs, they go back to the queue")
 			w.Abort()
 		}
+	}, func(sig os.Signal) bool {
+		interrupted.Store(abortsAtOnce(sig, term.IsTerminal(int(os.Stdin.Fd()))))
+		return interrupted.Load()
 	})
 	defer release()
 	w, err = worker.New(ctx, nc, worker.Config{ID: *id, Concurrency: *conc, Runners: offer, Log: log.Named("worker")})
@@ -91,5 +102,13 @@ func runWorker(args []string) int {
 	st := w.Stats()
 	fmt.Printf("worker %s: %d done, %d failed in %s, busy %.0f%%\n", w.ID(), st.Done, st.Failed,
 		time.Since(start).Round(time.Second), 100*st.Busy)
+	if interrupted.Load() {
+		return exitInterrupted
+	}
 	return 0
 }
+
+// abortsAtOnce tells whether a worker's first signal gives its running jobs
+// back at once: a Ctrl-C on a terminal (SIGINT with stdin a terminal) does;
+// SIGTERM, and SIGINT without a terminal (a service manager), drain.
+func abortsAtOnce(sig os.Signal, tty bool) bool { return sig == os.Interrupt && tty }

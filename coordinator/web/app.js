@@ -57,11 +57,13 @@ function span(sec) {
 // rate is a rate per second with three significant digits.
 function rate(x) { return x >= 1000 ? x.toExponential(2).replace("e+", "e") : x.toPrecision(3); }
 
-// jobLine describes a running job: case, group, grid and how long it has run.
+// jobLine describes a running job: case, group, grid, how long it has run
+// and, where the worker tells it, how far it has got (t/t_end for fv2d).
 function jobLine(j) {
   const grid = j.nx ? (j.ny > 1 ? `${j.nx}×${j.ny}` : `nx=${j.nx}`) : j.job_id.slice(0, 10);
   const parts = [j.case || j.sweep, j.group, grid].filter(Boolean);
-  return `${parts.join(" · ")} (${span(j.elapsed_s)})`;
+  const done = j.progress == null ? "" : `, ${Math.floor(100 * j.progress)} % of t_end`;
+  return `${parts.join(" · ")} (${span(j.elapsed_s)}${done})`;
 }
 
 let progress = null; // the chosen sweep's Progress, from api/sweeps/NAME/progress

@@ -37,6 +37,9 @@ type RunningView struct {
 	NY       int       `json:"ny,omitempty"`
 	Since    time.Time `json:"since"`
 	ElapsedS float64   `json:"elapsed_s"`
+	// Progress is the fraction done the worker reports (t/t_end for
+	// fv2d), absent for a job of an outside program.
+	Progress *float64 `json:"progress,omitempty"`
 }
 
 // Progress is GET /api/sweeps/{name}/progress: a sweep's pace. Cost is
@@ -239,7 +242,7 @@ func (t *tracker) running(db *store.DB, workers []wire.WorkerReport, totals map[
 			if name != "" && c.Sweep != name {
 				continue
 			}
-			v := RunningView{JobID: c.JobID, Sweep: c.Sweep, Worker: w.ID, Since: c.Since, ElapsedS: max(0, now.Sub(c.Since).Seconds())}
+			v := RunningView{JobID: c.JobID, Sweep: c.Sweep, Worker: w.ID, Since: c.Since, ElapsedS: max(0, now.Sub(c.Since).Seconds()), Progress: c.Progress}
 			if total, ok := totals[c.Sweep]; ok {
 				if ix := t.index(db, c.Sweep, total); ix != nil {
 					if info, ok := ix.jobs[c.JobID]; ok {

@@ -61,3 +61,17 @@ func TestJobIndexDiffering(t *testing.T) {
 		t.Errorf("cost total %g", ix.costTotal)
 	}
 }
+
+// The running jobs carry the progress their worker reports, and none for a
+// job whose runner tells none.
+func TestRunningProgress(t *testing.T) {
+	now := time.Now()
+	quarter := 0.25
+	w := wire.WorkerReport{ID: "w", Concurrency: 2, Current: []wire.RunningJob{
+		{JobID: "a", Sweep: "s", Since: now.Add(-2 * time.Second), Progress: &quarter},
+		{JobID: "b", Sweep: "s", Since: now.Add(-time.Second)}}}
+	got := newTracker().running(nil, []wire.WorkerReport{w}, map[string]int{}, "", now)
+	if len(got) != 2 || got[0].Progress == nil || *got[0].Progress != 0.25 || got[1].Progress != nil {
+		t.Errorf("running %+v", got)
+	}
+}

@@ -129,6 +129,12 @@ func (f *Figure) legendWidth() vg.Length {
 	return w + l.ThumbnailWidth + 2*legendGap
 }
 
+// LegendWidth is the width of f's legend, drawn beside the plot area.
+func (f *Figure) LegendWidth() vg.Length { return f.legendWidth() }
+
+// PlotWidth is the width of the plot area of every line figure.
+func PlotWidth() vg.Length { return figWidth }
+
 func (f *Figure) size() (vg.Length, vg.Length) {
 	return figWidth + f.legendWidth(), figHeight
 }

@@ -126,7 +126,8 @@ func checkXML(s string) error {
 }
 
 // AddFigures draws the convergence and cost plots of each study that has
-// errors to show; a plot that cannot be made becomes a note.
+// errors to show, a study of more groups than line colours in panels (see
+// Panels); a plot that cannot be made becomes a note.
 func (r *Report) AddFigures() {
 	for i := range r.Studies {
 		sr := &r.Studies[i]
@@ -139,6 +140,7 @@ func (r *Report) AddFigures() {
 			continue
 		}
 		y := table.NormLabel(sr.Study.Norm, sr.Study.Var)
+		panels := Panels(sr.Study)
 		for _, mk := range []struct {
 			name, caption string
 			fn            func(table.Study) (*plots.Figure, error)
@@ -149,17 +151,29 @@ func (r *Report) AddFigures() {
 			{"work", y + " against the cells updated (nx x ny x steps), coarse grid first: the cost of each scheme apart from the machine and its load.",
 				func(st table.Study) (*plots.Figure, error) { return CostFigure(st, CostWork) }},
 		} {
-			f, err := mk.fn(sr.Study)
-			if err != nil {
-				sr.Notes = append(sr.Notes, fmt.Sprintf("%s plot: %v", mk.name, err))
-				continue
+			for i, p := range panels {
+				name, caption := mk.name, mk.caption
+				if len(panels) > 1 {
+					part := fmt.Sprintf("%d of %d", i+1, len(panels))
+					if p.Holds != "" {
+						part += ": the groups with " + p.Holds
+					}
+					name = mk.name + " plot " + part
+					caption = "Panel " + part + ". " + caption
+				}
+				f, err := mk.fn(p.Study)
+				if err == nil && p.Holds != "" {
+					f.Title += " [" + p.Holds + "]"
+				}
+				if err == nil {
+					var svg template.HTML
+					if svg, err = InlineSVG(f); err == nil {
+						sr.Figures = append(sr.Figures, Figure{Title: f.Title, Caption: caption, SVG: svg, Notes: f.Notes})
+						continue
+					}
+				}
+				sr.Notes = append(sr.Notes, fmt.Sprintf("%s plot: %v", name, err))
 			}
-			svg, err := InlineSVG(f)
-			if err != nil {
-				sr.Notes = append(sr.Notes, fmt.Sprintf("%s plot: %v", mk.name, err))
-				continue
-			}
-			sr.Figures = append(sr.Figures, Figure{Title: f.Title, Caption: mk.caption, SVG: svg, Notes: f.Notes})
 		}
 	}
 }

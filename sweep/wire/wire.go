@@ -233,10 +233,14 @@ func isToken(s string) bool {
 	return true
 }
 
+// RunningJob is a job a worker is running.
 type RunningJob struct {
 	JobID string    `json:"job_id"`
 	Sweep string    `json:"sweep"`
 	Since time.Time `json:"since"`
+	// Progress is the fraction of the job done, 0 to 1 (t/t_end for
+	// fv2d); absent when the runner tells none (outside programs).
+	Progress *float64 `json:"progress,omitempty"`
 }
 
 // WorkerReport is what a worker publishes about itself every Every.
@@ -329,6 +333,9 @@ func DecodeWorkerReport(data []byte, b ReportBounds) (WorkerReport, error) {
 	for _, j := range r.Current {
 		if !job.ValidID(j.JobID) || len(j.Sweep) > b.MaxText*2 {
 			return bad("current job %.40q of sweep %.40q", j.JobID, j.Sweep)
+		}
+		if p := j.Progress; p != nil && !(*p >= 0 && *p <= 1) {
+			return bad("current job %s: progress %g outside 0..1", j.JobID, *p)
 		}
 	}
 	return r, nil

@@ -263,6 +263,11 @@ func TestWorkerReportBounds(t *testing.T) {
 	if _, err := DecodeWorkerReport(mustJSON(good), b); err != nil {
 		t.Fatalf("good report refused: %v", err)
 	}
+	half := good
+	half.Current = []RunningJob{{JobID: wireJob.ID, Sweep: "s", Progress: &[]float64{0.5}[0]}}
+	if r, err := DecodeWorkerReport(mustJSON(half), b); err != nil || *r.Current[0].Progress != 0.5 {
+		t.Fatalf("report with progress 0.5: %v", err)
+	}
 	many := make([]RunningJob, 3)
 	for i := range many {
 		many[i] = RunningJob{JobID: wireJob.ID, Sweep: "s"}
@@ -277,6 +282,12 @@ func TestWorkerReportBounds(t *testing.T) {
 		"bad running job":  func(r *WorkerReport) { r.Current = []RunningJob{{JobID: "x"}} },
 		"negative done":    func(r *WorkerReport) { r.Done = -1 },
 		"too many current": func(r *WorkerReport) { r.Concurrency = b.MaxCores + 1 },
+		"progress 1.5": func(r *WorkerReport) {
+			r.Current = []RunningJob{{JobID: wireJob.ID, Sweep: "s", Progress: &[]float64{1.5}[0]}}
+		},
+		"progress -0.1": func(r *WorkerReport) {
+			r.Current = []RunningJob{{JobID: wireJob.ID, Sweep: "s", Progress: &[]float64{-0.1}[0]}}
+		},
 	} {
 		r := good
 		bad(&r)
