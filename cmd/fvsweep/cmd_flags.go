@@ -14,7 +14,6 @@ import (
 	"syscall"
 
 	"github.com/hashicorp/go-hclog"
-	"github.com/nats-io/nats.go"
 
 	"fvsweep/coordinator/client"
 	"fvsweep/coordinator/datadir"
@@ -105,11 +104,6 @@ func (c *common) logger(name string) (hclog.Logger, error) {
 func (c *common) dialOptions(url, name string, role wire.Role) client.DialOptions {
 	return client.DialOptions{URL: url, Name: name, Role: role, Token: c.token, User: c.user,
 		CredsFile: c.creds, NKeyFile: c.nkey, TLS: c.tls}
-}
-
-// dial connects to the NATS server at url, acting for role.
-func (c *common) dial(url, name string, role wire.Role) (*nats.Conn, error) {
-	return client.Dial(c.dialOptions(url, name, role))
 }
 
 // dir is the data directory, --data.

@@ -12,7 +12,6 @@ import (
 
 	"fvsweep/fv2d"
 	"fvsweep/sweep/job"
-	"fvsweep/sweep/verify"
 	"fvsweep/worker"
 )
 
@@ -50,26 +49,6 @@ func runGrids(t *testing.T, c string, params map[string]string, nxs ...int) ([]g
 		vals = v
 	}
 	return snaps, l1, prob, vals
-}
-
-// cellOrders lists the orders of the map's cells that are not masked and
-// whose centre (x, y) satisfies in.
-func cellOrders(m *orderMap, in func(x, y float64) bool) []float64 {
-	f := m.field
-	dx, dy := (f.X1-f.X0)/float64(f.NX), (f.Y1-f.Y0)/float64(f.NY)
-	var out []float64
-	for j := range f.NY {
-		for i := range f.NX {
-			if p := f.V[j*f.NX+i]; !math.IsNaN(p) && in(f.X0+(float64(i)+0.5)*dx, f.Y0+(float64(j)+0.5)*dy) {
-				out = append(out, p)
-			}
-		}
-	}
-	return out
-}
-
-func median(v []float64) float64 {
-	return verify.LocalOrders{Order: v}.Median()
 }
 
 // A smooth solution (Shu's isentropic vortex, docs/references.md §4) with a
