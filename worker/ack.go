@@ -30,7 +30,8 @@ func (w *Worker) settle() {
 		select {
 		case <-p.ack.Ok():
 		case err := <-p.ack.Err():
-			if err = w.republish(p); err != nil {
+			w.log.Debug("result publish not acknowledged; publishing it again", "job", p.jb, "error", err)
+			if err := w.republish(p); err != nil {
 				w.log.Warn("publishing result; the job will be delivered again", "job", p.jb, "error", err)
 				p.msg.Nak()
 				continue
