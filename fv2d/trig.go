@@ -17,7 +17,7 @@ import "math"
 // and Programs for Mathematical Functions"): x is reduced to
 // z = x - k pi/4 with k even, |z| <= pi/4, by subtracting k pi/4 in three
 // parts (Cody and Waite 1980), and sin z, cos z are polynomials in z^2 with
-// Cephes' coefficients.
+// Cephes' coefficients (docs/references.md §17).
 
 // trigReduceMax bounds the arguments the three-part reduction is accurate
 // for (2^29); beyond it the standard library's functions are used.
