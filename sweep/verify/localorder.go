@@ -86,25 +86,27 @@ func restrict(fine Grid, nx, ny int) Grid {
 	return out
 }
 
-// LocalOrders is an observed order of accuracy per cell of a coarse grid.
+// LocalOrders is an observed order of accuracy per window of a coarse grid.
 type LocalOrders struct {
-	NX, NY int // the coarse grid of the map
+	NX, NY int // the coarse grid of the map: one window centred on each of its cells
 	Ratio  int // refinement ratio r between successive grids
-	// Order[j*NX+i] is the observed order of coarse cell (i, j); NaN where
-	// the cell is masked.
+	Window int // the windows' side in coarse cells (odd; 1: cell by cell)
+	Grids  int // the number of grids whose errors or differences were fitted
+	// Order[j*NX+i] is the observed order of the window centred on coarse
+	// cell (i, j); NaN where the window is masked.
 	Order []float64
-	// Masked counts the cells whose order is not defined: one of the two
-	// magnitudes it compares is below Floor (round-off), or not finite.
+	// Masked counts the windows whose order is not defined: one of the
+	// magnitudes it fits is below Floor (round-off), or not finite.
 	Masked int
 	Floor  float64
 	// Global is the observed order of the L1 norms of the same quantities
-	// over the whole grids (see LocalOrdersExact, LocalOrdersDifferences);
-	// NaN when either norm is zero or not finite.
+	// over the whole grids (see WindowOrdersExact, WindowOrdersDifferences);
+	// NaN when any norm is zero or not finite.
 	Global float64
 }
 
-// Median returns the median of the cells' orders that are not masked; NaN
-// when every cell is masked.
+// Median returns the median of the windows' orders that are not masked;
+// NaN when every window is masked.
 func (m LocalOrders) Median() float64 {
 	v := make([]float64, 0, len(m.Order))
 	for _, p := range m.Order {
@@ -127,100 +129,230 @@ func (m LocalOrders) Median() float64 {
 // grid from the cell errors e = u - u_exact of a coarse and a finer nested
 // grid (ratio r):
 //
-//	p_{i,j} = ln(|e^c_{i,j}| / |(R e^f)_{i,j}|) / ln r,
+//	p_{i,j} = ln(|e^c_{i,j}| / (R|e^f|)_{i,j}) / ln r,
 //
-// R the restriction (Restrict). A cell is masked where |e^c| or |R e^f| is
-// below floor (errors at round-off; see RoundOffFloor). Global is the order
-// of the mean absolute errors of the two grids, each over its own cells,
-// ln(mean|e^c| / mean|e^f|) / ln r: the L1 order of the pair (the domain's
-// area cancels). It is an error when a grid is malformed or the two are not
-// nested.
+// R the restriction (Restrict): the fine errors' magnitudes are averaged
+// over the coarse cell, so errors of both signs inside it do not cancel.
+// It is WindowOrdersExact of the pair with windows of one cell; see there
+// for the masking, the global order and the errors.
 func LocalOrdersExact(coarse, fine Grid, floor float64) (LocalOrders, error) {
-	if err := coarse.check("coarse"); err != nil {
-		return LocalOrders{}, err
-	}
-	if err := fine.check("fine"); err != nil {
-		return LocalOrders{}, err
-	}
-	_, _, r, err := nestedRatio(coarse, fine)
-	if err != nil {
-		return LocalOrders{}, err
-	}
-	m := localOrders(coarse.V, restrict(fine, coarse.NX, coarse.NY).V, r, floor)
-	m.NX, m.NY = coarse.NX, coarse.NY
-	m.Global = ratioOrder(meanAbs(coarse.V), meanAbs(fine.V), r)
-	return m, nil
+	return WindowOrdersExact([]Grid{coarse, fine}, 1, floor)
 }
 
 // LocalOrdersDifferences returns the observed order in each cell of the
 // coarse grid of three nested grids (coarse, medium, fine; the same ratio r
 // between each pair) without an exact solution, from the differences of
-// successive grids restricted to the coarse grid:
+// successive grids:
 //
-//	p_{i,j} = ln(|u^c - R u^m| / |R u^m - R R u^f|)_{i,j} / ln r,
+//	p_{i,j} = ln(|u^c - R u^m| / R|u^m - R u^f|)_{i,j} / ln r,
 //
-// R the restriction to the next coarser grid. A cell is masked where either
-// difference is below floor. Global is ln(mean|u^c - R u^m| / mean|u^m -
-// R u^f|) / ln r, each mean over the cells of the coarser grid of its pair
-// (the three-grid L1 order). It is an error when a grid is malformed, the
-// grids are not nested or the two ratios differ.
+// R the restriction to the next coarser grid. It is
+// WindowOrdersDifferences of the three grids with windows of one cell; see
+// there for the masking, the global order and the errors.
 func LocalOrdersDifferences(coarse, medium, fine Grid, floor float64) (LocalOrders, error) {
-	for _, g := range []struct {
-		name string
-		g    Grid
-	}{{"coarse", coarse}, {"medium", medium}, {"fine", fine}} {
-		if err := g.g.check(g.name); err != nil {
-			return LocalOrders{}, err
-		}
-	}
-	rx1, ry1, r, err := nestedRatio(coarse, medium)
-	if err != nil {
-		return LocalOrders{}, err
-	}
-	rx2, ry2, _, err := nestedRatio(medium, fine)
-	if err != nil {
-		return LocalOrders{}, err
-	}
-	if rx1 != rx2 || ry1 != ry2 {
-		return LocalOrders{}, fmt.Errorf("grids %dx%d, %dx%d, %dx%d: the refinement ratios differ", coarse.NX, coarse.NY, medium.NX, medium.NY, fine.NX, fine.NY)
-	}
-	dc := restrict(medium, coarse.NX, coarse.NY).V // R u^m, then u^c - R u^m
-	for k, v := range coarse.V {
-		dc[k] = v - dc[k]
-	}
-	dm := restrict(fine, medium.NX, medium.NY).V // R u^f, then u^m - R u^f
-	for k, v := range medium.V {
-		dm[k] = v - dm[k]
-	}
-	m := localOrders(dc, restrict(Grid{NX: medium.NX, NY: medium.NY, V: dm}, coarse.NX, coarse.NY).V, r, floor)
-	m.NX, m.NY = coarse.NX, coarse.NY
-	m.Global = ratioOrder(meanAbs(dc), meanAbs(dm), r)
-	return m, nil
+	return WindowOrdersDifferences([]Grid{coarse, medium, fine}, 1, floor)
 }
 
-// localOrders is ln(|a_k| / |b_k|) / ln r per cell, masked (NaN) where
-// |a_k| or |b_k| is below floor or not finite.
-func localOrders(a, b []float64, r int, floor float64) LocalOrders {
-	m := LocalOrders{Ratio: r, Floor: floor, Order: make([]float64, len(a))}
-	lr := math.Log(float64(r))
-	for k := range a {
-		x, y := math.Abs(a[k]), math.Abs(b[k])
-		if !(x >= floor && y >= floor) || x == 0 || y == 0 || math.IsInf(x, 0) || math.IsInf(y, 0) {
-			m.Order[k] = math.NaN()
+// WindowOrdersExact returns the observed order per window from the cell
+// errors e_k = u_k - u_exact of n >= 2 nested grids, coarsest first, the
+// same ratio r between each pair (h_k = h_0 / r^k). A window is w x w cells
+// of the coarse grid (w odd) centred on one of its cells, cut by the
+// domain's edges (a strip of fewer than w cells across is taken whole). On
+// it each grid's error is measured by its L1 norm over the window's area,
+// divided by the area:
+//
+//	E_k = mean over the window of R_k|e_k|,
+//
+// R_k|e_k| the mean of |e_k| over the grid-k cells inside each coarse cell
+// (every coarse cell has the same area, so this is the mean of |e_k| over
+// the grid-k cells of the window). The magnitudes are taken before
+// averaging: a signed error averaged first (|R e|) cancels where it
+// changes sign inside the window and shows a spurious high order there.
+// Dividing by the area changes no order. The order of the window is the
+// least-squares slope of ln E_k against ln h_k (ordinary least squares on
+// the logarithms, common practice; for n = 2 it is ln(E_0/E_1) / ln r).
+//
+// A window is masked (NaN) where any E_k is below floor (see
+// RoundOffFloor), zero or not finite. Global is the same fit of the mean
+// of |e_k| over all the cells of grid k: the L1 order of the sequence (the
+// domain's area cancels; the map of a window covering the whole domain).
+// It is an error when a grid is malformed, the grids are fewer than two or
+// not nested with one ratio, or w is not a positive odd number. The grids'
+// values are only read.
+func WindowOrdersExact(errs []Grid, w int, floor float64) (LocalOrders, error) {
+	if len(errs) < 2 {
+		return LocalOrders{}, fmt.Errorf("local orders from exact errors need at least two grids; have %d", len(errs))
+	}
+	r, err := checkSequence(errs, w)
+	if err != nil {
+		return LocalOrders{}, err
+	}
+	return windowOrders(errs, r, w, floor), nil
+}
+
+// WindowOrdersDifferences returns the observed order per window of n >= 3
+// nested grids u_0 ... u_{n-1}, coarsest first, the same ratio r between
+// each pair, without an exact solution: from the differences of successive
+// grids on the coarser grid of each pair,
+//
+//	d_k = u_k - R u_{k+1},  k = 0 ... n-2,
+//
+// which behave like C h_k^p (1 - r^-p) where u_k = u + C h_k^p, so that the
+// fit of ln E_k against ln h_k over the n-1 differences has slope p. E_k,
+// the windows, the fit, the masking and Global are those of
+// WindowOrdersExact with d_k in place of e_k. It is an error when a grid
+// is malformed, the grids are fewer than three or not nested with one
+// ratio, or w is not a positive odd number.
+func WindowOrdersDifferences(grids []Grid, w int, floor float64) (LocalOrders, error) {
+	if len(grids) < 3 {
+		return LocalOrders{}, fmt.Errorf("local orders without an exact solution need at least three grids; have %d", len(grids))
+	}
+	r, err := checkSequence(grids, w)
+	if err != nil {
+		return LocalOrders{}, err
+	}
+	d := make([]Grid, len(grids)-1)
+	for k := range d {
+		c, f := grids[k], grids[k+1]
+		v := restrict(f, c.NX, c.NY).V // R u_{k+1}, then u_k - R u_{k+1}
+		for i, x := range c.V {
+			v[i] = x - v[i]
+		}
+		d[k] = Grid{NX: c.NX, NY: c.NY, V: v}
+	}
+	return windowOrders(d, r, w, floor), nil
+}
+
+// checkSequence checks that grids are well formed and nested, coarsest
+// first, with one ratio in each refined direction, and that w is a window
+// side; it returns the ratio.
+func checkSequence(grids []Grid, w int) (int, error) {
+	if w < 1 || w%2 == 0 {
+		return 0, fmt.Errorf("window of %d cells: want a positive odd number (the window is centred on a cell)", w)
+	}
+	for k, g := range grids {
+		if err := g.check(fmt.Sprintf("grid %d (%dx%d)", k, g.NX, g.NY)); err != nil {
+			return 0, err
+		}
+	}
+	var rx0, ry0, r int
+	for k := 1; k < len(grids); k++ {
+		rx, ry, rk, err := nestedRatio(grids[k-1], grids[k])
+		if err != nil {
+			return 0, err
+		}
+		if k > 1 && (rx != rx0 || ry != ry0) {
+			g0, g1, g2 := grids[k-2], grids[k-1], grids[k]
+			return 0, fmt.Errorf("grids %dx%d, %dx%d, %dx%d: the refinement ratios differ", g0.NX, g0.NY, g1.NX, g1.NY, g2.NX, g2.NY)
+		}
+		rx0, ry0, r = rx, ry, rk
+	}
+	return r, nil
+}
+
+// windowOrders fits the orders of the magnitudes a_k (errors or
+// differences of grid k, h_k = h_0 / r^k) per window of w x w cells of
+// the coarse grid a_0.
+func windowOrders(a []Grid, r, w int, floor float64) LocalOrders {
+	c := a[0]
+	m := LocalOrders{NX: c.NX, NY: c.NY, Ratio: r, Window: w, Grids: len(a), Floor: floor,
+		Order: make([]float64, c.NX*c.NY)}
+	// x_k = ln h_k - ln h_0 = -k ln r: the slope does not depend on h_0.
+	x := make([]float64, len(a))
+	for k := range x {
+		x[k] = -float64(k) * math.Log(float64(r))
+	}
+	E := make([][]float64, len(a)) // E[k][cell]: the window mean of |a_k|
+	glob := make([]float64, len(a))
+	for k, g := range a {
+		abs := Grid{NX: g.NX, NY: g.NY, V: make([]float64, len(g.V))}
+		for i, v := range g.V {
+			abs.V[i] = math.Abs(v)
+		}
+		glob[k] = meanAbs(g.V)
+		E[k] = boxMean(restrict(abs, c.NX, c.NY), w)
+	}
+	y := make([]float64, len(a))
+	for cell := range m.Order {
+		ok := true
+		for k := range E {
+			e := E[k][cell]
+			if !(e >= floor) || e == 0 || math.IsInf(e, 0) {
+				ok = false
+				break
+			}
+			y[k] = math.Log(e)
+		}
+		if !ok {
+			m.Order[cell] = math.NaN()
 			m.Masked++
 			continue
 		}
-		m.Order[k] = math.Log(x/y) / lr
+		m.Order[cell] = slope(x, y)
 	}
+	m.Global = math.NaN()
+	for k, v := range glob {
+		if !positive(v) {
+			return m
+		}
+		y[k] = math.Log(v)
+	}
+	m.Global = slope(x, y)
 	return m
 }
 
-// ratioOrder is ln(a/b) / ln r, NaN unless a and b are positive and finite.
-func ratioOrder(a, b float64, r int) float64 {
-	if !positive(a) || !positive(b) {
-		return math.NaN()
+// slope is the least-squares slope of y against x (ordinary least squares:
+// sum (x - mean x)(y - mean y) / sum (x - mean x)^2): with x = ln h_k and
+// y = ln E_k the order p of E_k ~ C h_k^p.
+func slope(x, y []float64) float64 {
+	var mx, my float64
+	for k := range x {
+		mx += x[k]
+		my += y[k]
 	}
-	return math.Log(a/b) / math.Log(float64(r))
+	mx /= float64(len(x))
+	my /= float64(len(y))
+	var sxy, sxx float64
+	for k := range x {
+		sxy += (x[k] - mx) * (y[k] - my)
+		sxx += (x[k] - mx) * (x[k] - mx)
+	}
+	return sxy / sxx
+}
+
+// boxMean returns, for each cell of g, the mean of g over the w x w cells
+// centred on it, cut by the grid's edges: sums along x, then along y, each
+// added up directly (no running sums, whose differences would lose the
+// small values next to large ones).
+func boxMean(g Grid, w int) []float64 {
+	if w == 1 {
+		return g.V
+	}
+	half := w / 2
+	sx := make([]float64, len(g.V))
+	for j := range g.NY {
+		row := g.V[j*g.NX : (j+1)*g.NX]
+		for i := range row {
+			s := 0.0
+			for _, v := range row[max(i-half, 0):min(i+half+1, g.NX)] {
+				s += v
+			}
+			sx[j*g.NX+i] = s
+		}
+	}
+	out := make([]float64, len(g.V))
+	for j := range g.NY {
+		lo, hi := max(j-half, 0), min(j+half+1, g.NY)
+		for i := range g.NX {
+			s := 0.0
+			for b := lo; b < hi; b++ {
+				s += sx[b*g.NX+i]
+			}
+			n := min(i+half+1, g.NX) - max(i-half, 0)
+			out[j*g.NX+i] = s / float64(n*(hi-lo))
+		}
+	}
+	return out
 }
 
 func meanAbs(v []float64) float64 {

@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/gonum/stat"
 )
 
 // cubicAverages returns the exact cell averages of f(x, y) = x^3 + x y^2 +
@@ -238,5 +240,248 @@ func TestRoundOffFloorBoundsFloat32Storage(t *testing.T) {
 	}
 	if RoundOffFloor(eps, []float64{math.Inf(1), -2}) != RoundOffFactor*eps*2 {
 		t.Error("an infinite value set the floor")
+	}
+}
+
+// blockErrors returns errors on grid k of a sequence nested in the coarse
+// grid nx x ny by ratio 2 in both directions (h_k = h0 / 2^k): in each
+// fine cell s a_c h_k^p_b, with s = ±1 a checkerboard over the grid-k
+// cells, a_c an amplitude per coarse cell c and p_b an order per block of
+// b x b coarse cells. Every window of the coarse grid that lies inside one
+// block has E_k = mean|a| h_k^p_b: an exact power law of order p_b.
+func blockErrors(nx, ny, b, k int, h0 float64, a, p []float64) Grid {
+	r := 1 << k
+	h := h0 / float64(r)
+	g := Grid{NX: r * nx, NY: r * ny, V: make([]float64, r*r*nx*ny)}
+	nbx := (nx + b - 1) / b
+	for j := range g.NY {
+		for i := range g.NX {
+			ci, cj := i/r, j/r
+			s := float64(1 - 2*((i+j)%2))
+			g.V[j*g.NX+i] = s * a[cj*nx+ci] * math.Pow(h, p[(cj/b)*nbx+ci/b])
+		}
+	}
+	return g
+}
+
+// Exact local power laws over four grids: every window inside a block of
+// one order recovers it to 1e-12 (the definition of the observed order of
+// E ~ C h^p). The signs alternate cell by cell, so a restriction of the
+// signed errors (|R e|) would be zero and mask everything; the L1 of the
+// fine cells keeps the magnitude.
+func TestWindowOrdersExactPowerLaw(t *testing.T) {
+	const nx, ny, b, h0 = 10, 15, 5, 0.3
+	rng := rand.New(rand.NewPCG(7, 8))
+	a := make([]float64, nx*ny)
+	for k := range a {
+		a[k] = 0.2 + rng.Float64()
+	}
+	p := make([]float64, 2*3)
+	for k := range p {
+		p[k] = 0.4 + 2.5*rng.Float64()
+	}
+	for _, w := range []int{1, 3} {
+		for _, n := range []int{2, 4} {
+			errs := make([]Grid, n)
+			for k := range errs {
+				errs[k] = blockErrors(nx, ny, b, k, h0, a, p)
+			}
+			m, err := WindowOrdersExact(errs, w, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if m.NX != nx || m.NY != ny || m.Ratio != 2 || m.Window != w || m.Grids != n || m.Masked != 0 {
+				t.Fatalf("w=%d n=%d: map %dx%d ratio %d window %d grids %d masked %d", w, n, m.NX, m.NY, m.Ratio, m.Window, m.Grids, m.Masked)
+			}
+			checked := 0
+			for j := range ny {
+				for i := range nx {
+					if i%b < w/2 || i%b >= b-w/2 || j%b < w/2 || j%b >= b-w/2 {
+						continue // the window reaches into another block
+					}
+					want := p[(j/b)*2+i/b]
+					if q := m.Order[j*nx+i]; math.Abs(q-want) > 1e-12 {
+						t.Errorf("w=%d n=%d cell (%d,%d): order %.15g, want %.15g", w, n, i, j, q, want)
+					}
+					checked++
+				}
+			}
+			if checked < 6*3*3 {
+				t.Fatalf("only %d windows checked", checked)
+			}
+		}
+	}
+	// The pair function is the same map with windows of one cell.
+	pair, err := LocalOrdersExact(blockErrors(nx, ny, b, 0, h0, a, p), blockErrors(nx, ny, b, 1, h0, a, p), 0)
+	if err != nil || pair.Masked != 0 || math.Abs(pair.Order[0]-p[0]) > 1e-12 {
+		t.Errorf("pair: order %v masked %d, want %v (%v)", pair.Order[0], pair.Masked, p[0], err)
+	}
+}
+
+// The fitted order is the ordinary least-squares slope of ln E_k against
+// ln h_k: cross-checked against gonum's stat.LinearRegression (an
+// independent library) on scattered data, per window and globally.
+func TestWindowOrdersMatchLinearRegression(t *testing.T) {
+	const nx, ny, n, w, h0 = 6, 5, 5, 3, 0.25
+	rng := rand.New(rand.NewPCG(9, 10))
+	errs := make([]Grid, n)
+	for k := range errs {
+		r := 1 << k
+		g := Grid{NX: r * nx, NY: r * ny, V: make([]float64, r*r*nx*ny)}
+		for c := range g.V {
+			g.V[c] = (rng.Float64() - 0.4) * math.Pow(h0/float64(r), 1+rng.Float64())
+		}
+		errs[k] = g
+	}
+	m, err := WindowOrdersExact(errs, w, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	x, y := make([]float64, n), make([]float64, n)
+	for _, c := range [][2]int{{0, 0}, {2, 3}, {5, 4}, {3, 0}} {
+		i0, j0 := c[0], c[1]
+		for k, g := range errs {
+			r := 1 << k
+			// The grid-k cells of the window: coarse cells i0-1..i0+1, j0-1..j0+1, cut by the edges.
+			s, cnt := 0.0, 0
+			for j := max(j0-1, 0) * r; j < min(j0+2, ny)*r; j++ {
+				for i := max(i0-1, 0) * r; i < min(i0+2, nx)*r; i++ {
+					s += math.Abs(g.V[j*g.NX+i])
+					cnt++
+				}
+			}
+			x[k], y[k] = math.Log(h0/float64(r)), math.Log(s/float64(cnt))
+		}
+		_, beta := stat.LinearRegression(x, y, nil, false)
+		if got := m.Order[j0*nx+i0]; math.Abs(got-beta) > 1e-12 {
+			t.Errorf("window at (%d,%d): order %.15g, gonum slope %.15g", i0, j0, got, beta)
+		}
+	}
+	for k, g := range errs {
+		x[k], y[k] = math.Log(h0/float64(int(1)<<k)), math.Log(meanAbs(g.V))
+	}
+	if _, beta := stat.LinearRegression(x, y, nil, false); math.Abs(m.Global-beta) > 1e-12 {
+		t.Errorf("global order %.15g, gonum slope %.15g", m.Global, beta)
+	}
+}
+
+// Without an exact solution: u_k = exact averages + a checkerboard local
+// power law. The smooth part cancels in u_k - R u_{k+1} (additivity of the
+// integral) and so does the checkerboard of grid k+1, leaving d_k =
+// ±a h_k^p: each window inside a block recovers p. Tolerance 1e-9: the
+// smooth part, of size 1, cancels only to about 1e-16 against differences
+// down to 1e-5.
+func TestWindowOrdersDifferencesPowerLaw(t *testing.T) {
+	const nx, ny, b, h0, n, w = 10, 10, 5, 0.2, 5, 3
+	rng := rand.New(rand.NewPCG(11, 12))
+	a := make([]float64, nx*ny)
+	for k := range a {
+		a[k] = 0.5 + rng.Float64()
+	}
+	p := []float64{0.6, 1, 1.5, 2.3}
+	grids := make([]Grid, n)
+	for k := range grids {
+		u := cubicAverages(nx<<k, ny<<k)
+		e := blockErrors(nx, ny, b, k, h0, a, p)
+		for c := range u.V {
+			u.V[c] += e.V[c]
+		}
+		grids[k] = u
+	}
+	m, err := WindowOrdersDifferences(grids, w, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.Grids != n-1 || m.Masked != 0 {
+		t.Fatalf("grids %d masked %d", m.Grids, m.Masked)
+	}
+	for j := range ny {
+		for i := range nx {
+			if i%b == 0 || i%b == b-1 || j%b == 0 || j%b == b-1 {
+				continue
+			}
+			if q, want := m.Order[j*nx+i], p[(j/b)*2+i/b]; math.Abs(q-want) > 1e-9 {
+				t.Errorf("cell (%d,%d): order %.12g, want %.12g", i, j, q, want)
+			}
+		}
+	}
+}
+
+// A window is masked when the magnitude of any grid falls below the
+// floor, even if the other grids are well above it.
+func TestWindowOrdersMasking(t *testing.T) {
+	const nx, ny = 9, 3
+	errs := make([]Grid, 3)
+	for k := range errs {
+		r := 1 << k
+		g := Grid{NX: r * nx, NY: r * ny, V: make([]float64, r*r*nx*ny)}
+		for c := range g.V {
+			g.V[c] = math.Pow(0.5, float64(2*k)) // order 2 everywhere
+		}
+		if k == 2 { // the finest grid at round-off in coarse columns 0..2
+			for j := range g.NY {
+				for i := range 3 * r {
+					g.V[j*g.NX+i] = 1e-12
+				}
+			}
+		}
+		errs[k] = g
+	}
+	m, err := WindowOrdersExact(errs, 3, 1e-8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The windows centred on columns 0 and 1 hold only round-off columns
+	// of the finest grid: masked. Those on columns 2 and 3 hold one or two
+	// of them: their finest mean stays above the floor but is too small,
+	// so their order exceeds 2. From column 4 on: order 2.
+	for j := range ny {
+		for i := range nx {
+			q := m.Order[j*nx+i]
+			switch {
+			case i <= 1:
+				if !math.IsNaN(q) {
+					t.Errorf("cell (%d,%d): order %v, want masked", i, j, q)
+				}
+			case i >= 4:
+				if math.Abs(q-2) > 1e-12 {
+					t.Errorf("cell (%d,%d): order %v, want 2", i, j, q)
+				}
+			default:
+				if math.IsNaN(q) || q <= 2 {
+					t.Errorf("cell (%d,%d): order %v, want above 2 (the finest grid's window is partly at round-off)", i, j, q)
+				}
+			}
+		}
+	}
+	if m.Masked != 2*ny {
+		t.Errorf("masked %d, want %d", m.Masked, 2*ny)
+	}
+}
+
+func TestWindowOrdersErrors(t *testing.T) {
+	g := func(nx, ny int) Grid { return Grid{NX: nx, NY: ny, V: make([]float64, nx*ny)} }
+	for _, tc := range []struct {
+		name string
+		err  error
+		want string
+	}{
+		{"one grid", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4)}, 1, 0); return err }(), "at least two grids"},
+		{"two grids, no exact", func() error { _, err := WindowOrdersDifferences([]Grid{g(4, 4), g(8, 8)}, 1, 0); return err }(), "at least three grids"},
+		{"even window", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(8, 8)}, 2, 0); return err }(), "odd"},
+		{"zero window", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(8, 8)}, 0, 0); return err }(), "odd"},
+		{"ratios differ", func() error {
+			_, err := WindowOrdersExact([]Grid{g(4, 4), g(8, 8), g(16, 16), g(48, 48)}, 1, 0)
+			return err
+		}(), "ratios differ"},
+		{"not nested", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(8, 8), g(12, 16)}, 1, 0); return err }(), "not nested"},
+		{"short values", func() error {
+			_, err := WindowOrdersDifferences([]Grid{g(2, 2), {NX: 4, NY: 4, V: make([]float64, 15)}, g(8, 8)}, 3, 0)
+			return err
+		}(), "15 values"},
+	} {
+		if tc.err == nil || !strings.Contains(tc.err.Error(), tc.want) {
+			t.Errorf("%s: %v, want %q", tc.name, tc.err, tc.want)
+		}
 	}
 }
