@@ -37,7 +37,9 @@ func init() {
   order-map    observed order per cell of one group's nested grids (ratio 2),
                from the snapshots of the finest two grids' errors against
                the exact solution, or without one from the finest three
-               grids' differences; centred on the design order
+               grids' differences; centred on the design order. --fit-grids
+               fits more grids by least squares, --window measures each
+               error as its L1 norm over a square of cells
 
 The extension of --out (.png or .svg) picks the format. Results come from
 the running coordinator, or from the store in --data opened read-only. A
@@ -55,12 +57,15 @@ else from the server files in --data/nats.`,
 		}, judgeDocs, []flagDoc{
 			{"group", "G", "convergence, cost: draw only this group; order-map: the group. As k=v pairs (commas or spaces between) that its parameters match, or its label in the table", ""},
 			{"coarse", "NX", "order-map: the nx of the map's grid, the coarsest of the grids compared", "the finest that has the grids it needs"},
+			{"fit-grids", "N|all", "order-map: fit the order to N grids (from --coarse on, else the finest N), or all with snapshots, by least squares of ln E against ln h per window", "2 with an exact solution, else 3"},
+			{"window", "W", "order-map: measure each grid's error (or difference) by its mean absolute value over W x W coarse cells centred on each cell (W odd), cut at the domain's edges", "1"},
 			{"format", "F", "order-map: png or svg, or csv to write x,y,order per cell (empty order: masked) to --out or stdout", "from --out"},
 		}, commonFlags(false)),
 		examples: []string{
 			"fvsweep plot blast-limiters convergence --out conv.svg",
 			"fvsweep plot blast-limiters cost --x work --out cost.png",
 			"fvsweep plot blast-limiters field --job nx=128,limiter=mc --out field.png",
+			"fvsweep plot tubes order-map --fit-grids all --window 9 --format csv",
 		}})
 }
 
@@ -79,6 +84,8 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	at := fs.String("at", "", "")
 	group := fs.String("group", "", "")
 	coarse := intFlag(fs, "coarse", 0, 1, math.MaxInt)
+	fitGrids := fs.String("fit-grids", "", "")
+	window := intFlag(fs, "window", 1, 1, math.MaxInt)
 	format := choiceFlag(fs, "format", "", "png", "svg", "csv")
 	costX := choiceFlag(fs, "x", "", "cpu", "work")
 	bad := func(format string, a ...any) int { return usageTo(stderr, "plot", format, a...) }
@@ -120,8 +127,23 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	case *costX != "":
 		axis = report.CostAxis(*costX)
 	}
-	if kind != "order-map" && *coarse != 0 {
-		return bad("--coarse is for the order map")
+	if kind != "order-map" && (*coarse != 0 || *fitGrids != "" || *window != 1) {
+		return bad("--coarse, --fit-grids and --window are for the order map")
+	}
+	mo := mapOptions{window: *window}
+	switch *fitGrids {
+	case "":
+	case "all":
+		mo.grids = -1
+	default:
+		n, err := strconv.Atoi(*fitGrids)
+		if err != nil || n < 2 {
+			return bad("--fit-grids %q: want a number of grids (at least 2) or all", *fitGrids)
+		}
+		mo.grids = n
+	}
+	if *window%2 == 0 {
+		return bad("--window %d: want an odd number of cells (the window is centred on a cell)", *window)
 	}
 	if kind == "field" && *group != "" {
 		return bad("--group is for the convergence, cost and order-map plots")
@@ -142,7 +164,7 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	fetch := func(ref string) ([]byte, error) { return fetchSnapshot(&c, ref) }
 	switch kind {
 	case "order-map":
-		m, err := orderMapOf(sd, *studyN, *group, jf.v, *coarse, fetch)
+		m, err := orderMapOf(sd, *studyN, *group, jf.v, *coarse, mo, fetch)
 		if err != nil {
 			return failed(err)
 		}

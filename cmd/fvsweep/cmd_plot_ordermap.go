@@ -31,29 +31,47 @@ type gridSnapshot struct {
 }
 
 // orderMap is the local observed order of one variable of a group on the
-// coarse grid of the pair (exact) or triple (differences) it compares.
+// coarsest grid of those it compares.
 type orderMap struct {
 	orders  verify.LocalOrders
 	field   plots.Field // the coarse grid's geometry, the orders as values
-	exact   bool        // from errors against the exact solution, else three grids' differences
+	exact   bool        // from errors against the exact solution, else successive grids' differences
 	grids   []int       // nx of the grids compared, coarsest first
 	vname   string
 	design  float64
 	caseStr string
 }
 
-// localOrderMap computes the order map of variable v from the snapshots of
-// nested grids, coarsest first: from the errors of the last two against
-// the exact cell averages of prob (fv2d.ExactAverages with quad points per
-// direction) when prob has an exact solution, else from the differences
-// of the last three. v must be a conserved variable of the snapshots (cell
-// averages restrict exactly; primitive variables do not).
-func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int) (*orderMap, error) {
-	exact := prob != nil && prob.Exact != nil
-	need := 3
+// mapOptions choose the grids and windows of an order map.
+type mapOptions struct {
+	// grids is how many of the finest grids to fit: 0 for the fewest the
+	// map needs (two with an exact solution, else three), -1 for all.
+	grids int
+	// window is the side of the windows in coarse cells (odd; 0 or 1:
+	// cell by cell).
+	window int
+}
+
+// needGrids is the fewest grids an order map needs: two with an exact
+// solution, three without (their differences).
+func needGrids(exact bool) int {
 	if exact {
-		need = 2
+		return 2
 	}
+	return 3
+}
+
+// localOrderMap computes the order map of variable v from the snapshots of
+// nested grids, coarsest first: from the errors against the exact cell
+// averages of prob (fv2d.ExactAverages with quad points per direction)
+// when prob has an exact solution, else from the differences of successive
+// grids; over the finest o.grids of them (0: the last two, or three; -1:
+// all), fitted per window of o.window coarse cells (verify.WindowOrdersExact,
+// verify.WindowOrdersDifferences). v must be a conserved variable of the
+// snapshots (cell averages restrict exactly; primitive variables do not).
+func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int, o mapOptions) (*orderMap, error) {
+	exact := prob != nil && prob.Exact != nil
+	need := needGrids(exact)
 	if len(snaps) < need {
 		what := "three grids (no exact solution: the order comes from their differences)"
 		if exact {
@@ -61,14 +79,25 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int)
 		}
 		return nil, fmt.Errorf("an order map needs %s with snapshots; have %d", what, len(snaps))
 	}
-	snaps = snaps[len(snaps)-need:]
+	use := need
+	switch {
+	case o.grids < 0:
+		use = len(snaps)
+	case o.grids > len(snaps):
+		return nil, fmt.Errorf("%d grids asked for, %d have snapshots", o.grids, len(snaps))
+	case o.grids >= need:
+		use = o.grids
+	case o.grids > 0:
+		return nil, fmt.Errorf("%d grids asked for: the map needs at least %d", o.grids, need)
+	}
+	snaps = snaps[len(snaps)-use:]
 	k := slices.Index(snaps[0].hdr.Vars, v)
 	if k < 0 {
 		return nil, fmt.Errorf("variable %q: an order map needs a conserved variable of the snapshot (%s)", v, strings.Join(snaps[0].hdr.Vars, ", "))
 	}
 	m := &orderMap{exact: exact, vname: v}
-	grids := make([]verify.Grid, need)
-	values := make([][]float64, need)
+	grids := make([]verify.Grid, use)
+	values := make([][]float64, use)
 	for i, s := range snaps {
 		h := s.hdr
 		if !slices.Equal(h.Vars, snaps[0].hdr.Vars) || h.T != snaps[0].hdr.T {
@@ -83,14 +112,15 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int)
 		m.grids = append(m.grids, h.NX)
 	}
 	floor := verify.RoundOffFloor(float32Eps, values...)
+	w := max(o.window, 1)
 	var err error
 	if exact {
 		for i, s := range snaps {
 			grids[i].V = snapshotErrors(s.hdr, values[i], k, prob, quad)
 		}
-		m.orders, err = verify.LocalOrdersExact(grids[0], grids[1], floor)
+		m.orders, err = verify.WindowOrdersExact(grids, w, floor)
 	} else {
-		m.orders, err = verify.LocalOrdersDifferences(grids[0], grids[1], grids[2], floor)
+		m.orders, err = verify.WindowOrdersDifferences(grids, w, floor)
 	}
 	if err != nil {
 		return nil, err
@@ -125,14 +155,21 @@ func snapshotErrors(h field.Header, u []float64, k int, prob *fv2d.Problem, quad
 func (m *orderMap) heat() (*plots.Heat, error) {
 	how := "exact errors"
 	if !m.exact {
-		how = "three grids' differences"
+		how = "differences of successive grids"
+	}
+	if len(m.grids) > needGrids(m.exact) {
+		how += ", least-squares fit"
 	}
 	nx := make([]string, len(m.grids))
 	for i, n := range m.grids {
 		nx[i] = strconv.Itoa(n)
 	}
-	title := fmt.Sprintf("%s, %s: observed order per cell\nnx %s, %s; global L1 order %s, median %s\nhatched: below %.2g (round-off)",
-		m.caseStr, m.vname, strings.Join(nx, "/"), how, fmtOrder(m.orders.Global), fmtOrder(m.orders.Median()), m.orders.Floor)
+	per := "cell"
+	if w := m.orders.Window; w > 1 {
+		per = fmt.Sprintf("window of %dx%d cells", w, w)
+	}
+	title := fmt.Sprintf("%s, %s: observed order per %s\nnx %s, %s; global L1 order %s, median %s\nhatched: below %.2g (round-off)",
+		m.caseStr, m.vname, per, strings.Join(nx, "/"), how, fmtOrder(m.orders.Global), fmtOrder(m.orders.Median()), m.orders.Floor)
 	if m.orders.Masked == len(m.orders.Order) {
 		return nil, fmt.Errorf("every cell of the order map is at round-off level (below %.2g): nothing to draw", m.orders.Floor)
 	}
@@ -153,8 +190,8 @@ func fmtOrder(p float64) string {
 	return fmt.Sprintf("%.2f", p)
 }
 
-// writeCSV writes the map as "x,y,order" at the coarse cells' centres, x
-// fastest; a masked cell has an empty order.
+// writeCSV writes the map as "x,y,order" at the windows' centres (the
+// coarse cells' centres), x fastest; a masked window has an empty order.
 func (m *orderMap) writeCSV(w io.Writer) error {
 	f := m.field
 	dx, dy := (f.X1-f.X0)/float64(f.NX), (f.Y1-f.Y0)/float64(f.NY)
@@ -181,8 +218,9 @@ func (m *orderMap) writeCSV(w io.Writer) error {
 // (k=v pairs, separated by commas or spaces, that its parameters match,
 // or its label), the finest grids with snapshots (fetched by reference),
 // variable v (default: the study's). coarse, when not 0, is the nx of the
-// map's grid instead of the finest usable one.
-func orderMapOf(sd *sweepData, n int, group, v string, coarse int, fetch func(ref string) ([]byte, error)) (*orderMap, error) {
+// map's grid instead of the finest usable one; o chooses how many grids
+// and the window (localOrderMap).
+func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions, fetch func(ref string) ([]byte, error)) (*orderMap, error) {
 	set, err := sd.tables(table.Options{Var: v})
 	if err != nil {
 		return nil, err
@@ -214,19 +252,31 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, fetch func(re
 	if prob == nil {
 		return nil, fmt.Errorf("case %s could not be set up here", st.Case)
 	}
-	need := 3
-	if prob.Exact != nil {
-		need = 2
+	need := needGrids(prob.Exact != nil)
+	switch {
+	case o.grids > 0 && o.grids < need:
+		return nil, fmt.Errorf("%d grids asked for: the map needs at least %d", o.grids, need)
+	case o.grids > 0:
+		need = o.grids
 	}
 	if coarse != 0 {
 		i := slices.IndexFunc(rows, func(r table.GridRow) bool { return r.NX == coarse })
 		if i < 0 {
 			return nil, fmt.Errorf("--coarse %d: no finished grid with a snapshot has nx = %d", coarse, coarse)
 		}
+		if o.grids < 0 {
+			need = len(rows) - i
+		}
 		if i+need > len(rows) {
 			return nil, fmt.Errorf("--coarse %d: the map needs %d finished grids with snapshots from nx = %d on", coarse, need, coarse)
 		}
 		rows = rows[:i+need]
+	}
+	if o.grids < 0 {
+		need = len(rows)
+	}
+	if o.grids > len(rows) {
+		return nil, fmt.Errorf("study %d, group %q: %d grids asked for, %d finished grids have snapshots", st.Index, g.Label, o.grids, len(rows))
 	}
 	if len(rows) > need {
 		rows = rows[len(rows)-need:]
@@ -257,7 +307,7 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, fetch func(re
 	if v == "" {
 		v = snaps[0].hdr.Vars[0]
 	}
-	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"))
+	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"), mapOptions{grids: -1, window: o.window})
 	if err != nil {
 		return nil, fmt.Errorf("study %d, group %q: %w", st.Index, g.Label, err)
 	}
