@@ -59,7 +59,7 @@ else from the server files in --data/nats.`,
 			{"coarse", "NX", "order-map: the nx of the map's grid, the coarsest of the grids compared", "the finest that has the grids it needs"},
 			{"fit-grids", "N|all", "order-map: fit the order to N grids (from --coarse on, else the finest N), or all with snapshots, by least squares of ln E against ln h per window", "2 with an exact solution, else 3"},
 			{"window", "W", "order-map: measure each grid's error (or difference) by its mean absolute value over W x W coarse cells centred on each cell (W odd), cut at the domain's edges", "1"},
-			{"format", "F", "order-map: png or svg, or csv to write x,y,order per cell (empty order: masked) to --out or stdout", "from --out"},
+			{"format", "F", "order-map: png or svg, or csv to write x,y,order per window (its centre; empty order: masked) to --out or stdout", "from --out"},
 		}, commonFlags(false)),
 		examples: []string{
 			"fvsweep plot blast-limiters convergence --out conv.svg",

@@ -1,6 +1,7 @@
 // Package verify is the grid-convergence maths: observed orders of accuracy,
 // least-squares order fits, the grid convergence index, order verdicts and
-// local (cell by cell) observed orders on nested grids.
+// local observed orders on nested grids (cell by cell, or per window fitted
+// over several grids).
 // It is pure computation on numbers and imports only the standard library
 // and gonum.
 package verify
