@@ -12,6 +12,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -158,7 +159,7 @@ func (f *Figure) draw(c draw.Canvas) error {
 // plot builds the gonum plot of f without a legend.
 func (f *Figure) plot() (*plot.Plot, error) {
 	p := plot.New()
-	p.Title.Text = f.Title
+	p.Title.Text = wrapTitle(f.Title, titleChars)
 	p.Title.TextStyle.Font.Size = vg.Points(11)
 	p.X.Label.Text, p.Y.Label.Text = f.XLabel, f.YLabel
 	if f.LogX {
@@ -394,7 +395,7 @@ func (h *Heat) draw(c draw.Canvas) error {
 		cm = NewDiverging(h.Min, h.Max)
 	}
 	p := plot.New()
-	p.Title.Text = h.Title
+	p.Title.Text = wrapTitle(h.Title, titleChars)
 	p.Title.TextStyle.Font.Size = vg.Points(11)
 	p.X.Label.Text, p.Y.Label.Text = h.XLabel, h.YLabel
 	p.Add(plotter.NewImage(h.raster(cm), h.Field.X0, h.Field.Y0, h.Field.X1, h.Field.Y1))
@@ -476,4 +477,31 @@ func (h *Heat) raster(cm heatColours) *image.NRGBA {
 		}
 	}
 	return img
+}
+
+// titleChars is the longest title line, in characters, that fits across a
+// figure at the title's 11 points; longer lines are wrapped.
+const titleChars = 90
+
+// wrapTitle breaks each line of title that is longer than width characters
+// at the last space that keeps it within width (a word longer than width
+// stays whole), so that a long group label is not cut at the figure's edges.
+func wrapTitle(title string, width int) string {
+	var out []string
+	for _, line := range strings.Split(title, "\n") {
+		cur := ""
+		for _, w := range strings.Fields(line) {
+			switch {
+			case cur == "":
+				cur = w
+			case utf8.RuneCountInString(cur)+1+utf8.RuneCountInString(w) <= width:
+				cur += " " + w
+			default:
+				out = append(out, cur)
+				cur = w
+			}
+		}
+		out = append(out, cur)
+	}
+	return strings.Join(out, "\n")
 }

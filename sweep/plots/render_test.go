@@ -181,3 +181,24 @@ func TestLogTicks(t *testing.T) {
 		}
 	}
 }
+
+// A title line longer than the figure is wide is broken at spaces, each
+// piece within the width; short lines, explicit line breaks and a word
+// longer than the width are kept.
+func TestWrapTitle(t *testing.T) {
+	for _, c := range []struct{ in, want string }{
+		{"short", "short"},
+		{"aaa bbb ccc ddd", "aaa bbb\nccc ddd"},
+		{"aaa bbb\nccc", "aaa bbb\nccc"},
+		{"abcdefghijkl x", "abcdefghijkl\nx"},
+		{"aaaa bbbb cccc dddd eeee", "aaaa\nbbbb\ncccc\ndddd\neeee"},
+	} {
+		w := 8
+		if c.in == "aaaa bbbb cccc dddd eeee" {
+			w = 5
+		}
+		if got := wrapTitle(c.in, w); got != c.want {
+			t.Errorf("wrapTitle(%q, %d) = %q, want %q", c.in, w, got, c.want)
+		}
+	}
+}
