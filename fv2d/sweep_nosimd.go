@@ -7,6 +7,8 @@ package fv2d
 
 const simdHLLC = false
 
+var hllcWide = false
+
 func hllcFaces4(gamma, g float64, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3 []float64) int {
 	return 0
 }
