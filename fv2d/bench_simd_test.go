@@ -6,7 +6,8 @@ import "testing"
 
 // BenchmarkEulerPassesSIMD times each SIMD pass of a MUSCL-Hancock HLLC
 // sweep on 512x512 vortex data: over four columns of 516 cells (the y
-// sweep's layout) and, for the first two, over four rows (the x sweep's).
+// sweep's layout; HLLC four faces at a time and, with AVX-512, eight) and,
+// for the first two, over four rows (the x sweep's).
 func BenchmarkEulerPassesSIMD(b *testing.B) {
 	if !simdHLLC {
 		b.Skip("no AVX2")
@@ -35,11 +36,19 @@ func BenchmarkEulerPassesSIMD(b *testing.B) {
 			vanLeerEvolve4(g, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
 		}
 	})
-	b.Run("cols/hllc", func(b *testing.B) {
-		for range b.N {
-			hllcCols4(g, &scr.r, &scr.d, &scr.f, 1, m-2)
+	defer func(wide bool) { hllcWide = wide }(hllcWide)
+	for _, wide := range simdWidths() {
+		name := "cols/hllc4"
+		if wide {
+			name = "cols/hllc8"
 		}
-	})
+		b.Run(name, func(b *testing.B) {
+			hllcWide = wide
+			for range b.N {
+				hllcCols4(g, &scr.r, &scr.d, &scr.f, 1, m-2)
+			}
+		})
+	}
 	for _, speed := range []bool{false, true} {
 		name := "cols/update"
 		if speed {
