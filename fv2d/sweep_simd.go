@@ -4,10 +4,12 @@ package fv2d
 
 import "simd/archsimd"
 
-// The passes of the default Euler sweep that take most of its time (the
-// HLLC faces, the van Leer slopes, the MUSCL-Hancock half step) four cells
-// or faces at a time, with AVX2 (Go's simd/archsimd, built with
-// GOEXPERIMENT=simd). Each is its portable pass lane by lane: the same
+// The passes of the default Euler sweeps (primitive variables, van Leer
+// slopes and the MUSCL-Hancock half step, HLLC faces, the update and its
+// checks) four cells or faces at a time, with AVX2 (Go's simd/archsimd,
+// built with GOEXPERIMENT=simd), along a row for the x sweep and across
+// four columns in place for the y sweep; HLLC eight at a time where the
+// processor has AVX-512. Each is its portable pass lane by lane: the same
 // operations in the same order, each rounded once (no fused multiply-add;
 // division and square root are correctly rounded), so it gives the portable
 // bits for any finite input. Branches become selects: hllc4 computes the
