@@ -34,7 +34,7 @@ type Result struct {
 	Totals          map[string]Total   `json:"totals"`
 	Errors          map[string]Norms   `json:"errors,omitempty"`
 	Functionals     map[string]float64 `json:"functionals,omitempty"`
-	Kernel          string             `json:"kernel"` // the kernel path that ran the sweeps: "portable" or "avx2"
+	Kernel          string             `json:"kernel"` // the kernel path that ran the sweeps: "portable", "avx2" or "avx512"
 	Final           *State             `json:"-"`
 }
 

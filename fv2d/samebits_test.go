@@ -35,6 +35,13 @@ var bitsRuns = []struct {
 	{"burgers-diagonal", map[string]string{"nx": "32", "ny": "24", "t_end": "0.05", "scheme": "godunov", "flux": "rusanov", "split": "lie"}},
 	{"burgers-riemann", map[string]string{"nx": "40", "ny": "3", "limiter": "superbee"}},
 	{"euler-mms", map[string]string{"nx": "16", "ny": "16", "t_end": "0.1"}},
+	// columns left over from groups of four, and y sweeps that find the
+	// wave speeds (lie), for the SIMD y sweep of four columns at a time
+	{"vortex", map[string]string{"nx": "23", "ny": "18", "t_end": "0.5", "split": "lie"}},
+	{"vortex", map[string]string{"nx": "22", "ny": "19", "t_end": "0.5", "scheme": "godunov", "alternate": "true"}},
+	{"shocktube", map[string]string{"nx": "8", "ny": "64", "test": "2", "axis": "y"}},
+	{"shocktube", map[string]string{"nx": "5", "ny": "64", "test": "3", "axis": "y", "split": "lie"}},
+	{"quadrants", map[string]string{"nx": "20", "ny": "20"}},
 	{"burgers-mms", map[string]string{"nx": "16", "ny": "16", "t_end": "0.1", "limiter": "minmod"}},
 }
 
@@ -164,35 +171,49 @@ func TestSameBitsGOAMD64(t *testing.T) {
 	}
 }
 
-// TestSameBitsSIMD holds the SIMD path (four HLLC faces at a time) bitwise
-// equal to the portable one: the final states of bitsRuns and the fluxes of
-// random faces, subsonic and supersonic, on both sides of the contact.
+// simdWidths are the HLLC widths this processor can check: four faces
+// at a time, and eight where it has AVX-512 (hllcWide).
+func simdWidths() []bool {
+	if hllcWide {
+		return []bool{false, true}
+	}
+	return []bool{false}
+}
+
+// TestSameBitsSIMD holds the SIMD path (HLLC four and, with AVX-512, eight
+// faces at a time) bitwise equal to the portable one: the final states of
+// bitsRuns and the fluxes of random faces, subsonic and supersonic, on both
+// sides of the contact.
 func TestSameBitsSIMD(t *testing.T) {
 	if !simdHLLC {
 		t.Skip("no SIMD path in this build or on this processor (GOEXPERIMENT=simd and AVX2 needed)")
 	}
-	defer func(old bool) { useSIMD = old }(useSIMD)
-	useSIMD = true
-	simd := bitsHashes(t, 1)
+	defer func(old, wide bool) { useSIMD, hllcWide = old, wide }(useSIMD, hllcWide)
+	widths := simdWidths()
 	useSIMD = false
 	portable := bitsHashes(t, 1)
-	used := 0
-	for k := range simd {
-		a, b := strings.Fields(simd[k]), strings.Fields(portable[k])
-		if a[1] != b[1] {
-			t.Errorf("%s %v: SIMD path %s, portable %s", bitsRuns[k].name, bitsRuns[k].kv, a[1], b[1])
+	useSIMD = true
+	for _, wide := range widths {
+		hllcWide = wide
+		simd := bitsHashes(t, 1)
+		used := 0
+		for k := range simd {
+			a, b := strings.Fields(simd[k]), strings.Fields(portable[k])
+			if a[1] != b[1] {
+				t.Errorf("%s %v: SIMD path (%s) %s, portable %s", bitsRuns[k].name, bitsRuns[k].kv, a[2], a[1], b[1])
+			}
+			if a[2] != "portable" {
+				used++
+			}
 		}
-		if a[2] == "avx2" {
-			used++
+		if used == 0 {
+			t.Error("no run took the SIMD path")
 		}
-	}
-	if used == 0 {
-		t.Error("no run took the SIMD path")
 	}
 
 	// Random faces: densities and pressures over six decades, velocities
 	// up to Mach 4 either way, so that every branch of hllc is taken.
-	const n = 4099
+	const n = 4103 // eight faces at a time to 4096, then four to 4100
 	var r, l, f [4][]float64
 	for k := range 4 {
 		r[k], l[k], f[k] = make([]float64, n), make([]float64, n+1), make([]float64, n)
@@ -209,17 +230,123 @@ func TestSameBitsSIMD(t *testing.T) {
 	}
 	gamma := 1.4
 	g := gamma / (gamma - 1)
-	done := hllcFaces4(gamma, g, r[0], r[1], r[2], r[3], l[0][1:], l[1][1:], l[2][1:], l[3][1:], f[0], f[1], f[2], f[3])
-	if done != n&^3 {
-		t.Fatalf("hllcFaces4 did %d faces of %d", done, n)
-	}
-	for i := range done {
-		w0, w1, w2, w3 := hllc(gamma, g, r[0][i], r[1][i], r[2][i], r[3][i], l[0][i+1], l[1][i+1], l[2][i+1], l[3][i+1])
-		want := [4]float64{w0, w1, w2, w3}
-		for k := range 4 {
-			if math.Float64bits(f[k][i]) != math.Float64bits(want[k]) {
-				t.Fatalf("face %d, flux %d: SIMD %v, portable %v", i, k, f[k][i], want[k])
+	for _, wide := range widths {
+		hllcWide = wide
+		done := hllcFaces4(gamma, g, r[0], r[1], r[2], r[3], l[0][1:], l[1][1:], l[2][1:], l[3][1:], f[0], f[1], f[2], f[3])
+		if done != n&^3 {
+			t.Fatalf("hllcFaces4 did %d faces of %d", done, n)
+		}
+		for i := range done {
+			w0, w1, w2, w3 := hllc(gamma, g, r[0][i], r[1][i], r[2][i], r[3][i], l[0][i+1], l[1][i+1], l[2][i+1], l[3][i+1])
+			want := [4]float64{w0, w1, w2, w3}
+			for k := range 4 {
+				if math.Float64bits(f[k][i]) != math.Float64bits(want[k]) {
+					t.Fatalf("eight at a time %v: face %d, flux %d: SIMD %v, portable %v", wide, i, k, f[k][i], want[k])
+				}
 			}
+		}
+	}
+}
+
+// TestSameBitsSIMDKernels holds the SIMD Euler kernels bitwise equal to the
+// portable ones on rough data, where the bitsRuns are smooth: cells of
+// random states (densities and pressures over six decades, up to Mach 4
+// either way), so that the first-order fallback of the half step and
+// every branch of HLLC are taken. It checks a line (x sweep) and four
+// columns in place (y sweep), for MUSCL-Hancock and Godunov, with and
+// without the wave speeds.
+func TestSameBitsSIMDKernels(t *testing.T) {
+	if !simdHLLC {
+		t.Skip("no SIMD path in this build or on this processor (GOEXPERIMENT=simd and AVX2 needed)")
+	}
+	const m, stride, c0 = 45, 7, 2 // cells per line; columns c0..c0+3 of rows stride apart
+	rng := rand.New(rand.NewPCG(3, 4))
+	gamma := 1.4
+	fill := func(q *[4][]float64) {
+		for i := range q[0] {
+			rho, p := math.Pow(10, 6*rng.Float64()-3), math.Pow(10, 6*rng.Float64()-3)
+			a := math.Sqrt(gamma * p / rho)
+			u, v := a*(8*rng.Float64()-4), a*(8*rng.Float64()-4)
+			q[0][i], q[1][i], q[2][i] = rho, rho*u, rho*v
+			q[3][i] = p/(gamma-1) + 0.5*rho*(u*u+v*v)
+		}
+	}
+	same := func(what string, a, b float64) {
+		t.Helper()
+		if math.Float64bits(a) != math.Float64bits(b) {
+			t.Fatalf("%s: SIMD %v, portable %v", what, a, b)
+		}
+	}
+	kernels := []struct {
+		name string
+		line lineKernel
+		cols colsKernel
+	}{{"muscl", eulerMUSCLPrim, eulerMUSCLPrimCols4}, {"godunov", eulerGodunov, eulerGodunovCols4}}
+	widths := simdWidths()
+	defer func(wide bool) { hllcWide = wide }(hllcWide)
+	for trial := range 80 {
+		hllcWide = widths[trial%len(widths)] // HLLC eight faces at a time or four
+		k := kernels[trial/40]
+		sp := sweepParams{dtdx: 0.02 * rng.Float64(), gamma: gamma, speed: trial/2%2 == 1, ef: EulerHLLC, lim: VanLeer,
+			vanLeer: true, hllc: true, scr: newLineScratch(4 * m)}
+		// x: one line, the SIMD passes against the portable ones
+		var line, ref [4][]float64
+		for v := range 4 {
+			line[v], ref[v] = make([]float64, m), make([]float64, m)
+		}
+		fill(&line)
+		for v := range 4 {
+			copy(ref[v], line[v])
+		}
+		sp.simd = false
+		wantx := k.line(&sp, ref[0], ref[1], ref[2], ref[3])
+		sp.simd = true
+		got := k.line(&sp, line[0], line[1], line[2], line[3])
+		for v := range 4 {
+			for i := range m {
+				same(fmt.Sprintf("%s x, trial %d, var %d, cell %d", k.name, trial, v, i), line[v][i], ref[v][i])
+			}
+		}
+		if got.bad != wantx.bad || !wantx.bad && (got.sn != wantx.sn || got.st != wantx.st) {
+			t.Fatalf("%s x, trial %d: SIMD reports %+v, portable %+v", k.name, trial, got, wantx)
+		}
+		// y: four columns in place, each against its own line
+		var grid, want [4][]float64
+		for v := range 4 {
+			grid[v], want[v] = make([]float64, m*stride), make([]float64, m*stride)
+		}
+		fill(&grid)
+		for v := range 4 {
+			copy(want[v], grid[v])
+		}
+		sp.simd = false
+		wanty := lineResult{}
+		for c := c0; c < c0+4; c++ {
+			for v := range 4 {
+				for i := range m {
+					ref[v][i] = want[v][i*stride+c]
+				}
+			}
+			r := k.line(&sp, ref[0], ref[1], ref[2], ref[3])
+			if !r.bad {
+				wanty.sn, wanty.st = max(wanty.sn, r.sn), max(wanty.st, r.st)
+			}
+			wanty.bad = wanty.bad || r.bad
+			for v := range 4 {
+				for i := range m {
+					want[v][i*stride+c] = ref[v][i]
+				}
+			}
+		}
+		sp.simd = true
+		got = k.cols(&sp, grid[0][c0:], grid[1][c0:], grid[2][c0:], grid[3][c0:], stride, m)
+		for v := range 4 {
+			for i := range grid[v] {
+				same(fmt.Sprintf("%s y, trial %d, var %d, element %d", k.name, trial, v, i), grid[v][i], want[v][i])
+			}
+		}
+		if got.bad != wanty.bad || !wanty.bad && (got.sn != wanty.sn || got.st != wanty.st) {
+			t.Fatalf("%s y, trial %d: SIMD reports %+v, portable %+v", k.name, trial, got, wanty)
 		}
 	}
 }

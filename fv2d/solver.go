@@ -45,6 +45,7 @@ type Solver struct {
 	cfg               Config
 	nx, ny, g, stride int
 	kern              lineKernel
+	kern4             colsKernel // the y sweep's kernel for four columns at a time (SIMD), or nil
 	base              sweepParams
 	tEnd              float64 // the problem's final time, else cfg.TEnd
 
@@ -132,10 +133,16 @@ func NewSolver(v Values) (*Solver, error) {
 		switch {
 		case !muscl:
 			s.kern = eulerGodunov
+			if s.base.simd && s.base.hllc {
+				s.kern4 = eulerGodunovCols4
+			}
 		case cfg.Recon == ReconConserved:
 			s.kern = eulerMUSCLCons
 		default:
 			s.kern = eulerMUSCLPrim
+			if s.base.simd && s.base.hllc && s.base.vanLeer {
+				s.kern4 = eulerMUSCLPrimCols4
+			}
 		}
 	} else {
 		s.base.bf = cfg.BurgersFlux
@@ -167,6 +174,10 @@ func NewSolver(v Values) (*Solver, error) {
 func (s *Solver) startWorkers(threads int) {
 	nb := (s.nx + blockCols - 1) / blockCols
 	nv := len(s.st.U)
+	line := max(s.nx, s.ny) + 2*s.g
+	if s.kern4 != nil {
+		line = 4 * line // four columns, a row's four cells side by side
+	}
 	s.workers = make([]*worker, threads)
 	for w := range s.workers {
 		wk := &worker{
@@ -174,7 +185,7 @@ func (s *Solver) startWorkers(threads int) {
 			j0: w * s.ny / threads, j1: (w + 1) * s.ny / threads,
 			b0: w * nb / threads, b1: (w + 1) * nb / threads,
 			src: make([]float64, nv),
-			scr: newLineScratch(max(s.nx, s.ny) + 2*s.g),
+			scr: newLineScratch(line),
 		}
 		for k := 0; k < nv; k++ {
 			wk.yb[k] = make([]float64, blockCols*(s.ny+2*s.g))
@@ -361,12 +372,14 @@ func (w *worker) sweepX(sp *sweepParams) {
 	w.sx, w.sy, w.bad = res.sn, res.st, res.bad
 }
 
-// sweepY gathers blockCols columns at a time (ghost rows included) into the
-// worker's scratch, runs the kernel on each, and scatters the interior
-// back. The Euler line variables are (rho, my, mx, E).
+// sweepY runs the kernel on the worker's blocks of blockCols columns:
+// with a four-column kernel (SIMD) in place, four at a time; the columns
+// left (all, without one) are gathered (ghost rows included) into the
+// worker's scratch, run through the line kernel one by one, and their
+// interior scattered back. The Euler line variables are (rho, my, mx, E).
 func (w *worker) sweepY(sp *sweepParams) {
 	s := w.s
-	stride, g, ny, kern := s.stride, s.g, s.ny, s.kern
+	stride, g, ny, kern, kern4 := s.stride, s.g, s.ny, s.kern, s.kern4
 	n := ny + 2*g
 	var q [4][]float64
 	perm := [4]int{0, 2, 1, 3}
@@ -378,6 +391,14 @@ func (w *worker) sweepY(sp *sweepParams) {
 	for b := w.b0; b < w.b1; b++ {
 		i0 := g + b*blockCols
 		bw := min(blockCols, s.nx-b*blockCols)
+		if kern4 != nil {
+			for bw >= 4 {
+				r := kern4(sp, q[0][i0:], q[1][i0:], q[2][i0:], q[3][i0:], stride, n)
+				res.sn, res.st = max(res.sn, r.sn), max(res.st, r.st)
+				res.bad = res.bad || r.bad
+				i0, bw = i0+4, bw-4
+			}
+		}
 		for k := 0; k < nv; k++ {
 			src, dst := q[k], w.yb[k]
 			for jj := 0; jj < n; jj++ {

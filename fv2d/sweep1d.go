@@ -67,6 +67,11 @@ type lineResult struct {
 // lineKernel updates the interior of one line in place.
 type lineKernel func(sp *sweepParams, rho, mn, mt, en []float64) lineResult
 
+// colsKernel updates the interiors of four adjacent columns of m cells in
+// place (a y sweep, SIMD): rho, mn, mt, en start at the first column's
+// ghost cell 0, and a column's cells lie stride apart (sweep_simd.go).
+type colsKernel func(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult
+
 // cellEuler converts the conserved state of one cell to primitive
 // variables.
 func cellEuler(gm1, r, m, t, e float64) (u, v, p float64) {
@@ -230,12 +235,13 @@ func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m, scr := len(rho), sp.scr
 	primLine(sp.simd, sp.gamma-1, rho, mn, mt, en, &scr.w, scr.ir)
-	for k := range 4 {
-		sp.slopes(scr.w[k][:m], scr.d[k])
+	done := 0 // cells 1..done by the SIMD pass, slopes and half step in one
+	if sp.simd && sp.vanLeer {
+		done = (m - 2) &^ 3
+		vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1, 1+done)
 	}
-	done := 0 // cells 1..done by the SIMD pass
-	if sp.simd {
-		done = evolvePrim4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, m)
+	for k := range 4 {
+		sp.slopes(scr.w[k][done:m], scr.d[k][done:])
 	}
 	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, done, m)
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
@@ -330,10 +336,14 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 var useSIMD = simdHLLC
 
 // kernel names the path the solver's sweeps take, for Result.Kernel:
-// "avx2" when the HLLC faces are computed four at a time, else "portable".
+// "avx2" when the SIMD passes run, "avx512" when HLLC also takes eight
+// faces at a time, else "portable". All three give the same bits.
 func (s *Solver) kernel() string {
-	if s.base.simd {
-		return "avx2"
+	switch {
+	case !s.base.simd:
+		return "portable"
+	case s.base.hllc && hllcWide:
+		return "avx512"
 	}
-	return "portable"
+	return "avx2"
 }

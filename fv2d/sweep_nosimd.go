@@ -2,10 +2,12 @@
 
 package fv2d
 
-// Without GOEXPERIMENT=simd on amd64 there is no SIMD face pass: the
-// portable one does every face.
+// Without GOEXPERIMENT=simd on amd64 there are no SIMD passes: the
+// portable ones do every cell and face.
 
 const simdHLLC = false
+
+var hllcWide = false
 
 func hllcFaces4(gamma, g float64, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3 []float64) int {
 	return 0
@@ -13,9 +15,11 @@ func hllcFaces4(gamma, g float64, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3
 
 func vanLeerSlopes4(w, d []float64) int { return 0 }
 
-func evolvePrim4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) int {
-	return 0
-}
+func vanLeerEvolve4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int) {}
+
+// No kernels for four columns at a time: a y sweep takes every column
+// through the portable line kernel.
+var eulerMUSCLPrimCols4, eulerGodunovCols4 colsKernel
 
 func primLine4(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64, ir []float64) int {
 	return 0
