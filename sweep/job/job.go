@@ -120,5 +120,5 @@ type Outcome struct {
 	// base64url SHA-256) of the snapshot when the coordinator stored the
 	// outcome; readers check it, so a snapshot overwritten later is found.
 	SnapshotDigest string `json:"snapshot_digest,omitempty"`
-	Kernel         string `json:"kernel,omitempty"` // which solver code path ran it (fv2d: "portable")
+	Kernel         string `json:"kernel,omitempty"` // which solver code path ran it (fv2d: "portable", "avx2" or "avx512")
 }
