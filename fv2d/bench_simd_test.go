@@ -45,7 +45,7 @@ func BenchmarkEulerPassesSIMD(b *testing.B) {
 		b.Run(name, func(b *testing.B) {
 			hllcWide = wide
 			for range b.N {
-				hllcCols4(g, &scr.r, &scr.d, &scr.f, 1, m-2)
+				sp.eulerFaces(&scr.r, &scr.d, &scr.f, 4, 4, 4*(m-2))
 			}
 		})
 	}

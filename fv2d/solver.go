@@ -45,7 +45,7 @@ type Solver struct {
 	cfg               Config
 	nx, ny, g, stride int
 	kern              lineKernel
-	kern4             colsKernel // the y sweep's kernel for four columns at a time (SIMD), or nil
+	kern4             colsKernel // the y sweep's kernel for four columns at a time in place, or nil
 	base              sweepParams
 	tEnd              float64 // the problem's final time, else cfg.TEnd
 
@@ -133,15 +133,15 @@ func NewSolver(v Values) (*Solver, error) {
 		switch {
 		case !muscl:
 			s.kern = eulerGodunov
-			if s.base.simd && s.base.hllc {
-				s.kern4 = eulerGodunovCols4
+			if s.base.hllc {
+				s.kern4 = eulerGodunovCols
 			}
 		case cfg.Recon == ReconConserved:
 			s.kern = eulerMUSCLCons
 		default:
 			s.kern = eulerMUSCLPrim
-			if s.base.simd && s.base.hllc && s.base.vanLeer {
-				s.kern4 = eulerMUSCLPrimCols4
+			if s.base.hllc && s.base.vanLeer {
+				s.kern4 = eulerMUSCLPrimCols
 			}
 		}
 	} else {
@@ -373,10 +373,10 @@ func (w *worker) sweepX(sp *sweepParams) {
 }
 
 // sweepY runs the kernel on the worker's blocks of blockCols columns:
-// with a four-column kernel (SIMD) in place, four at a time; the columns
-// left (all, without one) are gathered (ghost rows included) into the
-// worker's scratch, run through the line kernel one by one, and their
-// interior scattered back. The Euler line variables are (rho, my, mx, E).
+// with a four-column kernel (the default Euler kernels) in place, four at
+// a time; the columns left (all, without one) are gathered (ghost rows
+// included) into the worker's scratch, run through the line kernel one by
+// one, and their interior scattered back. The Euler line variables are (rho, my, mx, E).
 func (w *worker) sweepY(sp *sweepParams) {
 	s := w.s
 	stride, g, ny, kern, kern4 := s.stride, s.g, s.ny, s.kern, s.kern4

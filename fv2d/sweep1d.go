@@ -68,8 +68,8 @@ type lineResult struct {
 type lineKernel func(sp *sweepParams, rho, mn, mt, en []float64) lineResult
 
 // colsKernel updates the interiors of four adjacent columns of m cells in
-// place (a y sweep, SIMD): rho, mn, mt, en start at the first column's
-// ghost cell 0, and a column's cells lie stride apart (sweep_simd.go).
+// place (a y sweep): rho, mn, mt, en start at the first column's ghost
+// cell 0, and a column's cells lie stride apart (eulerMUSCLPrimCols).
 type colsKernel func(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult
 
 // cellEuler converts the conserved state of one cell to primitive
@@ -147,16 +147,18 @@ func (sp *sweepParams) slopes(w, d []float64) {
 	slopesWith(sp.lim, w, d)
 }
 
-// eulerFaces sets f_i = flux(r_i, l_{i+1}), the flux at face i+1/2, for
-// lo <= i < hi, from the right face values r of cell i and the left face
-// values l of cell i+1. (A flux is too large to be inlined, so a call
-// through the function value costs no more than a direct one.)
-func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, lo, hi int) {
+// eulerFaces sets f_i = flux(r_i, l_{i+o}), the flux between element i
+// and the next cell o elements on, for lo <= i < hi: in a line (o = 1) the
+// flux at face i+1/2 from the right face values r of cell i and the left
+// face values l of cell i+1; in the scratch of four columns (o = 4) the same
+// for each column. (A flux is too large to be inlined, so a call through
+// the function value costs no more than a direct one.)
+func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, o, lo, hi int) {
 	flux, gamma, g, direct := sp.ef, sp.gamma, sp.gamma/(sp.gamma-1), sp.hllc
 	r0, r1, r2, r3 := r[0][lo:hi], r[1][lo:hi], r[2][lo:hi], r[3][lo:hi]
 	n := len(r0)
 	r1, r2, r3 = r1[:n], r2[:n], r3[:n]
-	l0, l1, l2, l3 := l[0][lo+1:hi+1], l[1][lo+1:hi+1], l[2][lo+1:hi+1], l[3][lo+1:hi+1]
+	l0, l1, l2, l3 := l[0][lo+o:hi+o], l[1][lo+o:hi+o], l[2][lo+o:hi+o], l[3][lo+o:hi+o]
 	l0, l1, l2, l3 = l0[:n], l1[:n], l2[:n], l3[:n]
 	f0, f1, f2, f3 := f[0][lo:hi], f[1][lo:hi], f[2][lo:hi], f[3][lo:hi]
 	f0, f1, f2, f3 = f0[:n], f1[:n], f2[:n], f3[:n]
@@ -219,7 +221,7 @@ func updateEuler(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en 
 func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m, w := len(rho), &sp.scr.w
 	primLine(sp.simd, sp.gamma-1, rho, mn, mt, en, w, sp.scr.ir)
-	sp.eulerFaces(w, w, &sp.scr.f, 0, m-1)
+	sp.eulerFaces(w, w, &sp.scr.f, 1, 0, m-1)
 	updateEulerLine(&res, sp, rho, mn, mt, en, &sp.scr.f, 1, m-1)
 	return res
 }
@@ -235,18 +237,66 @@ func eulerGodunov(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult) {
 	m, scr := len(rho), sp.scr
 	primLine(sp.simd, sp.gamma-1, rho, mn, mt, en, &scr.w, scr.ir)
-	done := 0 // cells 1..done by the SIMD pass, slopes and half step in one
-	if sp.simd && sp.vanLeer {
-		done = (m - 2) &^ 3
-		vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1, 1+done)
+	if sp.vanLeer { // slopes and half step in one pass
+		done := 0 // cells 1..done by the SIMD pass
+		if sp.simd {
+			done = (m - 2) &^ 3
+			vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1, 1+done)
+		}
+		vanLeerEvolve(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1+done, m-1)
+	} else {
+		for k := range 4 {
+			sp.slopes(scr.w[k][:m], scr.d[k])
+		}
+		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 0, m)
 	}
-	for k := range 4 {
-		sp.slopes(scr.w[k][done:m], scr.d[k][done:])
-	}
-	evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, done, m)
-	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, m-2)
+	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, 1, m-2)
 	updateEulerLine(&res, sp, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
+}
+
+// vanLeerEvolve is slopesWith(VanLeer) and evolvePrim in one pass, for the
+// elements lo <= i < hi of the scratch, whose cells lie o elements apart
+// (o = 1 in a line, 4 in four columns): the slopes of a cell stay in
+// registers, the left face values go to d and the right ones to r.
+// vanLeerEvolve4 is this pass four elements at a time. The cells o before
+// lo and o after hi-1 must exist.
+func vanLeerEvolve(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int) {
+	if hi <= lo {
+		return
+	}
+	// the cells, their left and right neighbours: slices of one length
+	w0, w1, w2, w3 := w[0][lo:hi], w[1][lo:hi], w[2][lo:hi], w[3][lo:hi]
+	n := len(w0)
+	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[lo:hi][:n]
+	a0, a1, a2, a3 := w[0][lo-o:hi-o], w[1][lo-o:hi-o], w[2][lo-o:hi-o], w[3][lo-o:hi-o]
+	a0, a1, a2, a3 = a0[:n], a1[:n], a2[:n], a3[:n]
+	b0, b1, b2, b3 := w[0][lo+o:hi+o], w[1][lo+o:hi+o], w[2][lo+o:hi+o], w[3][lo+o:hi+o]
+	b0, b1, b2, b3 = b0[:n], b1[:n], b2[:n], b3[:n]
+	d0, d1, d2, d3 := d[0][lo:hi], d[1][lo:hi], d[2][lo:hi], d[3][lo:hi]
+	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
+	r0, r1, r2, r3 := r[0][lo:hi], r[1][lo:hi], r[2][lo:hi], r[3][lo:hi]
+	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
+	for i := range n {
+		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
+		dr := VanLeer(rc-a0[i], b0[i]-rc)
+		du := VanLeer(uc-a1[i], b1[i]-uc)
+		dv := VanLeer(vc-a2[i], b2[i]-vc)
+		dp := VanLeer(pc-a3[i], b3[i]-pc)
+		// evolvePrim's half step, W - dt/(2dx) A(W) dW
+		er := h * (float64(uc*dr) + float64(rc*du))
+		eu := h * (float64(uc*du) + float64(dp*ir[i]))
+		ev := h * (uc * dv)
+		ep := h * (float64(g*pc*du) + float64(uc*dp))
+		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
+		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
+		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
+			lr, lu, lv, lp = rc, uc, vc, pc
+			rr, ru, rv, rp = rc, uc, vc, pc
+		}
+		d0[i], d1[i], d2[i], d3[i] = lr, lu, lv, lp
+		r0[i], r1[i], r2[i], r3[i] = rr, ru, rv, rp
+	}
 }
 
 // evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w (and
@@ -279,6 +329,90 @@ func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64,
 		d0[i], d1[i], d2[i], d3[i] = lr, lu, lv, lp
 		r0[i], r1[i], r2[i], r3[i] = rr, ru, rv, rp
 	}
+}
+
+// The y sweep of the default Euler kernels runs four adjacent columns at a
+// time in place (eulerMUSCLPrimCols, eulerGodunovCols): a row's four cells
+// are contiguous in the state, so the columns are read and written with the
+// row stride and need no gather into lines and no scatter back. The scratch
+// keeps row j's four values at 4j, and the line passes run on it with the
+// neighbouring cell 4 elements away instead of 1: each column sees exactly
+// its line kernel's operations. With the SIMD passes a vector is one such
+// row of four (sweep_simd.go).
+
+// primCols is primLine on four adjacent columns: the rows j < m of the
+// state (row j at j*stride) to the scratch (row j at 4j).
+func primCols(simd bool, gm1 float64, rho, mn, mt, en []float64, stride, m int, w *[4][]float64, ir []float64) {
+	if simd {
+		primCols4(gm1, rho, mn, mt, en, stride, m, w, ir)
+		return
+	}
+	w0, w1, w2, w3, ir := w[0][:4*m], w[1][:4*m], w[2][:4*m], w[3][:4*m], ir[:4*m]
+	for j := range m {
+		s := j * stride
+		r, a, b, e := rho[s:s+4], mn[s:s+4], mt[s:s+4], en[s:s+4]
+		x0, x1, x2, x3, xi := w0[4*j:4*j+4], w1[4*j:4*j+4], w2[4*j:4*j+4], w3[4*j:4*j+4], ir[4*j:4*j+4]
+		for c := range 4 {
+			inv := 1 / r[c]
+			x0[c], xi[c] = r[c], inv
+			x1[c], x2[c], x3[c] = primEuler(gm1, r[c], inv, a[c], b[c], e[c])
+		}
+	}
+}
+
+// updateCols is updateEulerLine on four adjacent columns, for the rows
+// j < rows of the state (row j at j*stride); the fluxes are in the scratch
+// layout, f at 4j the face below row j. With sp.speed it finds the wave
+// speeds in the same pass (they are only used when no cell is bad).
+func updateCols(sp *sweepParams, rho, mn, mt, en []float64, stride, rows int, f *[4][]float64) (res lineResult) {
+	if sp.simd {
+		return updateCols4(sp, rho, mn, mt, en, stride, rows, f)
+	}
+	c, gamma, speed := sp.dtdx, sp.gamma, sp.speed
+	f0, f1, f2, f3 := f[0][:4*rows+4], f[1][:4*rows+4], f[2][:4*rows+4], f[3][:4*rows+4]
+	for j := range rows {
+		s, i := j*stride, 4*j
+		r, a, b, e := rho[s:s+4], mn[s:s+4], mt[s:s+4], en[s:s+4]
+		g0, g1, g2, g3 := f0[i:i+8], f1[i:i+8], f2[i:i+8], f3[i:i+8]
+		for k := range 4 {
+			r[k], a[k], b[k], e[k] = r[k]-c*(g0[k+4]-g0[k]), a[k]-c*(g1[k+4]-g1[k]), b[k]-c*(g2[k+4]-g2[k]), e[k]-c*(g3[k+4]-g3[k])
+			checkEuler(&res, speed, gamma, r[k], a[k], b[k], e[k])
+		}
+	}
+	if res.bad {
+		res.sn, res.st = 0, 0
+	}
+	return res
+}
+
+// eulerMUSCLPrimCols is eulerMUSCLPrim with van Leer on four adjacent
+// columns of m cells each, in place: rho, mn, mt, en start at the first
+// column's ghost cell 0, and a column's cells lie stride apart. The same
+// passes, on the scratch layout of four columns.
+func eulerMUSCLPrimCols(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult {
+	scr := sp.scr
+	primCols(sp.simd, sp.gamma-1, rho, mn, mt, en, stride, m, &scr.w, scr.ir)
+	if sp.simd {
+		vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
+	} else {
+		vanLeerEvolve(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
+	}
+	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 4, 4, 4*(m-2))
+	var f [4][]float64
+	for k := range f {
+		f[k] = scr.f[k][4:] // from face 1, left of cell 2
+	}
+	s := 2 * stride
+	return updateCols(sp, rho[s:], mn[s:], mt[s:], en[s:], stride, m-4, &f)
+}
+
+// eulerGodunovCols is eulerGodunov on four adjacent columns, in the layout
+// of eulerMUSCLPrimCols.
+func eulerGodunovCols(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult {
+	scr := sp.scr
+	primCols(sp.simd, sp.gamma-1, rho, mn, mt, en, stride, m, &scr.w, scr.ir)
+	sp.eulerFaces(&scr.w, &scr.w, &scr.f, 4, 0, 4*(m-1))
+	return updateCols(sp, rho[stride:], mn[stride:], mt[stride:], en[stride:], stride, m-2, &scr.f)
 }
 
 // eulerMUSCLCons is the MUSCL-Hancock scheme in conserved variables (Toro

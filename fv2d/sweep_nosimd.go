@@ -17,9 +17,12 @@ func vanLeerSlopes4(w, d []float64) int { return 0 }
 
 func vanLeerEvolve4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int) {}
 
-// No kernels for four columns at a time: a y sweep takes every column
-// through the portable line kernel.
-var eulerMUSCLPrimCols4, eulerGodunovCols4 colsKernel
+func primCols4(gm1 float64, rho, mn, mt, en []float64, stride, m int, w *[4][]float64, ir []float64) {
+}
+
+func updateCols4(sp *sweepParams, rho, mn, mt, en []float64, stride, rows int, f *[4][]float64) (res lineResult) {
+	return res
+}
 
 func primLine4(gm1 float64, rho, mn, mt, en []float64, w *[4][]float64, ir []float64) int {
 	return 0

@@ -410,37 +410,3 @@ func updateCols4(sp *sweepParams, rho, mn, mt, en []float64, stride, rows int, f
 	}
 	return res
 }
-
-// hllcCols4 is eulerFaces (HLLC) in the scratch layout of the *Cols4
-// kernels: f_j = hllc(r_j, l_{j+1}) for the faces lo <= j < hi.
-func hllcCols4(gamma float64, r, l, f *[4][]float64, lo, hi int) {
-	a, b := 4*lo, 4*hi
-	hllcFaces4(gamma, gamma/(gamma-1), r[0][a:b], r[1][a:b], r[2][a:b], r[3][a:b],
-		l[0][a+4:b+4], l[1][a+4:b+4], l[2][a+4:b+4], l[3][a+4:b+4], f[0][a:b], f[1][a:b], f[2][a:b], f[3][a:b])
-}
-
-// eulerMUSCLPrimCols4 is eulerMUSCLPrim with van Leer and HLLC on four
-// adjacent columns of m cells each, in place: rho, mn, mt, en start at the
-// first column's ghost cell 0, and a column's cells lie stride apart. The
-// same passes, each lane one column's line.
-func eulerMUSCLPrimCols4(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult {
-	scr := sp.scr
-	primCols4(sp.gamma-1, rho, mn, mt, en, stride, m, &scr.w, scr.ir)
-	vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
-	hllcCols4(sp.gamma, &scr.r, &scr.d, &scr.f, 1, m-2)
-	var f [4][]float64
-	for k := range f {
-		f[k] = scr.f[k][4:] // from face 1, left of cell 2
-	}
-	s := 2 * stride
-	return updateCols4(sp, rho[s:], mn[s:], mt[s:], en[s:], stride, m-4, &f)
-}
-
-// eulerGodunovCols4 is eulerGodunov with HLLC on four adjacent columns, in
-// the layout of eulerMUSCLPrimCols4.
-func eulerGodunovCols4(sp *sweepParams, rho, mn, mt, en []float64, stride, m int) lineResult {
-	scr := sp.scr
-	primCols4(sp.gamma-1, rho, mn, mt, en, stride, m, &scr.w, scr.ir)
-	hllcCols4(sp.gamma, &scr.w, &scr.w, &scr.f, 0, m-1)
-	return updateCols4(sp, rho[stride:], mn[stride:], mt[stride:], en[stride:], stride, m-2, &scr.f)
-}
