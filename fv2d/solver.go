@@ -6,6 +6,7 @@ import (
 	"math"
 	"runtime"
 	"sync"
+	"sync/atomic"
 	"time"
 )
 
@@ -50,7 +51,11 @@ type Solver struct {
 	tEnd              float64 // the problem's final time, else cfg.TEnd
 
 	workers []*worker
-	wg      sync.WaitGroup
+	job     job            // the job of the current dispatch, set before gen advances
+	gen     atomic.Int64   // dispatches so far: workers[1:] run s.job when it advances
+	pending atomic.Int64   // workers[1:] still running the current job
+	done    parker         // worker 0 waits here for pending to reach 0
+	spin    bool           // waiters may spin (no more workers than GOMAXPROCS)
 	exited  sync.WaitGroup // the goroutines of workers[1:], until Close
 	cpu     time.Duration  // CPU time of the closed workers' threads (see Close)
 	cpuOK   bool           // every closed worker read its thread's CPU clock
@@ -71,6 +76,7 @@ const (
 	jobSweepY
 	jobSource // add dt * S(x_c, y_c, t) and check the cells; speeds if sp.speed
 	jobSpeeds // check the cells and find the wave-speed maxima
+	jobQuit   // end the worker's goroutine (Close)
 )
 
 type job struct {
@@ -86,7 +92,7 @@ type worker struct {
 	s      *Solver
 	j0, j1 int
 	b0, b1 int
-	jobs   chan job
+	wake   parker      // workers[1:] wait here for the next dispatch
 	sp     sweepParams // of the current sweep (a field, so kernels' pointer to it does not escape per call)
 	scr    *lineScratch
 	yb     [4][]float64
@@ -179,6 +185,8 @@ func (s *Solver) startWorkers(threads int) {
 		line = 4 * line // four columns, a row's four cells side by side
 	}
 	s.workers = make([]*worker, threads)
+	s.spin = threads <= runtime.GOMAXPROCS(0)
+	s.done.wake = make(chan struct{}, 1)
 	for w := range s.workers {
 		wk := &worker{
 			s:  s,
@@ -192,24 +200,37 @@ func (s *Solver) startWorkers(threads int) {
 		}
 		s.workers[w] = wk
 		if w > 0 {
-			wk.jobs = make(chan job)
+			wk.wake.wake = make(chan struct{}, 1)
 			s.exited.Add(1)
 			go wk.serve()
 		}
 	}
 }
 
-// serve runs the jobs of a worker other than worker 0 until its channel
-// closes, locked to one OS thread so that the thread's CPU clock measures
-// its work alone; it records that CPU time in w.cpu.
+// serve runs the jobs of a worker other than worker 0 until jobQuit,
+// locked to one OS thread so that the thread's CPU clock measures its work
+// alone; it records that CPU time in w.cpu.
 func (w *worker) serve() {
-	defer w.s.exited.Done()
+	s := w.s
+	defer s.exited.Done()
 	runtime.LockOSThread()
 	defer runtime.UnlockOSThread()
 	c0, ok0 := threadCPU()
-	for j := range w.jobs {
-		w.do(j)
-		w.s.wg.Done()
+	var busy time.Duration // of the last job
+	for n := int64(1); ; n++ {
+		w.wake.await(&s.gen, n, s.spinFor(busy))
+		j := s.job
+		if j.kind != jobQuit {
+			t0 := time.Now()
+			w.do(j)
+			busy = time.Since(t0)
+		}
+		if s.pending.Add(-1) == 0 {
+			s.done.wakeUp()
+		}
+		if j.kind == jobQuit {
+			break
+		}
 	}
 	c1, ok1 := threadCPU()
 	w.cpu, w.cpuOK = c1-c0, ok0 && ok1
@@ -221,9 +242,7 @@ func (s *Solver) Close() {
 	if len(s.workers) <= 1 {
 		return
 	}
-	for _, w := range s.workers[1:] {
-		close(w.jobs)
-	}
+	s.dispatch(job{kind: jobQuit})
 	s.exited.Wait()
 	s.cpuOK = true
 	for _, w := range s.workers[1:] {
@@ -311,12 +330,17 @@ func (s *Solver) sweep(kind jobKind, dt float64, speed bool) bool {
 // waits, and combines the results: it reports whether any cell is bad, and
 // for jobs that measure them it stores the wave-speed maxima.
 func (s *Solver) dispatch(j job) (bad bool) {
-	s.wg.Add(len(s.workers) - 1)
-	for _, w := range s.workers[1:] {
-		w.jobs <- j
+	if n := len(s.workers) - 1; n > 0 {
+		s.job = j
+		s.pending.Store(int64(n))
+		s.gen.Add(1)
+		for _, w := range s.workers[1:] {
+			w.wake.wakeUp()
+		}
 	}
+	t0 := time.Now()
 	s.workers[0].do(j)
-	s.wg.Wait()
+	s.done.await(&s.pending, 0, s.spinFor(time.Since(t0)))
 	if j.sp.speed || j.kind == jobSpeeds {
 		s.sx, s.sy = 0, 0
 		for _, w := range s.workers {
@@ -327,6 +351,67 @@ func (s *Solver) dispatch(j job) (bad bool) {
 		bad = bad || w.bad
 	}
 	return bad
+}
+
+// Hand-off between the stepping goroutine and the workers. A step is three
+// or four dispatches a few milliseconds apart. With a channel per worker and
+// a sync.WaitGroup, every dispatch woke a parked goroutine at each end; on a
+// two-core virtual machine a worker then started 0.3-0.9 ms after the
+// dispatch, against 1.5-7 ms for its share of a 512x512 sweep
+// (docs/speed.md). So a waiting goroutine first polls an atomic counter for
+// a while, and only then sleeps on a channel. It polls only when every
+// worker can have a processor of its own (threads <= GOMAXPROCS), and for
+// at most a quarter of the time its own last job took (and spinMax): when
+// the other side is late because the processors are busy with other work,
+// the polling wastes at most a quarter of the solver's own work.
+
+// spinMax bounds the polling of a waiting goroutine.
+const spinMax = time.Millisecond
+
+// spinFor is how long a goroutine whose last job took busy polls before it
+// sleeps.
+func (s *Solver) spinFor(busy time.Duration) time.Duration {
+	if !s.spin {
+		return 0
+	}
+	return min(busy/4, spinMax)
+}
+
+// parker lets one goroutine wait until an atomic counter holds a value that
+// other goroutines set.
+type parker struct {
+	sleeping atomic.Bool
+	wake     chan struct{} // capacity 1: the token of wakeUp
+}
+
+// await returns once v holds want. It first polls v for up to spin, then
+// sleeps until wakeUp, which whoever sets v must call after setting it.
+func (p *parker) await(v *atomic.Int64, want int64, spin time.Duration) {
+	if spin > 0 {
+		start := time.Now()
+		for i := 1; v.Load() != want; i++ {
+			if i%256 == 0 && time.Since(start) > spin {
+				break
+			}
+		}
+	}
+	for v.Load() != want {
+		p.sleeping.Store(true)
+		// v may have changed before the flag was up: then take the flag
+		// down again, unless a waker already has, whose token must be
+		// received before the next wait.
+		if v.Load() == want && p.sleeping.CompareAndSwap(true, false) {
+			return
+		}
+		<-p.wake
+	}
+}
+
+// wakeUp wakes the goroutine sleeping in await, if there is one.
+func (p *parker) wakeUp() {
+	if p.sleeping.CompareAndSwap(true, false) {
+		p.wake <- struct{}{}
+	}
 }
 
 func (w *worker) do(j job) {
