@@ -8,35 +8,40 @@ package fv2d
 //   reflective:   ghost -1-k = interior k with the normal momentum negated
 //                 (solid wall; for Burgers the odd reflection u -> -u).
 
-// fillGhostsX fills the west and east ghost columns of every interior row.
-func (s *State) fillGhostsX(west, east Boundary) {
+// fillGhostsX fills the west and east ghost cells of the interior rows
+// j0 <= j < j1. It reads those rows only, so workers can fill their own
+// rows at once.
+func (s *State) fillGhostsX(west, east Boundary, j0, j1 int) {
 	g, nx, stride := s.G, s.NX, s.Stride()
 	for k, q := range s.U {
 		sign := s.reflectSign(k, 0)
-		for j := 0; j < s.NY; j++ {
+		for j := j0; j < j1; j++ {
 			row := q[(j+g)*stride : (j+g+1)*stride]
 			fillLine(row, g, nx, 1, west, east, sign)
 		}
 	}
 }
 
-// fillGhostsY fills the south and north ghost rows of every interior column.
-func (s *State) fillGhostsY(south, north Boundary) {
+// fillGhostsY fills the south and north ghost cells of the interior
+// columns i0 <= i < i1. It reads those columns only, so workers can fill
+// their own columns at once.
+func (s *State) fillGhostsY(south, north Boundary, i0, i1 int) {
 	g, ny, stride := s.G, s.NY, s.Stride()
 	for k, q := range s.U {
 		sign := s.reflectSign(k, 1)
 		for l := 0; l < g; l++ {
-			lo := q[(g-1-l)*stride+g : (g-1-l)*stride+g+s.NX] // ghost row -1-l
-			hi := q[(g+ny+l)*stride+g : (g+ny+l)*stride+g+s.NX]
-			fillRow(lo, q, stride, g, l, ny, south, sign, false)
-			fillRow(hi, q, stride, g, l, ny, north, sign, true)
+			lo := q[(g-1-l)*stride+g+i0 : (g-1-l)*stride+g+i1] // ghost row -1-l
+			hi := q[(g+ny+l)*stride+g+i0 : (g+ny+l)*stride+g+i1]
+			fillRow(lo, q, stride, g, l, ny, i0, south, sign, false)
+			fillRow(hi, q, stride, g, l, ny, i0, north, sign, true)
 		}
 	}
 }
 
 // fillRow fills ghost row l (0 = next to the interior) on the south
-// (top=false) or north side from the interior rows of q.
-func fillRow(dst, q []float64, stride, g, l, ny int, bc Boundary, sign float64, top bool) {
+// (top=false) or north side, from interior column i0 on, from the interior
+// rows of q.
+func fillRow(dst, q []float64, stride, g, l, ny, i0 int, bc Boundary, sign float64, top bool) {
 	var src int // interior row index (0-based) to copy from
 	switch bc {
 	case Periodic:
@@ -55,7 +60,7 @@ func fillRow(dst, q []float64, stride, g, l, ny int, bc Boundary, sign float64, 
 			src = ny - 1 - l
 		}
 	}
-	row := q[(src+g)*stride+g : (src+g)*stride+g+len(dst)]
+	row := q[(src+g)*stride+g+i0 : (src+g)*stride+g+i0+len(dst)]
 	if bc == Reflective && sign < 0 {
 		for i, x := range row {
 			dst[i] = -x

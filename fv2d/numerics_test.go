@@ -126,8 +126,8 @@ func TestGhostFill(t *testing.T) {
 		}
 	}
 	at := func(k, i, j int) float64 { return s.U[k][(j+2)*s.Stride()+i+2] }
-	s.fillGhostsX(Periodic, Reflective)
-	s.fillGhostsY(Transmissive, Reflective)
+	s.fillGhostsX(Periodic, Reflective, 0, s.NY)
+	s.fillGhostsY(Transmissive, Reflective, 0, s.NX)
 	for _, c := range []struct {
 		k, i, j int
 		want    float64

@@ -316,11 +316,8 @@ func (s *Solver) Step(dt float64) error {
 func (s *Solver) sweep(kind jobKind, dt float64, speed bool) bool {
 	sp := s.base
 	sp.speed = speed
-	if kind == jobSweepX {
-		s.st.fillGhostsX(s.prob.BC[West], s.prob.BC[East])
-		sp.dtdx = dt / s.st.DX
-	} else {
-		s.st.fillGhostsY(s.prob.BC[South], s.prob.BC[North])
+	sp.dtdx = dt / s.st.DX
+	if kind == jobSweepY {
 		sp.dtdx = dt / s.st.DY
 	}
 	return !s.dispatch(job{kind: kind, sp: sp})
@@ -446,9 +443,11 @@ func (res *lineResult) line(kern lineKernel, sp *sweepParams, q [][]float64, lo,
 	res.bad = res.bad || r.bad
 }
 
-// sweepX runs the kernel on the worker's rows, in place in the state.
+// sweepX fills the ghost cells of the worker's rows and runs the kernel on
+// them, in place in the state.
 func (w *worker) sweepX(sp *sweepParams) {
 	s := w.s
+	s.st.fillGhostsX(s.prob.BC[West], s.prob.BC[East], w.j0, w.j1)
 	u, stride, kern := s.st.U, s.stride, s.kern
 	var res lineResult
 	for j := w.j0; j < w.j1; j++ {
@@ -457,13 +456,15 @@ func (w *worker) sweepX(sp *sweepParams) {
 	w.sx, w.sy, w.bad = res.sn, res.st, res.bad
 }
 
-// sweepY runs the kernel on the worker's blocks of blockCols columns:
-// with a four-column kernel (the default Euler kernels) in place, four at
-// a time; the columns left (all, without one) are gathered (ghost rows
-// included) into the worker's scratch, run through the line kernel one by
-// one, and their interior scattered back. The Euler line variables are (rho, my, mx, E).
+// sweepY fills the ghost cells of the worker's blocks of blockCols columns
+// and runs the kernel on them: with a four-column kernel (the default
+// Euler kernels) in place, four at a time; the columns left (all, without
+// one) are gathered (ghost rows included) into the worker's scratch, run
+// through the line kernel one by one, and their interior scattered back.
+// The Euler line variables are (rho, my, mx, E).
 func (w *worker) sweepY(sp *sweepParams) {
 	s := w.s
+	s.st.fillGhostsY(s.prob.BC[South], s.prob.BC[North], min(w.b0*blockCols, s.nx), min(w.b1*blockCols, s.nx))
 	stride, g, ny, kern, kern4 := s.stride, s.g, s.ny, s.kern, s.kern4
 	n := ny + 2*g
 	var q [4][]float64
