@@ -34,8 +34,21 @@ import (
 // so each half step is the midpoint rule of an exact integral; the whole
 // step stays second order.
 
-// blockCols is the number of columns a y sweep gathers at once.
-const blockCols = 8
+// A sweep is shared out in chunks: blocks of rowChunk rows (x) or
+// blockCols columns (y). Each worker has an equal run of adjacent chunks,
+// which it takes from the front; once its own are done it takes chunks of
+// the others from the back. A worker that runs slower (on a processor
+// shared with other work) then does fewer chunks instead of holding up the
+// sweep: with fixed shares, one slow core set the pace of both on the
+// two-core virtual machine of docs/speed.md. (Handing out chunks in turn
+// from one counter was about half as fast: neighbouring chunks on two
+// cores share the cache lines at their edges in every row.) Each line is
+// computed alike whoever takes it, so the results do not depend on the
+// sharing.
+const (
+	rowChunk  = 8
+	blockCols = 8 // also the number of columns a y sweep gathers at once
+)
 
 // Solver advances one run. Build it with NewSolver, advance it with Step
 // (or let Run do the whole run), and Close it to stop its goroutines.
@@ -85,13 +98,14 @@ type job struct {
 	t, dt float64
 }
 
-// worker runs its share of every job: rows [j0, j1) of x sweeps, source and
-// speed passes, and column blocks [b0, b1) of y sweeps. Its scratch holds
-// blockCols columns of a y sweep.
+// worker runs its share of every job: the chunks of a sweep it takes, and
+// rows [j0, j1) of source and speed passes. Its scratch holds blockCols
+// columns of a y sweep.
 type worker struct {
 	s      *Solver
+	id     int
 	j0, j1 int
-	b0, b1 int
+	chunks span        // its run of the current sweep's chunks
 	wake   parker      // workers[1:] wait here for the next dispatch
 	sp     sweepParams // of the current sweep (a field, so kernels' pointer to it does not escape per call)
 	scr    *lineScratch
@@ -178,7 +192,6 @@ func NewSolver(v Values) (*Solver, error) {
 }
 
 func (s *Solver) startWorkers(threads int) {
-	nb := (s.nx + blockCols - 1) / blockCols
 	nv := len(s.st.U)
 	line := max(s.nx, s.ny) + 2*s.g
 	if s.kern4 != nil {
@@ -189,9 +202,8 @@ func (s *Solver) startWorkers(threads int) {
 	s.done.wake = make(chan struct{}, 1)
 	for w := range s.workers {
 		wk := &worker{
-			s:  s,
+			s: s, id: w,
 			j0: w * s.ny / threads, j1: (w + 1) * s.ny / threads,
-			b0: w * nb / threads, b1: (w + 1) * nb / threads,
 			src: make([]float64, nv),
 			scr: newLineScratch(line),
 		}
@@ -327,6 +339,15 @@ func (s *Solver) sweep(kind jobKind, dt float64, speed bool) bool {
 // waits, and combines the results: it reports whether any cell is bad, and
 // for jobs that measure them it stores the wave-speed maxima.
 func (s *Solver) dispatch(j job) (bad bool) {
+	if j.kind == jobSweepX || j.kind == jobSweepY {
+		nc := (s.ny + rowChunk - 1) / rowChunk
+		if j.kind == jobSweepY {
+			nc = (s.nx + blockCols - 1) / blockCols
+		}
+		for i, w := range s.workers {
+			w.chunks.set(i*nc/len(s.workers), (i+1)*nc/len(s.workers))
+		}
+	}
 	if n := len(s.workers) - 1; n > 0 {
 		s.job = j
 		s.pending.Store(int64(n))
@@ -443,28 +464,79 @@ func (res *lineResult) line(kern lineKernel, sp *sweepParams, q [][]float64, lo,
 	res.bad = res.bad || r.bad
 }
 
-// sweepX fills the ghost cells of the worker's rows and runs the kernel on
-// them, in place in the state.
+// span is a run of chunks [front, back), packed in one word (front<<32 |
+// back) so that its owner and the others can take from it at once.
+type span struct{ v atomic.Uint64 }
+
+func (r *span) set(front, back int) { r.v.Store(uint64(front)<<32 | uint64(back)) }
+
+// take removes a chunk from the front (or the back) and returns it, or -1
+// when none is left.
+func (r *span) take(back bool) int {
+	for {
+		x := r.v.Load()
+		f, b := int(x>>32), int(uint32(x))
+		if f >= b {
+			return -1
+		}
+		c := f
+		if back {
+			b--
+			c = b
+		} else {
+			f++
+		}
+		if r.v.CompareAndSwap(x, uint64(f)<<32|uint64(b)) {
+			return c
+		}
+	}
+}
+
+// chunk is the next chunk of the current sweep for w: from the front of its
+// own run, else from the back of another worker's; -1 when none is left.
+func (w *worker) chunk() int {
+	if c := w.chunks.take(false); c >= 0 {
+		return c
+	}
+	ws := w.s.workers
+	for k := 1; k < len(ws); k++ {
+		if c := ws[(w.id+k)%len(ws)].chunks.take(true); c >= 0 {
+			return c
+		}
+	}
+	return -1
+}
+
+// sweepX takes chunks of rows until none is left; for each it fills the
+// ghost cells and runs the kernel on the rows, in place in the state.
 func (w *worker) sweepX(sp *sweepParams) {
 	s := w.s
-	s.st.fillGhostsX(s.prob.BC[West], s.prob.BC[East], w.j0, w.j1)
 	u, stride, kern := s.st.U, s.stride, s.kern
 	var res lineResult
-	for j := w.j0; j < w.j1; j++ {
-		res.line(kern, sp, u, (j+s.g)*stride, (j+s.g+1)*stride)
+	for {
+		c := w.chunk()
+		if c < 0 {
+			break
+		}
+		j0 := c * rowChunk
+		j1 := min(j0+rowChunk, s.ny)
+		s.st.fillGhostsX(s.prob.BC[West], s.prob.BC[East], j0, j1)
+		for j := j0; j < j1; j++ {
+			res.line(kern, sp, u, (j+s.g)*stride, (j+s.g+1)*stride)
+		}
 	}
 	w.sx, w.sy, w.bad = res.sn, res.st, res.bad
 }
 
-// sweepY fills the ghost cells of the worker's blocks of blockCols columns
-// and runs the kernel on them: with a four-column kernel (the default
-// Euler kernels) in place, four at a time; the columns left (all, without
-// one) are gathered (ghost rows included) into the worker's scratch, run
-// through the line kernel one by one, and their interior scattered back.
-// The Euler line variables are (rho, my, mx, E).
+// sweepY takes blocks of blockCols columns until none is left; for each it
+// fills the ghost cells and runs the kernel on the columns: with a
+// four-column kernel (the default Euler kernels) in place, four at a time;
+// the columns left (all, without one) are gathered (ghost rows included)
+// into the worker's scratch, run through the line kernel one by one, and
+// their interior scattered back. The Euler line variables are (rho, my,
+// mx, E).
 func (w *worker) sweepY(sp *sweepParams) {
 	s := w.s
-	s.st.fillGhostsY(s.prob.BC[South], s.prob.BC[North], min(w.b0*blockCols, s.nx), min(w.b1*blockCols, s.nx))
 	stride, g, ny, kern, kern4 := s.stride, s.g, s.ny, s.kern, s.kern4
 	n := ny + 2*g
 	var q [4][]float64
@@ -474,9 +546,15 @@ func (w *worker) sweepY(sp *sweepParams) {
 		q[k] = s.st.U[perm[k]]
 	}
 	var res lineResult
-	for b := w.b0; b < w.b1; b++ {
-		i0 := g + b*blockCols
-		bw := min(blockCols, s.nx-b*blockCols)
+	for {
+		c := w.chunk()
+		if c < 0 {
+			break
+		}
+		c0 := c * blockCols
+		bw := min(blockCols, s.nx-c0)
+		s.st.fillGhostsY(s.prob.BC[South], s.prob.BC[North], c0, c0+bw)
+		i0 := g + c0
 		if kern4 != nil {
 			for bw >= 4 {
 				r := kern4(sp, q[0][i0:], q[1][i0:], q[2][i0:], q[3][i0:], stride, n)
