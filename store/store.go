@@ -12,6 +12,7 @@ import (
 	"time"
 
 	bolt "go.etcd.io/bbolt"
+	bolterrors "go.etcd.io/bbolt/errors"
 
 	"fvsweep/sweep/job"
 )
@@ -94,7 +95,7 @@ func Open(path string, opt Options) (*DB, error) {
 		// 100,000-job PutSweep cost over a gigabyte of allocations.
 		InitialMmapSize: initialMmapSize,
 	})
-	if errors.Is(err, bolt.ErrTimeout) {
+	if errors.Is(err, bolterrors.ErrTimeout) {
 		return nil, fmt.Errorf("store %s: %w (no lock within %v; a running coordinator holds it)", path, ErrInUse, timeout)
 	}
 	if err != nil {

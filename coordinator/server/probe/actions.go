@@ -310,15 +310,16 @@ func fetchAck(name string) func(ctx context.Context, e *Env) error {
 		if err != nil {
 			return err
 		}
-		for m := range batch.Messages() {
-			if err := m.InProgress(); err != nil {
+		m, ok := <-batch.Messages() // the first job, if one came
+		if !ok {
+			if err := batch.Error(); err != nil {
 				return err
 			}
-			return m.DoubleAck(ctx)
+			return errors.New("no job delivered")
 		}
-		if batch.Error() != nil {
-			return batch.Error()
+		if err := m.InProgress(); err != nil {
+			return err
 		}
-		return errors.New("no job delivered")
+		return m.DoubleAck(ctx)
 	}
 }
