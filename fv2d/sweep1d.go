@@ -283,20 +283,27 @@ func vanLeerEvolve(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float
 		du := VanLeer(uc-a1[i], b1[i]-uc)
 		dv := VanLeer(vc-a2[i], b2[i]-vc)
 		dp := VanLeer(pc-a3[i], b3[i]-pc)
-		// evolvePrim's half step, W - dt/(2dx) A(W) dW
-		er := h * (float64(uc*dr) + float64(rc*du))
-		eu := h * (float64(uc*du) + float64(dp*ir[i]))
-		ev := h * (uc * dv)
-		ep := h * (float64(g*pc*du) + float64(uc*dp))
-		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
-		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
-		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
-			lr, lu, lv, lp = rc, uc, vc, pc
-			rr, ru, rv, rp = rc, uc, vc, pc
-		}
-		d0[i], d1[i], d2[i], d3[i] = lr, lu, lv, lp
-		r0[i], r1[i], r2[i], r3[i] = rr, ru, rv, rp
+		d0[i], d1[i], d2[i], d3[i], r0[i], r1[i], r2[i], r3[i] = halfStep(g, h, ir[i], rc, uc, vc, pc, dr, du, dv, dp)
 	}
+}
+
+// halfStep is the MUSCL-Hancock half step of one cell in primitive
+// variables (Toro 2009 §14.4): the face values W -+ dW/2 evolved by
+// -dt/(2dx) A(W) dW, A the Jacobian of the x flux in (rho, u, v, p), with
+// ir = 1/rho (p_x/rho taken as p_x (1/rho)). It returns the left face values
+// (l) and the right ones (r); where a face density or pressure is not
+// positive, both are the cell's values (first order in that cell).
+func halfStep(g, h, ir, rc, uc, vc, pc, dr, du, dv, dp float64) (lr, lu, lv, lp, rr, ru, rv, rp float64) {
+	er := h * (float64(uc*dr) + float64(rc*du))
+	eu := h * (float64(uc*du) + float64(dp*ir))
+	ev := h * (uc * dv)
+	ep := h * (float64(g*pc*du) + float64(uc*dp))
+	lr, lu, lv, lp = rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
+	rr, ru, rv, rp = rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
+	if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) {
+		return rc, uc, vc, pc, rc, uc, vc, pc
+	}
+	return
 }
 
 // evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w (and
@@ -315,19 +322,7 @@ func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64,
 	for i := 1; i < n-1; i++ {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
 		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
-		// half-step evolution: W - dt/(2dx) A(W) dW
-		er := h * (float64(uc*dr) + float64(rc*du))
-		eu := h * (float64(uc*du) + float64(dp*ir[i])) // p_x/rho as p_x (1/rho)
-		ev := h * (uc * dv)
-		ep := h * (float64(g*pc*du) + float64(uc*dp))
-		lr, lu, lv, lp := rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
-		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
-		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) { // positivity fallback: first order in this cell
-			lr, lu, lv, lp = rc, uc, vc, pc
-			rr, ru, rv, rp = rc, uc, vc, pc
-		}
-		d0[i], d1[i], d2[i], d3[i] = lr, lu, lv, lp
-		r0[i], r1[i], r2[i], r3[i] = rr, ru, rv, rp
+		d0[i], d1[i], d2[i], d3[i], r0[i], r1[i], r2[i], r3[i] = halfStep(g, h, ir[i], rc, uc, vc, pc, dr, du, dv, dp)
 	}
 }
 
