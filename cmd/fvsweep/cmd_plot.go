@@ -257,7 +257,13 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		return nil, nil, err
 	}
 	jb := row.Job
-	hdr, data, err := snapshotOf(row, file, fetch)
+	hdr, data, err := snapshotOf(row, file, func(ref string) ([]byte, error) {
+		raw, err := fetch(ref)
+		if err != nil {
+			return nil, fmt.Errorf("%w; or pass it with --snapshot FILE", err)
+		}
+		return raw, nil
+	})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -353,7 +359,7 @@ func snapshotOf(row wire.Row, file string, fetch func(ref string) ([]byte, error
 			return field.Header{}, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", jb.ID)
 		}
 		if raw, err = fetch(out.Snapshot); err != nil {
-			return field.Header{}, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
+			return field.Header{}, nil, fmt.Errorf("job %s: %w", jb.ID, err)
 		}
 		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
 			return field.Header{}, nil, fmt.Errorf("job %s: %w", jb.ID, err)

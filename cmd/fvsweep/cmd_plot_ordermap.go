@@ -16,6 +16,7 @@ import (
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/table"
 	"fvsweep/sweep/verify"
+	"fvsweep/sweep/wire"
 )
 
 // float32Eps is the machine epsilon of the snapshots' values (IEEE 754
@@ -284,20 +285,9 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 	var snaps []gridSnapshot
 	for _, r := range rows {
 		jb := jobs[r.JobID]
-		out := outcomes[r.JobID]
-		raw, err := fetch(out.Snapshot)
+		hdr, data, err := snapshotOf(wire.Row{Job: jb, Outcome: outcomes[r.JobID]}, "", fetch)
 		if err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		hdr, data, err := field.Decode(raw)
-		if err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		if hdr.JobID != jb.ID {
-			return nil, fmt.Errorf("the snapshot of job %s belongs to job %s", jb.ID, hdr.JobID)
+			return nil, err
 		}
 		snaps = append(snaps, gridSnapshot{job: jb, hdr: hdr, data: data})
 	}
