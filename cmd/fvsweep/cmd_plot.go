@@ -426,22 +426,16 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 
 // selectJob returns the one row whose job matches every k=v of sel.
 func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	var found []wire.Row
 	for _, r := range rows {
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			got, has := r.Job.Params[k]
+		if matchPairs(pairs, func(k string) (string, bool) {
 			if k == "case" {
-				got, has = r.Job.Case, true
+				return r.Job.Case, true
 			}
-			if !ok || !has || got != v {
-				match = false
-				break
-			}
-		}
-		if match {
+			v, ok := r.Job.Params[k]
+			return v, ok
+		}) {
 			found = append(found, r)
 		}
 	}
@@ -466,17 +460,10 @@ func fetchSnapshot(c *common, ref string) ([]byte, error) {
 // line colours is an error that names the parameters telling them apart,
 // so that no colour repeats within a plot.
 func pickGroups(st table.Study, sel string) (table.Study, error) {
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	var kept []table.Group
 	for _, g := range st.Groups {
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			if !ok || g.Params[k] != v {
-				match = false
-			}
-		}
-		if match {
+		if matchPairs(pairs, lookupIn(g.Params)) {
 			kept = append(kept, g)
 		}
 	}
@@ -512,4 +499,28 @@ func differing(groups []table.Group) string {
 		}
 	}
 	return strings.Join(parts, "; ")
+}
+
+// selPairs splits a selection (--job, --group) into its "k=v" pairs,
+// separated by commas or spaces.
+func selPairs(sel string) []string {
+	return strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+}
+
+// matchPairs reports whether get(k) has the value v for every "k=v" of
+// pairs (a pair without "=" matches nothing); no pairs match everything.
+func matchPairs(pairs []string, get func(k string) (string, bool)) bool {
+	for _, p := range pairs {
+		k, v, ok := strings.Cut(p, "=")
+		got, has := get(k)
+		if !ok || !has || got != v {
+			return false
+		}
+	}
+	return true
+}
+
+// lookupIn is the lookup of m, for matchPairs.
+func lookupIn(m map[string]string) func(string) (string, bool) {
+	return func(k string) (string, bool) { v, ok := m[k]; return v, ok }
 }

@@ -353,18 +353,11 @@ func snapshotStudy(sd *sweepData, studies []table.Study, n int) (*table.Study, e
 func selectGroup(st *table.Study, sel string) (*table.Group, error) {
 	var labels []string
 	var found []*table.Group
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	for i := range st.Groups {
 		g := &st.Groups[i]
 		labels = append(labels, fmt.Sprintf("%q", g.Label))
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			if !ok || g.Params[k] != v {
-				match = false
-			}
-		}
-		if sel == g.Label || match {
+		if sel == g.Label || matchPairs(pairs, lookupIn(g.Params)) {
 			found = append(found, g)
 		}
 	}

@@ -250,3 +250,24 @@ func TestPickGroups(t *testing.T) {
 		t.Errorf("--group flux=exact: %v", err)
 	}
 }
+
+// A selection matches when every k=v pair names a parameter with that
+// value; a missing parameter or a pair without "=" matches nothing.
+func TestMatchPairs(t *testing.T) {
+	params := lookupIn(map[string]string{"nx": "64", "limiter": "mc"})
+	for _, tc := range []struct {
+		sel  string
+		want bool
+	}{
+		{"", true},
+		{"nx=64", true},
+		{"nx=64, limiter=mc", true},
+		{"nx=64 limiter=minmod", false},
+		{"flux=", false},
+		{"nx", false},
+	} {
+		if got := matchPairs(selPairs(tc.sel), params); got != tc.want {
+			t.Errorf("%q: %v, want %v", tc.sel, got, tc.want)
+		}
+	}
+}
