@@ -261,6 +261,7 @@ func TestOrderMapShockTubeWaves(t *testing.T) {
 				low, lowX = p, x
 			}
 		}
+		t.Logf("row %d: order %.3f at the shock, %.3f at the contact; lowest %.3f, %+.0f cells from the contact", j, at(shock), at(contact), low, (lowX-contact)/dx)
 		if math.Abs(lowX-contact) > (w/2+1)*dx {
 			t.Errorf("row %d: lowest order %.3f at x = %.3f, want it within %d cells of the contact at %.4f", j, low, lowX, w/2+1, contact)
 		}
