@@ -66,11 +66,11 @@ func needGrids(exact bool) int {
 // nested grids, coarsest first: from the errors against the exact cell
 // averages of prob (fv2d.ExactAverages with quad points per direction)
 // when prob has an exact solution, else from the differences of successive
-// grids; over the finest o.grids of them (0: the last two, or three; -1:
-// all), fitted per window of o.window coarse cells (verify.WindowOrdersExact,
+// grids; fitted over all of them (orderMapOf chooses which) per window of
+// window coarse cells (verify.WindowOrdersExact,
 // verify.WindowOrdersDifferences). v must be a conserved variable of the
 // snapshots (cell averages restrict exactly; primitive variables do not).
-func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int, o mapOptions) (*orderMap, error) {
+func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad, window int) (*orderMap, error) {
 	exact := prob != nil && prob.Exact != nil
 	need := needGrids(exact)
 	if len(snaps) < need {
@@ -80,18 +80,7 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int,
 		}
 		return nil, fmt.Errorf("an order map needs %s with snapshots; have %d", what, len(snaps))
 	}
-	use := need
-	switch {
-	case o.grids < 0:
-		use = len(snaps)
-	case o.grids > len(snaps):
-		return nil, fmt.Errorf("%d grids asked for, %d have snapshots", o.grids, len(snaps))
-	case o.grids >= need:
-		use = o.grids
-	case o.grids > 0:
-		return nil, fmt.Errorf("%d grids asked for: the map needs at least %d", o.grids, need)
-	}
-	snaps = snaps[len(snaps)-use:]
+	use := len(snaps)
 	k := slices.Index(snaps[0].hdr.Vars, v)
 	if k < 0 {
 		return nil, fmt.Errorf("variable %q: an order map needs a conserved variable of the snapshot (%s)", v, strings.Join(snaps[0].hdr.Vars, ", "))
@@ -113,7 +102,7 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int,
 		m.grids = append(m.grids, h.NX)
 	}
 	floor := verify.RoundOffFloor(float32Eps, values...)
-	w := max(o.window, 1)
+	w := max(window, 1)
 	var err error
 	if exact {
 		for i, s := range snaps {
@@ -297,7 +286,7 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 	if v == "" {
 		v = snaps[0].hdr.Vars[0]
 	}
-	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"), mapOptions{grids: -1, window: o.window})
+	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"), o.window)
 	if err != nil {
 		return nil, fmt.Errorf("study %d, group %q: %w", st.Index, g.Label, err)
 	}
