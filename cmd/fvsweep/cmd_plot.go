@@ -145,6 +145,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	if *window%2 == 0 {
 		return bad("--window %d: want an odd number of cells (the window is centred on a cell)", *window)
 	}
+	if (kind == "field" || kind == "order-map") && jf.norm != "" {
+		return bad("--norm is for the convergence and cost plots (the order map fits L1 per window)")
+	}
 	if kind == "field" && *group != "" {
 		return bad("--group is for the convergence, cost and order-map plots")
 	}

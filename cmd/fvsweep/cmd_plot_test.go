@@ -162,6 +162,7 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "cost", "--out", out, "--x", "wall"}, 2, `--x "wall": want cpu or work`},
 		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 2, `--norm "l7": want l1, l2 or linf`},
 		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
+		{[]string{"pics", "field", "--out", out, "--norm", "linf"}, 2, "--norm is for the convergence and cost plots"},
 		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
 		{[]string{"pics", "field", "--out", out, "--job", "ffff"}, 1, "no such job"},
