@@ -48,7 +48,7 @@ func runField(args []string, stdout, stderr io.Writer) int {
 	c.register(fs)
 	jobID := fs.String("job", "", "")
 	out := fs.String("out", "", "")
-	format := fs.String("format", "", "")
+	format := choiceFlag(fs, "format", "", "npy", "vtk", "csv")
 	pos, code, done := parseCommand("field", fs, args)
 	if done {
 		return code
@@ -63,8 +63,8 @@ func runField(args []string, stdout, stderr io.Writer) int {
 			}
 		}
 	}
-	if _, ok := fieldFormats[*format]; !ok {
-		return usageErr("field", "--format %q: want npy, vtk or csv (or an --out ending in .npy, .vti or .csv)", *format)
+	if *format == "" {
+		return usageErr("field", "--out %s: give --format npy, vtk or csv, or an --out ending in .npy, .vti or .csv", *out)
 	}
 	failed := func(err error) int {
 		fmt.Fprintf(stderr, "fvsweep field: %v\n", err)

@@ -8,7 +8,6 @@ import (
 	"context"
 	"flag"
 	"fmt"
-	"math"
 	"os"
 	"os/signal"
 	"syscall"
@@ -209,10 +208,4 @@ func (c *common) parseSpec(file, src string, solvers []wire.ManifestText) (*spec
 		progs = append(progs, pm)
 	}
 	return spec.LoadSource(file, []byte(src), c.specLimits(), progs...)
-}
-
-// parseStoredSpec parses a spec already stored, to read its study settings:
-// it was checked when it was submitted, so no limit applies again.
-func parseStoredSpec(file, src string) (*spec.Plan, error) {
-	return spec.LoadSource(file, []byte(src), spec.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
 }

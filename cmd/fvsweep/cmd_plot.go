@@ -145,6 +145,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	if *window%2 == 0 {
 		return bad("--window %d: want an odd number of cells (the window is centred on a cell)", *window)
 	}
+	if (kind == "field" || kind == "order-map") && jf.norm != "" {
+		return bad("--norm is for the convergence and cost plots (the order map fits L1 per window)")
+	}
 	if kind == "field" && *group != "" {
 		return bad("--group is for the convergence, cost and order-map plots")
 	}
@@ -257,7 +260,13 @@ func fieldPlot(sd *sweepData, id, file string, fetch func(ref string) ([]byte, e
 		return nil, nil, err
 	}
 	jb := row.Job
-	hdr, data, err := snapshotOf(row, file, fetch)
+	hdr, data, err := snapshotOf(row, file, func(ref string) ([]byte, error) {
+		raw, err := fetch(ref)
+		if err != nil {
+			return nil, fmt.Errorf("%w; or pass it with --snapshot FILE", err)
+		}
+		return raw, nil
+	})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -353,7 +362,7 @@ func snapshotOf(row wire.Row, file string, fetch func(ref string) ([]byte, error
 			return field.Header{}, nil, fmt.Errorf("job %s stored no snapshot (set snapshot = true in its study)", jb.ID)
 		}
 		if raw, err = fetch(out.Snapshot); err != nil {
-			return field.Header{}, nil, fmt.Errorf("job %s: %w; or pass it with --snapshot FILE", jb.ID, err)
+			return field.Header{}, nil, fmt.Errorf("job %s: %w", jb.ID, err)
 		}
 		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
 			return field.Header{}, nil, fmt.Errorf("job %s: %w", jb.ID, err)
@@ -420,22 +429,16 @@ func findJob(rows []wire.Row, id string) (wire.Row, error) {
 
 // selectJob returns the one row whose job matches every k=v of sel.
 func selectJob(rows []wire.Row, sel string) (wire.Row, error) {
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	var found []wire.Row
 	for _, r := range rows {
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			got, has := r.Job.Params[k]
+		if matchPairs(pairs, func(k string) (string, bool) {
 			if k == "case" {
-				got, has = r.Job.Case, true
+				return r.Job.Case, true
 			}
-			if !ok || !has || got != v {
-				match = false
-				break
-			}
-		}
-		if match {
+			v, ok := r.Job.Params[k]
+			return v, ok
+		}) {
 			found = append(found, r)
 		}
 	}
@@ -460,17 +463,10 @@ func fetchSnapshot(c *common, ref string) ([]byte, error) {
 // line colours is an error that names the parameters telling them apart,
 // so that no colour repeats within a plot.
 func pickGroups(st table.Study, sel string) (table.Study, error) {
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	var kept []table.Group
 	for _, g := range st.Groups {
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			if !ok || g.Params[k] != v {
-				match = false
-			}
-		}
-		if match {
+		if matchPairs(pairs, lookupIn(g.Params)) {
 			kept = append(kept, g)
 		}
 	}
@@ -506,4 +502,28 @@ func differing(groups []table.Group) string {
 		}
 	}
 	return strings.Join(parts, "; ")
+}
+
+// selPairs splits a selection (--job, --group) into its "k=v" pairs,
+// separated by commas or spaces.
+func selPairs(sel string) []string {
+	return strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+}
+
+// matchPairs reports whether get(k) has the value v for every "k=v" of
+// pairs (a pair without "=" matches nothing); no pairs match everything.
+func matchPairs(pairs []string, get func(k string) (string, bool)) bool {
+	for _, p := range pairs {
+		k, v, ok := strings.Cut(p, "=")
+		got, has := get(k)
+		if !ok || !has || got != v {
+			return false
+		}
+	}
+	return true
+}
+
+// lookupIn is the lookup of m, for matchPairs.
+func lookupIn(m map[string]string) func(string) (string, bool) {
+	return func(k string) (string, bool) { v, ok := m[k]; return v, ok }
 }

@@ -16,6 +16,7 @@ import (
 	"fvsweep/sweep/plots"
 	"fvsweep/sweep/table"
 	"fvsweep/sweep/verify"
+	"fvsweep/sweep/wire"
 )
 
 // float32Eps is the machine epsilon of the snapshots' values (IEEE 754
@@ -65,11 +66,11 @@ func needGrids(exact bool) int {
 // nested grids, coarsest first: from the errors against the exact cell
 // averages of prob (fv2d.ExactAverages with quad points per direction)
 // when prob has an exact solution, else from the differences of successive
-// grids; over the finest o.grids of them (0: the last two, or three; -1:
-// all), fitted per window of o.window coarse cells (verify.WindowOrdersExact,
+// grids; fitted over all of them (orderMapOf chooses which) per window of
+// window coarse cells (verify.WindowOrdersExact,
 // verify.WindowOrdersDifferences). v must be a conserved variable of the
 // snapshots (cell averages restrict exactly; primitive variables do not).
-func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int, o mapOptions) (*orderMap, error) {
+func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad, window int) (*orderMap, error) {
 	exact := prob != nil && prob.Exact != nil
 	need := needGrids(exact)
 	if len(snaps) < need {
@@ -79,18 +80,7 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int,
 		}
 		return nil, fmt.Errorf("an order map needs %s with snapshots; have %d", what, len(snaps))
 	}
-	use := need
-	switch {
-	case o.grids < 0:
-		use = len(snaps)
-	case o.grids > len(snaps):
-		return nil, fmt.Errorf("%d grids asked for, %d have snapshots", o.grids, len(snaps))
-	case o.grids >= need:
-		use = o.grids
-	case o.grids > 0:
-		return nil, fmt.Errorf("%d grids asked for: the map needs at least %d", o.grids, need)
-	}
-	snaps = snaps[len(snaps)-use:]
+	use := len(snaps)
 	k := slices.Index(snaps[0].hdr.Vars, v)
 	if k < 0 {
 		return nil, fmt.Errorf("variable %q: an order map needs a conserved variable of the snapshot (%s)", v, strings.Join(snaps[0].hdr.Vars, ", "))
@@ -112,7 +102,7 @@ func localOrderMap(snaps []gridSnapshot, v string, prob *fv2d.Problem, quad int,
 		m.grids = append(m.grids, h.NX)
 	}
 	floor := verify.RoundOffFloor(float32Eps, values...)
-	w := max(o.window, 1)
+	w := max(window, 1)
 	var err error
 	if exact {
 		for i, s := range snaps {
@@ -284,20 +274,9 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 	var snaps []gridSnapshot
 	for _, r := range rows {
 		jb := jobs[r.JobID]
-		out := outcomes[r.JobID]
-		raw, err := fetch(out.Snapshot)
+		hdr, data, err := snapshotOf(wire.Row{Job: jb, Outcome: outcomes[r.JobID]}, "", fetch)
 		if err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		if err := field.CheckDigest(raw, out.SnapshotDigest); err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		hdr, data, err := field.Decode(raw)
-		if err != nil {
-			return nil, fmt.Errorf("job %s: %w", jb.ID, err)
-		}
-		if hdr.JobID != jb.ID {
-			return nil, fmt.Errorf("the snapshot of job %s belongs to job %s", jb.ID, hdr.JobID)
+			return nil, err
 		}
 		snaps = append(snaps, gridSnapshot{job: jb, hdr: hdr, data: data})
 	}
@@ -307,7 +286,7 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 	if v == "" {
 		v = snaps[0].hdr.Vars[0]
 	}
-	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"), mapOptions{grids: -1, window: o.window})
+	m, err := localOrderMap(snaps, v, prob, vals.Int("quad"), o.window)
 	if err != nil {
 		return nil, fmt.Errorf("study %d, group %q: %w", st.Index, g.Label, err)
 	}
@@ -363,18 +342,11 @@ func snapshotStudy(sd *sweepData, studies []table.Study, n int) (*table.Study, e
 func selectGroup(st *table.Study, sel string) (*table.Group, error) {
 	var labels []string
 	var found []*table.Group
-	pairs := strings.FieldsFunc(sel, func(r rune) bool { return r == ',' || r == ' ' })
+	pairs := selPairs(sel)
 	for i := range st.Groups {
 		g := &st.Groups[i]
 		labels = append(labels, fmt.Sprintf("%q", g.Label))
-		match := true
-		for _, p := range pairs {
-			k, v, ok := strings.Cut(p, "=")
-			if !ok || g.Params[k] != v {
-				match = false
-			}
-		}
-		if sel == g.Label || match {
+		if sel == g.Label || matchPairs(pairs, lookupIn(g.Params)) {
 			found = append(found, g)
 		}
 	}

@@ -162,6 +162,7 @@ func TestPlotErrors(t *testing.T) {
 		{[]string{"pics", "cost", "--out", out, "--x", "wall"}, 2, `--x "wall": want cpu or work`},
 		{[]string{"pics", "convergence", "--out", out, "--norm", "l7"}, 2, `--norm "l7": want l1, l2 or linf`},
 		{[]string{"pics", "convergence", "--out", out, "--study", "4"}, 1, "--study 4"},
+		{[]string{"pics", "field", "--out", out, "--norm", "linf"}, 2, "--norm is for the convergence and cost plots"},
 		{[]string{"nosuch", "convergence", "--out", out}, 1, "nosuch"},
 		{[]string{"pics", "field", "--out", out}, 1, "needs --job"},
 		{[]string{"pics", "field", "--out", out, "--job", "ffff"}, 1, "no such job"},
@@ -248,5 +249,26 @@ func TestPickGroups(t *testing.T) {
 	}
 	if _, err := pickGroups(st, "flux=exact"); err == nil || !strings.Contains(err.Error(), "no group of study 2 matches") {
 		t.Errorf("--group flux=exact: %v", err)
+	}
+}
+
+// A selection matches when every k=v pair names a parameter with that
+// value; a missing parameter or a pair without "=" matches nothing.
+func TestMatchPairs(t *testing.T) {
+	params := lookupIn(map[string]string{"nx": "64", "limiter": "mc"})
+	for _, tc := range []struct {
+		sel  string
+		want bool
+	}{
+		{"", true},
+		{"nx=64", true},
+		{"nx=64, limiter=mc", true},
+		{"nx=64 limiter=minmod", false},
+		{"flux=", false},
+		{"nx", false},
+	} {
+		if got := matchPairs(selPairs(tc.sel), params); got != tc.want {
+			t.Errorf("%q: %v, want %v", tc.sel, got, tc.want)
+		}
 	}
 }

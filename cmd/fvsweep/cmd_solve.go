@@ -1,23 +1,22 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
-	"fvsweep/sweep/table"
 	"io"
 	"math"
 	"os"
 	"os/signal"
 	"sort"
-	"strconv"
 	"strings"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/field"
 	"fvsweep/sweep/spec"
+	"fvsweep/sweep/table"
 )
 
 func init() {
@@ -195,32 +194,24 @@ func printReport(w io.Writer, r *fv2d.Result) {
 	}
 }
 
-// dumpCSV writes one row per cell: the centre and the primitive variables.
+// dumpCSV writes one row per cell: the centre and the primitive variables
+// (field.WriteCSV).
 func dumpCSV(path string, s *fv2d.State) error {
+	c := field.NewCells(s.Eq.PrimVars(), s.NX, s.NY)
+	w := make([]float64, len(c.Names))
+	for j := range s.NY {
+		for i := range s.NX {
+			s.Primitive(i, j, w)
+			for k, q := range w {
+				c.Data[k][j*s.NX+i] = q
+			}
+		}
+	}
 	f, err := os.Create(path)
 	if err != nil {
 		return err
 	}
-	bw := bufio.NewWriter(f)
-	bw.WriteString("x,y," + strings.Join(s.Eq.PrimVars(), ",") + "\n")
-	w := make([]float64, len(s.U))
-	var line []byte
-	for j := 0; j < s.NY; j++ {
-		for i := 0; i < s.NX; i++ {
-			x, y := s.Center(i, j)
-			s.Primitive(i, j, w)
-			line = strconv.AppendFloat(line[:0], x, 'g', -1, 64)
-			line = append(line, ',')
-			line = strconv.AppendFloat(line, y, 'g', -1, 64)
-			for _, q := range w {
-				line = append(line, ',')
-				line = strconv.AppendFloat(line, q, 'g', -1, 64)
-			}
-			line = append(line, '\n')
-			bw.Write(line)
-		}
-	}
-	if err := bw.Flush(); err != nil {
+	if err := field.WriteCSV(f, c.WithCentres(s.X0, s.Y0, s.DX, s.DY)); err != nil {
 		f.Close()
 		return err
 	}

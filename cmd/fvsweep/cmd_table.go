@@ -84,7 +84,9 @@ func runTable(args []string) int {
 	if err != nil {
 		return fail("table: %v", err)
 	}
-	if err := printTables(os.Stdout, d, table.Options{Var: jf.v, Norm: jf.norm, Functional: *functional}, *format); err != nil {
+	o := jf.options()
+	o.Functional = *functional
+	if err := printTables(os.Stdout, d, o, *format); err != nil {
 		return fail("table: %v", err)
 	}
 	return 0

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"fvsweep/sweep/job"
+	"fvsweep/sweep/spec"
 	"fvsweep/sweep/table"
 	"fvsweep/sweep/wire"
 )
@@ -205,4 +206,11 @@ func TestTableCSVGCI(t *testing.T) {
 	if kinds["grid"] != 6 || kinds["gci"] != 1 || len(kinds) != 2 {
 		t.Errorf("lines by record: %v", kinds)
 	}
+}
+
+// parseStoredSpec parses a test's spec with no limit (the tests' sweeps
+// are stored as they are; openSweep reads their settings back with
+// spec.StoredSettings).
+func parseStoredSpec(file, src string) (*spec.Plan, error) {
+	return spec.LoadSource(file, []byte(src), spec.Limits{MaxJobs: math.MaxInt, MaxBytes: math.MaxInt64})
 }

@@ -33,8 +33,5 @@ func (l *limitFlags) limits() (spec.Limits, error) {
 	if err != nil {
 		return spec.Limits{}, fmt.Errorf("--mem-limit: %v", err)
 	}
-	if l.jobs <= 0 {
-		return spec.Limits{}, fmt.Errorf("--job-limit: want a positive number of jobs, got %d", l.jobs)
-	}
 	return spec.Limits{MaxJobs: l.jobs, MaxBytes: maxBytes}, nil
 }

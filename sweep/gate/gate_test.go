@@ -331,6 +331,22 @@ func TestMarkdown(t *testing.T) {
 	}
 }
 
+// A group with two findings shows them on two lines of its cell (<br>,
+// which GitHub's Markdown renders as a break inside a table cell), each
+// finding's own text escaped: a pipe would end the cell, "<" start a tag.
+func TestMarkdownFindingsOnLines(t *testing.T) {
+	r := &Report{Cases: []Case{{Study: "s", Group: "g", Failures: []Finding{
+		{KindFailedJobs, "1 of 3 grids failed: a|b"}, {KindBaseline, "L1 grew: 2 > 1"}}}}}
+	var buf bytes.Buffer
+	if err := r.WriteMarkdown(&buf); err != nil {
+		t.Fatal(err)
+	}
+	want := `failed-jobs: 1 of 3 grids failed: a\|b<br>baseline: L1 grew: 2 &gt; 1 |`
+	if md := buf.String(); !strings.Contains(md, want) {
+		t.Errorf("markdown lacks %q:\n%s", want, md)
+	}
+}
+
 func text(r *Report) string {
 	var b strings.Builder
 	r.WriteText(&b)

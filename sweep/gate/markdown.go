@@ -30,13 +30,13 @@ func (r *Report) WriteMarkdown(w io.Writer) error {
 			result = "**FAIL** " + strings.Join(sortedKinds(c.Failures), ", ")
 			var parts []string
 			for _, f := range c.Failures {
-				parts = append(parts, f.Kind+": "+f.Msg)
+				parts = append(parts, mdEscape(f.Kind+": "+f.Msg))
 			}
-			why = strings.Join(parts, "<br>")
+			why = strings.Join(parts, "<br>") // escaped part by part: the breaks stay breaks
 		} else {
-			why = c.Verdict.Status + ": " + c.Verdict.Summary
+			why = mdEscape(c.Verdict.Status + ": " + c.Verdict.Summary)
 		}
-		rows = append(rows, fmt.Sprintf("| %s | %s | %s | %s |", mdEscape(c.Study), mdEscape(c.Group), result, mdEscape(why)))
+		rows = append(rows, fmt.Sprintf("| %s | %s | %s | %s |", mdEscape(c.Study), mdEscape(c.Group), result, why))
 	}
 	if len(rows) > 0 {
 		b.WriteString("| study | group | result | why |\n|---|---|---|---|\n")
