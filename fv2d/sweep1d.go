@@ -248,7 +248,7 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		for k := range 4 {
 			sp.slopes(scr.w[k][:m], scr.d[k])
 		}
-		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 0, m)
+		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, m)
 	}
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, 1, m-2)
 	updateEulerLine(&res, sp, rho, mn, mt, en, &scr.f, 2, m-2)
@@ -306,18 +306,18 @@ func halfStep(g, h, ir, rc, uc, vc, pc, dr, du, dv, dp float64) (lr, lu, lv, lp,
 	return
 }
 
-// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w (and
-// ir = 1/rho) and slopes d into their face values evolved by the half step h = dt/(2dx) of
-// eulerMUSCLPrim: the left face values replace d, the right ones go to r.
-// A cell whose evolved face density or pressure is not positive falls back
-// to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, lo, m int) {
-	w0, w1, w2, w3 := w[0][lo:m], w[1][lo:m], w[2][lo:m], w[3][lo:m]
+// evolvePrim turns the cells 1 <= i < m-1 of primitive values w (and
+// ir = 1/rho) and slopes d into their face values evolved by the half step
+// h = dt/(2dx) of eulerMUSCLPrim: the left face values replace d, the right
+// ones go to r. A cell whose evolved face density or pressure is not
+// positive falls back to first order (both face values equal to the cell's).
+func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) {
+	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
 	n := len(w0)
-	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[lo:m][:n]
-	d0, d1, d2, d3 := d[0][lo:m], d[1][lo:m], d[2][lo:m], d[3][lo:m]
+	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[:n]
+	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
 	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
-	r0, r1, r2, r3 := r[0][lo:m], r[1][lo:m], r[2][lo:m], r[3][lo:m]
+	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
 	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
 	for i := 1; i < n-1; i++ {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
