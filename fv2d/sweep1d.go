@@ -459,8 +459,9 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 	return res
 }
 
-// useSIMD lets the Euler HLLC sweeps compute four faces at a time where
-// the build and the processor allow it (simdHLLC); the tests turn it off to
+// useSIMD lets the sweeps take the SIMD passes of sweep_simd.go (HLLC faces,
+// van Leer slopes and half step, primitive variables, update) where the
+// build and the processor allow it (simdHLLC); the tests turn it off to
 // hold the two paths bitwise equal.
 var useSIMD = simdHLLC
 
