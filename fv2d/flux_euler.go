@@ -43,9 +43,9 @@ func EulerFluxByName(name string) (EulerFlux, error) { return eulerFluxes.byName
 // a face for the primitive state (r, u, v, p):
 // (r u, r u^2 + p, r u v, u (E + p)) with E = p/(gamma-1) + r (u^2 + v^2)/2.
 func EulerPhysicalFlux(gamma, r, u, v, p float64) (f0, f1, f2, f3 float64) {
-	m := r * u
+	m := float64(r * u)
 	e := p/(gamma-1) + float64(0.5*r*(float64(u*u)+float64(v*v)))
-	return m, float64(m*u) + p, m * v, u * (e + p)
+	return m, float64(m*u) + p, float64(m * v), float64(u * (e + p))
 }
 
 // EulerRusanov is the Rusanov (local Lax-Friedrichs) flux (Rusanov 1961):

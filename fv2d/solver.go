@@ -563,6 +563,9 @@ func (w *worker) sweepY(sp *sweepParams) {
 				i0, bw = i0+4, bw-4
 			}
 		}
+		if bw == 0 {
+			continue
+		}
 		for k := 0; k < nv; k++ {
 			src, dst := q[k], w.yb[k]
 			for jj := 0; jj < n; jj++ {

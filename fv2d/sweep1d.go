@@ -191,7 +191,7 @@ func updateEulerLine(res *lineResult, sp *sweepParams, rho, mn, mt, en []float64
 		res.bad = res.bad || bad
 	}
 	for i := start; i < n; i++ {
-		a, b, d, e := rho[i]-c*(f0[i+1]-f0[i]), mn[i]-c*(f1[i+1]-f1[i]), mt[i]-c*(f2[i+1]-f2[i]), en[i]-c*(f3[i+1]-f3[i])
+		a, b, d, e := rho[i]-float64(c*(f0[i+1]-f0[i])), mn[i]-float64(c*(f1[i+1]-f1[i])), mt[i]-float64(c*(f2[i+1]-f2[i])), en[i]-float64(c*(f3[i+1]-f3[i]))
 		rho[i], mn[i], mt[i], en[i] = a, b, d, e
 		if !(a > 0 && float64(2*e*a) > float64(b*b)+float64(d*d)) { // checkEuler's positivity test
 			res.bad = true
@@ -211,7 +211,7 @@ func updateEulerLine(res *lineResult, sp *sweepParams, rho, mn, mt, en []float64
 // updateEuler writes the conservative update U_k -= c (F_{k+1/2} - F_{k-1/2})
 // of cell k, given the flux differences d0..d3, and checks the new state.
 func updateEuler(res *lineResult, speed bool, gamma, c float64, rho, mn, mt, en []float64, k int, d0, d1, d2, d3 float64) {
-	a, b, d, e := rho[k]-c*d0, mn[k]-c*d1, mt[k]-c*d2, en[k]-c*d3
+	a, b, d, e := rho[k]-float64(c*d0), mn[k]-float64(c*d1), mt[k]-float64(c*d2), en[k]-float64(c*d3)
 	rho[k], mn[k], mt[k], en[k] = a, b, d, e
 	checkEuler(res, speed, gamma, a, b, d, e)
 }
@@ -248,7 +248,7 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		for k := range 4 {
 			sp.slopes(scr.w[k][:m], scr.d[k])
 		}
-		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 0, m)
+		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, m)
 	}
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, 1, m-2)
 	updateEulerLine(&res, sp, rho, mn, mt, en, &scr.f, 2, m-2)
@@ -294,11 +294,11 @@ func vanLeerEvolve(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float
 // (l) and the right ones (r); where a face density or pressure is not
 // positive, both are the cell's values (first order in that cell).
 func halfStep(g, h, ir, rc, uc, vc, pc, dr, du, dv, dp float64) (lr, lu, lv, lp, rr, ru, rv, rp float64) {
-	er := h * (float64(uc*dr) + float64(rc*du))
-	eu := h * (float64(uc*du) + float64(dp*ir))
-	ev := h * (uc * dv)
-	ep := h * (float64(g*pc*du) + float64(uc*dp))
-	lr, lu, lv, lp = rc-0.5*dr-er, uc-0.5*du-eu, vc-0.5*dv-ev, pc-0.5*dp-ep
+	er := float64(h * (float64(uc*dr) + float64(rc*du)))
+	eu := float64(h * (float64(uc*du) + float64(dp*ir)))
+	ev := float64(h * (uc * dv))
+	ep := float64(h * (float64(g*pc*du) + float64(uc*dp)))
+	lr, lu, lv, lp = rc-float64(0.5*dr)-er, uc-float64(0.5*du)-eu, vc-float64(0.5*dv)-ev, pc-float64(0.5*dp)-ep
 	rr, ru, rv, rp = rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
 	if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) {
 		return rc, uc, vc, pc, rc, uc, vc, pc
@@ -306,18 +306,18 @@ func halfStep(g, h, ir, rc, uc, vc, pc, dr, du, dv, dp float64) (lr, lu, lv, lp,
 	return
 }
 
-// evolvePrim turns the cells lo+1 <= i < m-1 of primitive values w (and
-// ir = 1/rho) and slopes d into their face values evolved by the half step h = dt/(2dx) of
-// eulerMUSCLPrim: the left face values replace d, the right ones go to r.
-// A cell whose evolved face density or pressure is not positive falls back
-// to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, lo, m int) {
-	w0, w1, w2, w3 := w[0][lo:m], w[1][lo:m], w[2][lo:m], w[3][lo:m]
+// evolvePrim turns the cells 1 <= i < m-1 of primitive values w (and
+// ir = 1/rho) and slopes d into their face values evolved by the half step
+// h = dt/(2dx) of eulerMUSCLPrim: the left face values replace d, the right
+// ones go to r. A cell whose evolved face density or pressure is not
+// positive falls back to first order (both face values equal to the cell's).
+func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) {
+	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
 	n := len(w0)
-	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[lo:m][:n]
-	d0, d1, d2, d3 := d[0][lo:m], d[1][lo:m], d[2][lo:m], d[3][lo:m]
+	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[:n]
+	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
 	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
-	r0, r1, r2, r3 := r[0][lo:m], r[1][lo:m], r[2][lo:m], r[3][lo:m]
+	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
 	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
 	for i := 1; i < n-1; i++ {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
@@ -370,7 +370,7 @@ func updateCols(sp *sweepParams, rho, mn, mt, en []float64, stride, rows int, f 
 		r, a, b, e := rho[s:s+4], mn[s:s+4], mt[s:s+4], en[s:s+4]
 		g0, g1, g2, g3 := f0[i:i+8], f1[i:i+8], f2[i:i+8], f3[i:i+8]
 		for k := range 4 {
-			r[k], a[k], b[k], e[k] = r[k]-c*(g0[k+4]-g0[k]), a[k]-c*(g1[k+4]-g1[k]), b[k]-c*(g2[k+4]-g2[k]), e[k]-c*(g3[k+4]-g3[k])
+			r[k], a[k], b[k], e[k] = r[k]-float64(c*(g0[k+4]-g0[k])), a[k]-float64(c*(g1[k+4]-g1[k])), b[k]-float64(c*(g2[k+4]-g2[k])), e[k]-float64(c*(g3[k+4]-g3[k]))
 			checkEuler(&res, speed, gamma, r[k], a[k], b[k], e[k])
 		}
 	}
@@ -436,7 +436,7 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 		bu, bv, bp := cellEuler(gm1, b0, b1, b2, b3)
 		fa0, fa1, fa2, fa3 := EulerPhysicalFlux(g, a0, au, av, ap)
 		fb0, fb1, fb2, fb3 := EulerPhysicalFlux(g, b0, bu, bv, bp)
-		e0, e1, e2, e3 := h*(fb0-fa0), h*(fb1-fa1), h*(fb2-fa2), h*(fb3-fa3)
+		e0, e1, e2, e3 := float64(h*(fb0-fa0)), float64(h*(fb1-fa1)), float64(h*(fb2-fa2)), float64(h*(fb3-fa3))
 		a0, a1, a2, a3 = a0-e0, a1-e1, a2-e2, a3-e3
 		b0, b1, b2, b3 = b0-e0, b1-e1, b2-e2, b3-e3
 		lr, rr := a0, b0
@@ -459,8 +459,9 @@ func eulerMUSCLCons(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 	return res
 }
 
-// useSIMD lets the Euler HLLC sweeps compute four faces at a time where
-// the build and the processor allow it (simdHLLC); the tests turn it off to
+// useSIMD lets the sweeps take the SIMD passes of sweep_simd.go (HLLC faces,
+// van Leer slopes and half step, primitive variables, update) where the
+// build and the processor allow it (simdHLLC); the tests turn it off to
 // hold the two paths bitwise equal.
 var useSIMD = simdHLLC
 

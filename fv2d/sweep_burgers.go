@@ -50,7 +50,7 @@ func updateBurgersLine(res *lineResult, speed bool, c float64, u, f []float64, l
 	u, f = u[lo:hi], f[lo-1:hi]
 	f = f[:len(u)+1]
 	for i := range u {
-		a := u[i] - c*(f[i+1]-f[i])
+		a := u[i] - float64(c*(f[i+1]-f[i]))
 		u[i] = a
 		checkBurgers(res, speed, a)
 	}
@@ -75,7 +75,7 @@ func burgersMUSCL(sp *sweepParams, u, _, _, _ []float64) (res lineResult) {
 	sp.slopes(u, d)
 	for i := 1; i < m-1; i++ { // the left face value replaces the slope
 		lo, hi := u[i]-float64(0.5*d[i]), u[i]+float64(0.5*d[i])
-		e := h * u[i] * d[i] // = h (hi^2 - lo^2)/2
+		e := float64(h * u[i] * d[i]) // = h (hi^2 - lo^2)/2
 		d[i], r[i] = lo-e, hi-e
 	}
 	sp.burgersFaces(r, d, f, 1, m-2)

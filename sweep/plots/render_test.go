@@ -186,19 +186,19 @@ func TestLogTicks(t *testing.T) {
 // piece within the width; short lines, explicit line breaks and a word
 // longer than the width are kept.
 func TestWrapTitle(t *testing.T) {
-	for _, c := range []struct{ in, want string }{
-		{"short", "short"},
-		{"aaa bbb ccc ddd", "aaa bbb\nccc ddd"},
-		{"aaa bbb\nccc", "aaa bbb\nccc"},
-		{"abcdefghijkl x", "abcdefghijkl\nx"},
-		{"aaaa bbbb cccc dddd eeee", "aaaa\nbbbb\ncccc\ndddd\neeee"},
+	for _, c := range []struct {
+		in   string
+		w    int
+		want string
+	}{
+		{"short", 8, "short"},
+		{"aaa bbb ccc ddd", 8, "aaa bbb\nccc ddd"},
+		{"aaa bbb\nccc", 8, "aaa bbb\nccc"},
+		{"abcdefghijkl x", 8, "abcdefghijkl\nx"},
+		{"aaaa bbbb cccc dddd eeee", 5, "aaaa\nbbbb\ncccc\ndddd\neeee"},
 	} {
-		w := 8
-		if c.in == "aaaa bbbb cccc dddd eeee" {
-			w = 5
-		}
-		if got := wrapTitle(c.in, w); got != c.want {
-			t.Errorf("wrapTitle(%q, %d) = %q, want %q", c.in, w, got, c.want)
+		if got := wrapTitle(c.in, c.w); got != c.want {
+			t.Errorf("wrapTitle(%q, %d) = %q, want %q", c.in, c.w, got, c.want)
 		}
 	}
 }
