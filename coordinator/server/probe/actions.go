@@ -188,7 +188,7 @@ var (
 // Actions are the actions tried, with the roles expected to be allowed
 // each.
 func Actions(n wire.Names) []Action {
-	obj, kv := "OBJ_"+n.FieldBucket(), "KV_"+n.CancelBucket()
+	obj, kv := n.FieldStream(), n.CancelStream()
 	as := []Action{
 		{Name: "submit a sweep", Allow: roles(op, submitter), As: submitter, Try: request(wire.VerbSubmit)},
 		{Name: "cancel a sweep", Allow: roles(op, submitter), As: submitter, Try: request(wire.VerbCancel)},
