@@ -149,7 +149,7 @@ func (c *Coordinator) checkSnapshot(o *job.Outcome, j job.Job) error {
 	if !j.Snapshot {
 		return fmt.Errorf("job %s: a snapshot the job did not ask for", o.JobID)
 	}
-	if o.Snapshot != c.cfg.Names.FieldBucket()+"/"+o.JobID {
+	if o.Snapshot != c.cfg.Names.SnapshotRef(o.JobID) {
 		return fmt.Errorf("job %s: snapshot %q is not the job's own object", o.JobID, o.Snapshot)
 	}
 	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)

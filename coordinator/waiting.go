@@ -34,7 +34,7 @@ func (c *Coordinator) waiting(name string, offered map[string]bool) (map[string]
 		}
 		progs = map[string][]string{}
 		for _, j := range jobs {
-			if j.Solver != "" && j.Solver != job.BuiltinSolver {
+			if j.SolverName() != job.BuiltinSolver {
 				progs[j.SolverLabel()] = append(progs[j.SolverLabel()], j.ID)
 			}
 		}
@@ -58,7 +58,7 @@ func (c *Coordinator) waiting(name string, offered map[string]bool) (map[string]
 			if out == nil {
 				out = map[string]int{}
 			}
-			out[label] = len(ids) - len(stored)
+			out[label] = n
 		}
 	}
 	return out, nil

@@ -101,5 +101,5 @@ func (w *Worker) putSnapshot(ctx context.Context, jb job.Job, s *Snapshot) (stri
 	if _, err := w.fields.PutBytes(ctx, jb.ID, data); err != nil {
 		return "", fmt.Errorf("snapshot of %s: %w", jb.ID, err)
 	}
-	return w.cfg.Names.FieldBucket() + "/" + jb.ID, nil
+	return w.cfg.Names.SnapshotRef(jb.ID), nil
 }

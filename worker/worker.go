@@ -173,7 +173,7 @@ func New(ctx context.Context, nc *nats.Conn, cfg Config) (*Worker, error) {
 			break
 		}
 		if !errors.Is(err, jetstream.ErrStreamNotFound) && !errors.Is(err, jetstream.ErrConsumerNotFound) &&
-			!errors.Is(err, jetstream.ErrBucketNotFound) && !errors.Is(err, jetstream.ErrStreamNotFound) {
+			!errors.Is(err, jetstream.ErrBucketNotFound) {
 			return nil, fmt.Errorf("worker: %w", err)
 		}
 		w.log.Info("waiting for a coordinator to create the streams", "error", err)

@@ -269,6 +269,9 @@ func TestJobRunByItsSolverAckedAfterOutcome(t *testing.T) {
 	if got := builtin.calls(); len(got) != 1 || got[0] != fv.ID || len(other.calls()) != 1 {
 		t.Fatalf("built-in runner ran %v, other ran %v", got, other.calls())
 	}
+	// The worker counts a job once its ack is sent, which can come after
+	// the outcome is seen on the results stream.
+	b.eventually("the second job to be counted", func() bool { return w.Stats().Done == 2 })
 	if st := w.Stats(); st.Done != 2 || st.Failed != 0 {
 		t.Fatalf("stats %+v", st)
 	}

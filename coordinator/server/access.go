@@ -63,16 +63,13 @@ func inbox(n wire.Names, r wire.Role) string { return n.Inbox(r) + ".>" }
 // streams are the four JetStream streams of n: jobs, results, the cancel
 // bucket's and the snapshot store's.
 func streams(n wire.Names) []string {
-	return []string{n.JobStream(), n.ResultStream(), kvStream(n), objStream(n)}
+	return []string{n.JobStream(), n.ResultStream(), n.CancelStream(), n.FieldStream()}
 }
-
-func kvStream(n wire.Names) string  { return "KV_" + n.CancelBucket() }
-func objStream(n wire.Names) string { return "OBJ_" + n.FieldBucket() }
 
 func operatorRights(n wire.Names) (pub, sub []string) {
 	// $JS.API.INFO reads the account's figures (usage and limits, no
 	// names); nats.go asks for them before it creates a key-value bucket.
-	pub = []string{prefix(n) + ".>", "$JS.API.INFO"}
+	pub = []string{n.AllFilter(), "$JS.API.INFO"}
 	for _, s := range streams(n) {
 		pub = append(pub,
 			"$JS.API.STREAM.*."+s,        // info, create, update, delete, purge
@@ -87,7 +84,7 @@ func operatorRights(n wire.Names) (pub, sub []string) {
 	}
 	pub = append(pub, "$KV."+n.CancelBucket()+".>", "$O."+n.FieldBucket()+".>",
 		inbox(n, wire.RoleSubmitter), inbox(n, wire.RoleReader))
-	sub = []string{prefix(n) + ".>", maxDeliveriesSubject(n)}
+	sub = []string{n.AllFilter(), maxDeliveriesSubject(n)}
 	for _, r := range wire.Roles {
 		sub = append(sub, inbox(n, r))
 	}
@@ -107,7 +104,7 @@ func apiRights(n wire.Names, verbs ...string) []string {
 // direct get, its chunks through an ordered consumer on the chunk
 // subjects).
 func readRights(n wire.Names) []string {
-	obj, o := objStream(n), "$O."+n.FieldBucket()
+	obj, o := n.FieldStream(), "$O."+n.FieldBucket()
 	return append(apiRights(n, wire.VerbPing, wire.VerbStatus, wire.VerbRows),
 		"$JS.API.STREAM.INFO."+obj,
 		"$JS.API.DIRECT.GET."+obj+"."+o+".M.>",
@@ -125,7 +122,7 @@ func readRights(n wire.Names) []string {
 // outcomes and reports.
 func workerRights(n wire.Names) []string {
 	jobs := n.JobStream()
-	kv, obj := kvStream(n), objStream(n)
+	kv, obj := n.CancelStream(), n.FieldStream()
 	return []string{
 		"$JS.API.CONSUMER.INFO." + jobs + ".*",
 		"$JS.API.CONSUMER.MSG.NEXT." + jobs + ".*",
@@ -143,13 +140,6 @@ func workerRights(n wire.Names) []string {
 		n.ResultFilter(),
 		n.WorkerFilter(),
 	}
-}
-
-func prefix(n wire.Names) string {
-	if n.Prefix == "" {
-		return wire.DefaultPrefix
-	}
-	return n.Prefix
 }
 
 func maxDeliveriesSubject(n wire.Names) string {

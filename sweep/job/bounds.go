@@ -2,6 +2,8 @@ package job
 
 import (
 	"fmt"
+	"iter"
+	"maps"
 	"math"
 	"time"
 )
@@ -79,8 +81,8 @@ func (o Outcome) CheckBounds(b Bounds) error {
 	case !(o.TFinal >= 0):
 		return bad("negative t_final %g", o.TFinal)
 	}
-	for _, keys := range [][]string{mapKeys(o.Functionals), mapKeys(o.Errors), mapKeys(o.Totals)} {
-		for _, k := range keys {
+	for _, keys := range []iter.Seq[string]{maps.Keys(o.Functionals), maps.Keys(o.Errors), maps.Keys(o.Totals)} {
+		for k := range keys {
 			if k == "" || len(k) > b.MaxKey {
 				return bad("key %.20q: want 1..%d bytes", k, b.MaxKey)
 			}
@@ -93,14 +95,6 @@ func (o Outcome) CheckBounds(b Bounds) error {
 		}
 	}
 	return nil
-}
-
-func mapKeys[V any](m map[string]V) []string {
-	out := make([]string, 0, len(m))
-	for k := range m {
-		out = append(out, k)
-	}
-	return out
 }
 
 // Valid reports whether b is usable: every size and limit positive.

@@ -121,6 +121,21 @@ func (n Names) CancelBucket() string { return n.p() + "_canceled" }
 // FieldBucket is the object store of field snapshots (object: job ID).
 func (n Names) FieldBucket() string { return n.p() + "_fields" }
 
+// SnapshotRef is how a done outcome names its job's field snapshot in the
+// field store: "BUCKET/OBJECT", the object being the job ID.
+func (n Names) SnapshotRef(jobID string) string { return n.FieldBucket() + "/" + jobID }
+
+// CancelStream is the stream behind CancelBucket (nats.go names a key-value
+// bucket's stream "KV_" and the bucket).
+func (n Names) CancelStream() string { return "KV_" + n.CancelBucket() }
+
+// FieldStream is the stream behind FieldBucket (nats.go names an object
+// store's stream "OBJ_" and the store).
+func (n Names) FieldStream() string { return "OBJ_" + n.FieldBucket() }
+
+// AllFilter matches every subject of the prefix.
+func (n Names) AllFilter() string { return n.p() + ".>" }
+
 // JobSubject is the subject of fv2d's job id of sweep.
 func (n Names) JobSubject(sweep, id string) string {
 	return n.p() + ".job." + SweepToken(sweep) + "." + id

@@ -201,43 +201,43 @@ func (r *Runner) writeInput(path string, init *fv2d.State) error {
 // conserved or primitive, in any order, x and y the cell centres.
 func fromState(s *fv2d.State, names []string) *field.Cells {
 	c := field.NewCells(names, s.NX, s.NY)
-	g := s.Gamma
+	w := make([]float64, len(s.U))
 	for j := 0; j < s.NY; j++ {
 		for i := 0; i < s.NX; i++ {
 			n := j*s.NX + i
 			idx := s.Index(i, j)
 			x, y := s.Center(i, j)
-			var rho, mx, my, E float64
+			s.Primitive(i, j, w)
+			var rho, u, v, p, mx, my, E float64
 			if s.Eq == fv2d.Euler {
-				rho, mx, my, E = s.U[0][idx], s.U[1][idx], s.U[2][idx], s.U[3][idx]
+				rho, u, v, p = w[0], w[1], w[2], w[3]
+				mx, my, E = s.U[1][idx], s.U[2][idx], s.U[3][idx]
+			} else {
+				u = w[0]
 			}
 			for k, name := range names {
-				var v float64
+				var val float64
 				switch name {
 				case "x":
-					v = x
+					val = x
 				case "y":
-					v = y
+					val = y
 				case "rho":
-					v = rho
+					val = rho
 				case "mx":
-					v = mx
+					val = mx
 				case "my":
-					v = my
+					val = my
 				case "E":
-					v = E
+					val = E
 				case "u":
-					if s.Eq == fv2d.Euler {
-						v = mx / rho
-					} else {
-						v = s.U[0][idx]
-					}
+					val = u
 				case "v":
-					v = my / rho
+					val = v
 				case "p":
-					v = (g - 1) * (E - 0.5*(mx*mx+my*my)/rho)
+					val = p
 				}
-				c.Data[k][n] = v
+				c.Data[k][n] = val
 			}
 		}
 	}

@@ -93,6 +93,9 @@ func TestCopyIsJudgedLikeFV2D(t *testing.T) {
 		init := fv2d.InitialAverages(p, 12, 10, v.Int("quad"), 1)
 		init.T = 0.5
 		a := fv2d.Assess(p, init.Totals(), init, v.Int("quad"), 1)
+		if len(a.Errors) == 0 || len(o.Errors) != len(a.Errors) || len(o.Totals) == 0 {
+			t.Fatalf("%s: %d error norms and %d totals, fv2d.Assess gives %d norms", format, len(o.Errors), len(o.Totals), len(a.Errors))
+		}
 		for k, n := range a.Errors {
 			if got := o.Errors[k]; math.Abs(got.L1-n.L1) > 1e-15*n.L1 || math.Abs(got.Linf-n.Linf) > 1e-15*n.Linf || n.L1 == 0 {
 				t.Errorf("%s: %s error %+v, fv2d.Assess says %+v", format, k, got, n)

@@ -122,7 +122,7 @@ func (f *fixture) prepare(ctx context.Context) error {
 func (f *fixture) snapshotGone(ctx context.Context) (bool, error) {
 	ctx, cancel := context.WithTimeout(ctx, 10*time.Second)
 	defer cancel()
-	b, err := client.FetchField(ctx, f.nc, f.names.FieldBucket()+"/"+snapshotName)
+	b, err := client.FetchField(ctx, f.nc, f.names.SnapshotRef(snapshotName))
 	if err != nil {
 		if errors.Is(err, jetstream.ErrObjectNotFound) || strings.Contains(err.Error(), "not in object store") {
 			return true, nil
@@ -188,7 +188,7 @@ var (
 // Actions are the actions tried, with the roles expected to be allowed
 // each.
 func Actions(n wire.Names) []Action {
-	obj, kv := "OBJ_"+n.FieldBucket(), "KV_"+n.CancelBucket()
+	obj, kv := n.FieldStream(), n.CancelStream()
 	as := []Action{
 		{Name: "submit a sweep", Allow: roles(op, submitter), As: submitter, Try: request(wire.VerbSubmit)},
 		{Name: "cancel a sweep", Allow: roles(op, submitter), As: submitter, Try: request(wire.VerbCancel)},
@@ -197,7 +197,7 @@ func Actions(n wire.Names) []Action {
 		{Name: "rows (table, export, report)", Allow: roles(op, submitter, reader), As: reader, Try: request(wire.VerbRows)},
 		{Name: "read a snapshot (plots)", Allow: roles(op, submitter, reader), As: reader,
 			Try: func(ctx context.Context, e *Env) error {
-				b, err := client.FetchField(ctx, e.NC, n.FieldBucket()+"/"+snapshotName)
+				b, err := client.FetchField(ctx, e.NC, n.SnapshotRef(snapshotName))
 				if err == nil && !bytes.Equal(b, snapshotBytes) {
 					err = errors.New("the snapshot read back differs")
 				}
