@@ -32,5 +32,6 @@ func WaitJetStream(nc *nats.Conn, within time.Duration) error {
 		if time.Now().After(deadline) {
 			return fmt.Errorf("no JetStream cluster after %v: %w", within, err)
 		}
+		time.Sleep(100 * time.Millisecond) // an error that comes back at once (a refusal) must not spin
 	}
 }
