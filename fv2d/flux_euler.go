@@ -167,12 +167,28 @@ func EulerHLLC(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 fl
 
 // hllc is EulerHLLC given g = gamma/(gamma-1), which a sweep computes once.
 func hllc(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 float64) {
+	sl, sr, hl, hr := hllcWaves(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr)
+	return hllcStar(gamma, rl, ul, vl, pl, rr, ur, vr, pr, sl, sr, hl, hr)
+}
+
+// hllcWaves is the first half of hllc: the Einfeldt wave speeds S_L, S_R
+// and the total enthalpies H_L, H_R of the two sides. A sweep runs the two
+// halves as two passes over its faces (sweepParams.eulerFaces): each pass
+// is a shorter chain of dependent operations than the whole, so the
+// processor works on more faces at once.
+func hllcWaves(gamma, g, rl, ul, vl, pl, rr, ur, vr, pr float64) (sl, sr, hl, hr float64) {
 	// roeAverage, written out so that the default flux makes no call
 	zl, zr := pl/rl, pr/rr
-	hl, hr := totalEnthalpy(g, zl, ul, vl), totalEnthalpy(g, zr, ur, vr)
+	hl, hr = totalEnthalpy(g, zl, ul, vl), totalEnthalpy(g, zr, ur, vr)
 	wl, wr, w := roeWeights(rl, rr)
 	u, v, h := roeMean(wl, wr, w, ul, ur), roeMean(wl, wr, w, vl, vr), roeMean(wl, wr, w, hl, hr)
-	sl, sr := einfeldt(ul, sound(gamma, zl), ur, sound(gamma, zr), u, roeSound(gamma-1, h, u, v))
+	sl, sr = einfeldt(ul, sound(gamma, zl), ur, sound(gamma, zr), u, roeSound(gamma-1, h, u, v))
+	return sl, sr, hl, hr
+}
+
+// hllcStar is the second half of hllc: the flux, given the wave speeds and
+// total enthalpies of hllcWaves.
+func hllcStar(gamma, rl, ul, vl, pl, rr, ur, vr, pr, sl, sr, hl, hr float64) (f0, f1, f2, f3 float64) {
 	if sl >= 0 {
 		return EulerPhysicalFlux(gamma, rl, ul, vl, pl)
 	}

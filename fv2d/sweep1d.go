@@ -166,12 +166,20 @@ func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, o, lo, hi int) {
 	if sp.simd && direct {
 		start = hllcFaces4(gamma, g, r0, r1, r2, r3, l0, l1, l2, l3, f0, f1, f2, f3)
 	}
-	for i := start; i < n; i++ {
-		if direct { // the default, HLLC, with gamma/(gamma-1) computed once
-			f0[i], f1[i], f2[i], f3[i] = hllc(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
-		} else {
+	if !direct {
+		for i := start; i < n; i++ {
 			f0[i], f1[i], f2[i], f3[i] = flux(gamma, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
 		}
+		return
+	}
+	// The default, HLLC, with gamma/(gamma-1) computed once, in two passes
+	// (hllcWaves): the wave speeds and enthalpies go to f, then each face's
+	// flux replaces them.
+	for i := start; i < n; i++ {
+		f0[i], f1[i], f2[i], f3[i] = hllcWaves(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+	}
+	for i := start; i < n; i++ {
+		f0[i], f1[i], f2[i], f3[i] = hllcStar(gamma, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i], f0[i], f1[i], f2[i], f3[i])
 	}
 }
 
@@ -243,25 +251,31 @@ func eulerMUSCLPrim(sp *sweepParams, rho, mn, mt, en []float64) (res lineResult)
 			done = (m - 2) &^ 3
 			vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1, 1+done)
 		}
-		vanLeerEvolve(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1+done, m-1)
+		evolveFaces(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1+done, m-1, true)
 	} else {
 		for k := range 4 {
 			sp.slopes(scr.w[k][:m], scr.d[k])
 		}
-		evolvePrim(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, m)
+		evolveFaces(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 1, 1, m-1, false)
 	}
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 1, 1, m-2)
 	updateEulerLine(&res, sp, rho, mn, mt, en, &scr.f, 2, m-2)
 	return res
 }
 
-// vanLeerEvolve is slopesWith(VanLeer) and evolvePrim in one pass, for the
-// elements lo <= i < hi of the scratch, whose cells lie o elements apart
-// (o = 1 in a line, 4 in four columns): the slopes of a cell stay in
-// registers, the left face values go to d and the right ones to r.
-// vanLeerEvolve4 is this pass four elements at a time. The cells o before
-// lo and o after hi-1 must exist.
-func vanLeerEvolve(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int) {
+// evolveFaces is the MUSCL-Hancock half step of eulerMUSCLPrim (Toro 2009
+// §14.4) for the elements lo <= i < hi of the scratch, whose cells lie o
+// elements apart (o = 1 in a line, 4 in four columns): from the primitive
+// values w (and ir = 1/rho) and the slopes dW, the face values W -+ dW/2
+// evolved by -dt/(2dx) A(W) dW, A the Jacobian of the x flux in
+// (rho, u, v, p), p_x/rho taken as p_x (1/rho), h = dt/(2dx). The left face
+// values go to d and the right ones to r; where a face density or pressure is
+// not positive, both are the cell's values (first order in that cell). With
+// vanLeer the slopes are the van Leer slopes of w, found in the same pass
+// (they stay in registers); else they are read from d (sweepParams.slopes).
+// vanLeerEvolve4 is this pass with van Leer, four elements at a time. The
+// cells o before lo and o after hi-1 must exist.
+func evolveFaces(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int, vanLeer bool) {
 	if hi <= lo {
 		return
 	}
@@ -279,50 +293,25 @@ func vanLeerEvolve(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float
 	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
 	for i := range n {
 		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
-		dr := VanLeer(rc-a0[i], b0[i]-rc)
-		du := VanLeer(uc-a1[i], b1[i]-uc)
-		dv := VanLeer(vc-a2[i], b2[i]-vc)
-		dp := VanLeer(pc-a3[i], b3[i]-pc)
-		d0[i], d1[i], d2[i], d3[i], r0[i], r1[i], r2[i], r3[i] = halfStep(g, h, ir[i], rc, uc, vc, pc, dr, du, dv, dp)
-	}
-}
-
-// halfStep is the MUSCL-Hancock half step of one cell in primitive
-// variables (Toro 2009 §14.4): the face values W -+ dW/2 evolved by
-// -dt/(2dx) A(W) dW, A the Jacobian of the x flux in (rho, u, v, p), with
-// ir = 1/rho (p_x/rho taken as p_x (1/rho)). It returns the left face values
-// (l) and the right ones (r); where a face density or pressure is not
-// positive, both are the cell's values (first order in that cell).
-func halfStep(g, h, ir, rc, uc, vc, pc, dr, du, dv, dp float64) (lr, lu, lv, lp, rr, ru, rv, rp float64) {
-	er := float64(h * (float64(uc*dr) + float64(rc*du)))
-	eu := float64(h * (float64(uc*du) + float64(dp*ir)))
-	ev := float64(h * (uc * dv))
-	ep := float64(h * (float64(g*pc*du) + float64(uc*dp)))
-	lr, lu, lv, lp = rc-float64(0.5*dr)-er, uc-float64(0.5*du)-eu, vc-float64(0.5*dv)-ev, pc-float64(0.5*dp)-ep
-	rr, ru, rv, rp = rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
-	if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) {
-		return rc, uc, vc, pc, rc, uc, vc, pc
-	}
-	return
-}
-
-// evolvePrim turns the cells 1 <= i < m-1 of primitive values w (and
-// ir = 1/rho) and slopes d into their face values evolved by the half step
-// h = dt/(2dx) of eulerMUSCLPrim: the left face values replace d, the right
-// ones go to r. A cell whose evolved face density or pressure is not
-// positive falls back to first order (both face values equal to the cell's).
-func evolvePrim(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, m int) {
-	w0, w1, w2, w3 := w[0][:m], w[1][:m], w[2][:m], w[3][:m]
-	n := len(w0)
-	w1, w2, w3, ir = w1[:n], w2[:n], w3[:n], ir[:n]
-	d0, d1, d2, d3 := d[0][:m], d[1][:m], d[2][:m], d[3][:m]
-	d0, d1, d2, d3 = d0[:n], d1[:n], d2[:n], d3[:n]
-	r0, r1, r2, r3 := r[0][:m], r[1][:m], r[2][:m], r[3][:m]
-	r0, r1, r2, r3 = r0[:n], r1[:n], r2[:n], r3[:n]
-	for i := 1; i < n-1; i++ {
-		rc, uc, vc, pc := w0[i], w1[i], w2[i], w3[i]
-		dr, du, dv, dp := d0[i], d1[i], d2[i], d3[i]
-		d0[i], d1[i], d2[i], d3[i], r0[i], r1[i], r2[i], r3[i] = halfStep(g, h, ir[i], rc, uc, vc, pc, dr, du, dv, dp)
+		var dr, du, dv, dp float64
+		if vanLeer {
+			dr = VanLeer(rc-a0[i], b0[i]-rc)
+			du = VanLeer(uc-a1[i], b1[i]-uc)
+			dv = VanLeer(vc-a2[i], b2[i]-vc)
+			dp = VanLeer(pc-a3[i], b3[i]-pc)
+		} else {
+			dr, du, dv, dp = d0[i], d1[i], d2[i], d3[i]
+		}
+		er := float64(h * (float64(uc*dr) + float64(rc*du)))
+		eu := float64(h * (float64(uc*du) + float64(dp*ir[i])))
+		ev := float64(h * (uc * dv))
+		ep := float64(h * (float64(g*pc*du) + float64(uc*dp)))
+		lr, lu, lv, lp := rc-float64(0.5*dr)-er, uc-float64(0.5*du)-eu, vc-float64(0.5*dv)-ev, pc-float64(0.5*dp)-ep
+		rr, ru, rv, rp := rc+float64(0.5*dr)-er, uc+float64(0.5*du)-eu, vc+float64(0.5*dv)-ev, pc+float64(0.5*dp)-ep
+		if !(lr > 0 && lp > 0 && rr > 0 && rp > 0) {
+			lr, lu, lv, lp, rr, ru, rv, rp = rc, uc, vc, pc, rc, uc, vc, pc
+		}
+		d0[i], d1[i], d2[i], d3[i], r0[i], r1[i], r2[i], r3[i] = lr, lu, lv, lp, rr, ru, rv, rp
 	}
 }
 
@@ -390,7 +379,7 @@ func eulerMUSCLPrimCols(sp *sweepParams, rho, mn, mt, en []float64, stride, m in
 	if sp.simd {
 		vanLeerEvolve4(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
 	} else {
-		vanLeerEvolve(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1))
+		evolveFaces(sp.gamma, 0.5*sp.dtdx, &scr.w, scr.ir, &scr.d, &scr.r, 4, 4, 4*(m-1), true)
 	}
 	sp.eulerFaces(&scr.r, &scr.d, &scr.f, 4, 4, 4*(m-2))
 	var f [4][]float64

@@ -66,7 +66,9 @@ func (k *hllcConsts) physFlux4(r, u, v, p vec4) (f0, f1, f2, f3 vec4) {
 	return m, m.Mul(u).Add(p), m.Mul(v), u.Mul(e.Add(p))
 }
 
-// hllc4 is hllc lane by lane; the comments name hllc's steps.
+// hllc4 is hllc lane by lane, both halves (hllcWaves, hllcStar) in one
+// pass: four or eight faces per instruction already keep the divider busy.
+// The comments name hllc's steps.
 func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 vec4) {
 	// p/rho, total enthalpies, Roe weights and averages, Roe sound speed
 	zl, zr := pl.Div(rl), pr.Div(rr)
@@ -220,9 +222,8 @@ func vanLeerSlopes4(w, d []float64) int {
 	return n
 }
 
-// vanLeerEvolve4 is slopesWith(VanLeer) and evolvePrim in one pass, for
-// the vectors at lo, lo+4, ..., < hi of the scratch (cells o elements
-// apart): the slopes of the four variables stay in registers, and the left
+// vanLeerEvolve4 is evolveFaces with van Leer slopes, for the vectors at
+// lo, lo+4, ..., < hi of the scratch (cells o elements apart): the slopes of the four variables stay in registers, and the left
 // face values go to d, the right ones to r. w, ir, d and r are of one
 // layout; the cells o before lo and o after the last one must exist.
 func vanLeerEvolve4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]float64, o, lo, hi int) {
@@ -234,7 +235,7 @@ func vanLeerEvolve4(g, h float64, w *[4][]float64, ir []float64, d, r *[4][]floa
 		du := vanLeer4(two, zero, uc.Sub(load4(w1, i-o)), load4(w1, i+o).Sub(uc))
 		dv := vanLeer4(two, zero, vc.Sub(load4(w2, i-o)), load4(w2, i+o).Sub(vc))
 		dp := vanLeer4(two, zero, pc.Sub(load4(w3, i-o)), load4(w3, i+o).Sub(pc))
-		// evolvePrim's half step, W - dt/(2dx) A(W) dW
+		// evolveFaces's half step, W - dt/(2dx) A(W) dW
 		er := hv.Mul(uc.Mul(dr).Add(rc.Mul(du)))
 		eu := hv.Mul(uc.Mul(du).Add(dp.Mul(load4(ir, i))))
 		ev := hv.Mul(uc.Mul(dv))
