@@ -71,14 +71,15 @@ func (k *hllcConsts) physFlux4(r, u, v, p vec4) (f0, f1, f2, f3 vec4) {
 // The comments name hllc's steps.
 func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 vec4) {
 	// p/rho, total enthalpies, Roe weights and averages, Roe sound speed
-	zl, zr := pl.Div(rl), pr.Div(rr)
+	irl := k.one.Div(rl)
+	zl, zr := pl.Mul(irl), pr.Div(rr)
 	hl := k.g.Mul(zl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
 	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
-	wl, wr := rl.Sqrt(), rr.Sqrt()
-	w := k.one.Div(wl.Add(wr))
-	u := wl.Mul(ul).Add(wr.Mul(ur)).Mul(w)
-	v := wl.Mul(vl).Add(wr.Mul(vr)).Mul(w)
-	h := wl.Mul(hl).Add(wr.Mul(hr)).Mul(w)
+	s := rr.Mul(irl).Sqrt()
+	w := k.one.Div(k.one.Add(s))
+	u := ul.Add(s.Mul(ur)).Mul(w)
+	v := vl.Add(s.Mul(vr)).Mul(w)
+	h := hl.Add(s.Mul(hr)).Mul(w)
 	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
 	// Einfeldt speeds
 	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
@@ -152,14 +153,15 @@ func (k *hllcConsts8) physFlux8(r, u, v, p vec8) (f0, f1, f2, f3 vec8) {
 
 func (k *hllcConsts8) hllc8(rl, ul, vl, pl, rr, ur, vr, pr vec8) (f0, f1, f2, f3 vec8) {
 	// p/rho, total enthalpies, Roe weights and averages, Roe sound speed
-	zl, zr := pl.Div(rl), pr.Div(rr)
+	irl := k.one.Div(rl)
+	zl, zr := pl.Mul(irl), pr.Div(rr)
 	hl := k.g.Mul(zl).Add(k.half.Mul(ul.Mul(ul).Add(vl.Mul(vl))))
 	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
-	wl, wr := rl.Sqrt(), rr.Sqrt()
-	w := k.one.Div(wl.Add(wr))
-	u := wl.Mul(ul).Add(wr.Mul(ur)).Mul(w)
-	v := wl.Mul(vl).Add(wr.Mul(vr)).Mul(w)
-	h := wl.Mul(hl).Add(wr.Mul(hr)).Mul(w)
+	s := rr.Mul(irl).Sqrt()
+	w := k.one.Div(k.one.Add(s))
+	u := ul.Add(s.Mul(ur)).Mul(w)
+	v := vl.Add(s.Mul(vr)).Mul(w)
+	h := hl.Add(s.Mul(hr)).Mul(w)
 	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
 	// Einfeldt speeds
 	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
