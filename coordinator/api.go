@@ -276,30 +276,43 @@ func (c *Coordinator) onRows(m *nats.Msg) {
 		return
 	}
 	p := &parts{c: c, reply: m.Reply}
-	part := wire.RowsReply{Total: len(rows), SpecFile: rec.SpecFile, Spec: rec.Spec, Studies: rec.Studies}
+	part := rowsPart{RowsReply: wire.RowsReply{Total: len(rows), SpecFile: rec.SpecFile, Spec: rec.Spec, Studies: rec.Studies}}
 	next := func(last bool) bool {
 		part.Last = last
 		ok := p.send("rows of "+req.Sweep, part)
-		part = wire.RowsReply{Total: len(rows), Seq: p.seq, Rows: part.Rows[:0]}
+		part = rowsPart{Rows: part.Rows[:0], RowsReply: wire.RowsReply{Total: len(rows), Seq: p.seq}}
 		return ok
 	}
 	for _, r := range rows {
-		n := jsonSize(r)
-		if n > wire.MaxMessage/2 {
+		b, err := json.Marshal(r)
+		if err == nil && len(b) > wire.MaxMessage/2 {
 			// Stored before outcomes were bounded: send the job and its
 			// status without the outcome's numbers.
-			c.log.Warn("a row too large to send: its outcome's maps are left out", "sweep", req.Sweep, "job", r.Job.ID, "bytes", n)
+			c.log.Warn("a row too large to send: its outcome's maps are left out", "sweep", req.Sweep, "job", r.Job.ID, "bytes", len(b))
 			o := *r.Outcome
 			o.Errors, o.Functionals, o.Totals = nil, nil, nil
 			r.Outcome = &o
-			n = jsonSize(r)
+			b, err = json.Marshal(r)
 		}
-		if !p.room(n, func() bool { return next(false) }) {
+		if err != nil {
+			c.log.Warn("sending rows of "+req.Sweep, "job", r.Job.ID, "error", err)
 			return
 		}
-		part.Rows = append(part.Rows, r)
+		if !p.room(len(b), func() bool { return next(false) }) {
+			return
+		}
+		part.Rows = append(part.Rows, b)
 	}
 	next(true)
+}
+
+// rowsPart is a wire.RowsReply whose rows are encoded already, each once,
+// when onRows measures it. Its Rows hide those of the embedded RowsReply
+// (encoding/json takes the shallower of two fields of one name), and come
+// first as there, so a part encodes to the bytes of the RowsReply.
+type rowsPart struct {
+	Rows []json.RawMessage `json:"rows"`
+	wire.RowsReply
 }
 
 func (c *Coordinator) onSubmit(ctx context.Context, m *nats.Msg) {

@@ -15,12 +15,24 @@
 #                     of "fvsweep serve", which takes the bare token)
 #   --binary PATH     the fvsweep binary to copy (default: build one from this
 #                     checkout, static, for linux/amd64 or $GOARCH)
-#   --slots N         jobs at once on HOST (default: its number of cores);
-#                     --concurrency N, its old name, is deprecated
+#   --slots N         jobs at once on HOST, 1 to 256 (default: its number of
+#                     cores); --concurrency N, its old name, still works with
+#                     a warning
 set -euo pipefail
 
 here="$(cd "$(dirname "$0")" && pwd)"
 die() { echo "add-worker: $*" >&2; exit 1; }
+
+# set_slots FLAG VALUE sets slots to VALUE without leading zeros if it is a
+# whole number from 1 to 256 (the range "fvsweep worker --slots" takes), and
+# dies naming FLAG otherwise.
+set_slots() {
+	local n="$2"
+	case "$n" in '' | *[!0-9]*) die "$1 $2: want a whole number from 1 to 256" ;; esac
+	while [ "${n#0}" != "$n" ]; do n="${n#0}"; done
+	{ [ -n "$n" ] && [ ${#n} -le 3 ] && [ "$n" -le 256 ]; } || die "$1 $2: want a whole number from 1 to 256"
+	slots="$n"
+}
 
 [ $# -ge 1 ] || die "usage: add-worker.sh HOST [--nats URL] [--token-file F] [--user NAME] [--binary PATH] [--slots N]"
 host="$1"; shift
@@ -42,8 +54,8 @@ while [ $# -gt 0 ]; do
 	--binary) [ $# -ge 2 ] || die "--binary needs a path"; binary="$2"; shift 2 ;;
 	--slots | --concurrency)
 		[ $# -ge 2 ] || die "$1 needs a number"
-		case "$2" in '' | *[!0-9]*) die "$1 $2: not a positive number" ;; esac
-		slots="$2"; shift 2 ;;
+		[ "$1" = --slots ] || echo "add-worker: warning: $1 is deprecated; use --slots" >&2
+		set_slots "$1" "$2"; shift 2 ;;
 	*) die "unknown option $1" ;;
 	esac
 done

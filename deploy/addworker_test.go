@@ -44,16 +44,23 @@ func addWorker(t *testing.T, env []string, args ...string) (string, error) {
 	return string(out), err
 }
 
-func TestAddWorkerInstallsAndStarts(t *testing.T) {
-	dir, env := fakeRemote(t)
-	bin := filepath.Join(dir, "fvsweep-binary")
+// binaryAndToken writes a stand-in fvsweep binary and a token file into dir.
+func binaryAndToken(t *testing.T, dir string) (bin, tok string) {
+	t.Helper()
+	bin = filepath.Join(dir, "fvsweep-binary")
 	if err := os.WriteFile(bin, []byte("#!/bin/sh\n"), 0o755); err != nil {
 		t.Fatal(err)
 	}
-	tok := filepath.Join(dir, "token")
+	tok = filepath.Join(dir, "token")
 	if err := os.WriteFile(tok, []byte("s3cr3t0123\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
+	return bin, tok
+}
+
+func TestAddWorkerInstallsAndStarts(t *testing.T) {
+	dir, env := fakeRemote(t)
+	bin, tok := binaryAndToken(t, dir)
 	out, err := addWorker(t, env, "spare-7", "--nats", "nats://a:4222,nats://b:4222",
 		"--token-file", tok, "--binary", bin, "--slots", "6")
 	if err != nil {
@@ -110,13 +117,62 @@ func TestAddWorkerRefusesIncompleteArguments(t *testing.T) {
 		{[]string{"h", "--token-file", "/nonexistent/token"}, "--token-file /nonexistent/token: cannot read it"},
 		{[]string{"h", "--nats", "nats://a:4222"}, "no worker token"},
 		{[]string{"h"}, "no NATS URL"},
-		{[]string{"h", "--slots", "x2"}, "--slots x2: not a positive number"},
-		{[]string{"h", "--concurrency", "x2"}, "--concurrency x2: not a positive number"},
+		// "fvsweep worker --slots" takes 1 to 256 (docs/commands.md); the
+		// script refuses the rest before it installs anything.
+		{[]string{"h", "--slots", "x2"}, "--slots x2: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "0"}, "--slots 0: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "000"}, "--slots 000: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "-3"}, "--slots -3: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "1.5"}, "--slots 1.5: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", ""}, "--slots : want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "257"}, "--slots 257: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots", "99999999999999999999"}, "--slots 99999999999999999999: want a whole number from 1 to 256"},
+		{[]string{"h", "--slots"}, "--slots needs a number"},
+		{[]string{"h", "--concurrency", "x2"}, "--concurrency x2: want a whole number from 1 to 256"},
+		{[]string{"h", "--concurrency", "0"}, "--concurrency 0: want a whole number from 1 to 256"},
 		{[]string{"h", "--frobnicate"}, "unknown option --frobnicate"},
 	} {
 		out, err := addWorker(t, env, c.args...)
 		if err == nil || !strings.Contains(out, c.want) {
 			t.Errorf("add-worker.sh %v: err %v, output %q, want an error with %q", c.args, err, out, c.want)
+		}
+	}
+}
+
+// TestAddWorkerSlots checks the --slots value that reaches the unit and the
+// warning for --concurrency, the deprecated name (docs/commands.md).
+func TestAddWorkerSlots(t *testing.T) {
+	const warning = "add-worker: warning: --concurrency is deprecated; use --slots\n"
+	for _, c := range []struct {
+		flag, value string
+		want        string // the unit's ExecStart line
+		warn        bool
+	}{
+		{"--slots", "1", "ExecStart=/usr/local/bin/fvsweep worker --slots 1", false},
+		{"--slots", "256", "ExecStart=/usr/local/bin/fvsweep worker --slots 256", false},
+		{"--slots", "008", "ExecStart=/usr/local/bin/fvsweep worker --slots 8", false},
+		{"--concurrency", "3", "ExecStart=/usr/local/bin/fvsweep worker --slots 3", true},
+	} {
+		dir, env := fakeRemote(t)
+		bin, tok := binaryAndToken(t, dir)
+		cmd := exec.Command("bash", "add-worker.sh", "h", "--nats", "nats://a:4222",
+			"--token-file", tok, "--binary", bin, c.flag, c.value)
+		cmd.Env = env
+		var stderr strings.Builder
+		cmd.Stderr = &stderr
+		if err := cmd.Run(); err != nil {
+			t.Errorf("%s %s: %v\n%s", c.flag, c.value, err, stderr.String())
+			continue
+		}
+		if got := strings.Contains(stderr.String(), warning); got != c.warn {
+			t.Errorf("%s %s: deprecation warning on stderr %v, want %v:\n%s", c.flag, c.value, got, c.warn, stderr.String())
+		}
+		unit, err := os.ReadFile(filepath.Join(dir, "remote", "fvsweep-worker.service"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(string(unit), "\n"+c.want+"\n") {
+			t.Errorf("%s %s: unit lacks %q:\n%s", c.flag, c.value, c.want, unit)
 		}
 	}
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"fvsweep/sweep/table"
 	"fvsweep/sweep/verify"
 	"io"
 	"math"
@@ -271,14 +272,14 @@ func writeGCIText(w io.Writer, st *verify.GCIStudy) {
 		if r.OrderAssumed {
 			label = "assumed order p"
 		}
-		fmt.Fprintf(tw, "  %s\t%s\n", label, gciNum(r.Order, "%.4g", 1))
-		fmt.Fprintf(tw, "  extrapolated phi_ext21\t%s\n", gciNum(r.Extrapolated, "%.10g", 1))
-		fmt.Fprintf(tw, "  approximate error e_a21\t%s\n", gciNum(r.EApprox, "%.3g %%", 100))
-		fmt.Fprintf(tw, "  extrapolated error e_ext21\t%s\n", gciNum(r.EExtrap, "%.3g %%", 100))
-		fmt.Fprintf(tw, "  GCI_fine21 (Fs = %g)\t%s\n", r.SafetyFactor, gciNum(r.GCIFine, "%.3g %%", 100))
+		fmt.Fprintf(tw, "  %s\t%s\n", label, gciNum(r.Order, 'g', 4))
+		fmt.Fprintf(tw, "  extrapolated phi_ext21\t%s\n", gciNum(r.Extrapolated, 'g', 10))
+		fmt.Fprintf(tw, "  approximate error e_a21\t%s\n", gciPct(r.EApprox))
+		fmt.Fprintf(tw, "  extrapolated error e_ext21\t%s\n", gciPct(r.EExtrap))
+		fmt.Fprintf(tw, "  GCI_fine21 (Fs = %g)\t%s\n", r.SafetyFactor, gciPct(r.GCIFine))
 		if r.R32 != nil {
-			fmt.Fprintf(tw, "  GCI_32\t%s\n", gciNum(r.GCI32, "%.3g %%", 100))
-			fmt.Fprintf(tw, "  asymptotic ratio GCI_32/(r21^p GCI_21)\t%s\n", gciNum(r.AsymptoticRatio, "%.4g", 1))
+			fmt.Fprintf(tw, "  GCI_32\t%s\n", gciPct(r.GCI32))
+			fmt.Fprintf(tw, "  asymptotic ratio GCI_32/(r21^p GCI_21)\t%s\n", gciNum(r.AsymptoticRatio, 'g', 4))
 		}
 		tw.Flush()
 		writeRemarks(w, r.Notes, r.Warnings)
@@ -286,7 +287,7 @@ func writeGCIText(w io.Writer, st *verify.GCIStudy) {
 	if ls := st.LeastSquares; ls != nil {
 		fmt.Fprintf(w, "\nleast squares over all %d grids, phi = phi_0 + alpha (h/h1)^p:\n", len(st.H))
 		fmt.Fprintf(w, "  order p %s, phi_0 %s, rms residual %.3g\n",
-			gciNum(ls.Order, "%.4g", 1), gciNum(ls.Extrapolated, "%.10g", 1), ls.ResidualRMS)
+			gciNum(ls.Order, 'g', 4), gciNum(ls.Extrapolated, 'g', 10), ls.ResidualRMS)
 		writeRemarks(w, ls.Notes, ls.Warnings)
 	}
 }
@@ -300,21 +301,33 @@ func writeLSQText(w io.Writer, u *verify.Uncertainty) {
 		fit += ", weighted"
 	}
 	fmt.Fprintf(tw, "  fit\t%s\n", fit)
-	fmt.Fprintf(tw, "  observed order p\t%s\n", gciNum(u.Order, "%.4g", 1))
-	fmt.Fprintf(tw, "  extrapolated phi_0\t%s\n", gciNum(u.Extrapolated, "%.10g", 1))
+	fmt.Fprintf(tw, "  observed order p\t%s\n", gciNum(u.Order, 'g', 4))
+	fmt.Fprintf(tw, "  extrapolated phi_0\t%s\n", gciNum(u.Extrapolated, 'g', 10))
 	fmt.Fprintf(tw, "  standard deviation sigma\t%.3g\n", u.Sigma)
 	fmt.Fprintf(tw, "  data range Delta_M\t%.3g\n", u.DataRange)
 	fmt.Fprintf(tw, "  factor of safety\t%.3g\n", u.SafetyFactor)
-	fmt.Fprintf(tw, "  U of grid 1\t%.3g (%s)\n", u.UncertaintyAbs, gciNum(u.Uncertainty, "%.3g %%", 100))
+	fmt.Fprintf(tw, "  U of grid 1\t%.3g (%s)\n", u.UncertaintyAbs, gciPct(u.Uncertainty))
 	tw.Flush()
 	fmt.Fprintln(w, "  U of every grid:", strings.Trim(fmt.Sprintf("%.3g", u.U), "[]"))
 	writeRemarks(w, u.Notes, u.Warnings)
 }
 
-// gciNum formats *x times scale, or "undefined" when x is nil.
-func gciNum(x *float64, format string, scale float64) string {
-	if x == nil {
-		return "undefined (see note)"
+// gciNum is x as table.Num.Format writes it, "undefined (see note)" when
+// it is none: the notes under the record say why.
+func gciNum(x *float64, f byte, prec int) string {
+	if n := table.Ptr(x); n.OK() {
+		return n.Format(f, prec)
 	}
-	return fmt.Sprintf(format, *x*scale)
+	return gciUndefined
 }
+
+// gciPct is x, a fraction, as table.Num.Percent writes it, "undefined (see
+// note)" when it is none.
+func gciPct(x *float64) string {
+	if n := table.Ptr(x); n.OK() {
+		return n.Percent()
+	}
+	return gciUndefined
+}
+
+const gciUndefined = "undefined (see note)"

@@ -4,7 +4,6 @@ import (
 	"crypto/subtle"
 	"crypto/tls"
 	"fmt"
-	"net"
 	"slices"
 	"strings"
 
@@ -271,16 +270,6 @@ func (t *tokenAuth) Check(c natsserver.ClientAuthentication) bool {
 		}
 	}
 	return false
-}
-
-// IsLoopback reports whether host (a name or an address) only ever means
-// this machine: "localhost" or a loopback address.
-func IsLoopback(host string) bool {
-	if host == "localhost" {
-		return true
-	}
-	ip := net.ParseIP(host)
-	return ip != nil && ip.IsLoopback()
 }
 
 // serverTLS builds the server side of f.

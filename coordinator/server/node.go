@@ -7,6 +7,8 @@ import (
 	"time"
 
 	natsserver "github.com/nats-io/nats-server/v2/server"
+
+	"fvsweep/coordinator/internal/loopback"
 )
 
 // RouteUser is the user name of the routes between the nodes of a cluster
@@ -44,7 +46,7 @@ func StartNode(configFile string) (*natsserver.Server, error) {
 	}
 	authorized := len(opts.Users) > 0 || len(opts.Nkeys) > 0 || opts.Authorization != "" || opts.Username != "" ||
 		len(opts.TrustedOperators) > 0 || len(opts.TrustedKeys) > 0
-	if !IsLoopback(host) && !authorized {
+	if !loopback.Host(host) && !authorized {
 		return nil, fmt.Errorf("node config %s: clients may connect on %s without credentials; add an authorization block (see deploy/nats/common.conf) or listen on 127.0.0.1", configFile, host)
 	}
 	opts.NoSigs = true

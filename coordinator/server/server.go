@@ -12,6 +12,7 @@ import (
 	natsserver "github.com/nats-io/nats-server/v2/server"
 
 	"fvsweep/coordinator/client"
+	"fvsweep/coordinator/internal/loopback"
 )
 
 // Options configure the embedded NATS server.
@@ -53,7 +54,7 @@ func Start(o Options) (*natsserver.Server, error) {
 			port = n
 		}
 	}
-	if !IsLoopback(host) && o.Access.Token == "" {
+	if !loopback.Host(host) && o.Access.Token == "" {
 		return nil, fmt.Errorf("listening on %s needs credentials: give --token (and --worker-token, --submit-token, --read-token for the other roles), or listen on 127.0.0.1", net.JoinHostPort(host, strconv.Itoa(port)))
 	}
 	if err := o.Access.check(); err != nil {

@@ -35,6 +35,7 @@ import (
 	"github.com/hashicorp/go-hclog"
 
 	"fvsweep/coordinator"
+	"fvsweep/coordinator/internal/loopback"
 	"fvsweep/store"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/spec"
@@ -75,7 +76,7 @@ func CheckAddr(addr, token string) error {
 	if err != nil {
 		return fmt.Errorf("status page address %q: want HOST:PORT: %w", addr, err)
 	}
-	if !loopbackName(host) && token == "" {
+	if !loopback.Host(host) && token == "" {
 		return fmt.Errorf("status page on %s: an address other than loopback needs a token (--http-token or --token), or listen on 127.0.0.1", addr)
 	}
 	return nil
@@ -122,17 +123,6 @@ func (w *Server) Close() error {
 		err = serr
 	}
 	return err
-}
-
-// loopbackName reports whether host (a name or an address, with or
-// without brackets) only ever means this machine.
-func loopbackName(host string) bool {
-	host = strings.TrimSuffix(strings.TrimPrefix(host, "["), "]")
-	if strings.EqualFold(host, "localhost") {
-		return true
-	}
-	ip := net.ParseIP(host)
-	return ip != nil && ip.IsLoopback()
 }
 
 // SweepView is one sweep's status with the live workers: the answer of
@@ -234,7 +224,7 @@ func (h *webHandler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 		if err != nil {
 			host = r.Host
 		}
-		if !loopbackName(host) {
+		if !loopback.Host(host) {
 			http.Error(w, "this status page answers only on localhost, 127.0.0.1 or [::1]", http.StatusMisdirectedRequest)
 			return
 		}

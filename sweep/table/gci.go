@@ -157,7 +157,7 @@ var GCIHeader = []string{"functional", "grids (nx)", "r21", "r32", "convergence"
 func (f FunctionalGCI) Cells() [][]string {
 	var rows [][]string
 	for _, r := range f.Records {
-		order := fmtPtr(r.Order, 'f', 2, 1)
+		order := Ptr(r.Order).Format('f', 2)
 		if r.OrderAssumed && r.Order != nil {
 			order += " (assumed)"
 		}
@@ -165,12 +165,13 @@ func (f FunctionalGCI) Cells() [][]string {
 		if conv == "" {
 			conv = "–"
 		}
-		rows = append(rows, []string{f.Functional, f.GridNames(r.Grids), fmtG(r.R21, 4), fmtPtr(r.R32, 'g', 4, 1), conv, order,
-			fmtPtr(r.Extrapolated, 'g', 7, 1), pct(r.EApprox), pct(r.EExtrap), pct(r.GCIFine), fmtPtr(r.AsymptoticRatio, 'g', 3, 1)})
+		rows = append(rows, []string{f.Functional, f.GridNames(r.Grids), fmtG(r.R21, 4), Ptr(r.R32).Format('g', 4), conv, order,
+			Ptr(r.Extrapolated).Format('g', 7), Ptr(r.EApprox).Percent(), Ptr(r.EExtrap).Percent(), Ptr(r.GCIFine).Percent(),
+			Ptr(r.AsymptoticRatio).Format('g', 3)})
 	}
 	if ls := f.LeastSquares; ls != nil {
 		rows = append(rows, []string{f.Functional, "all " + strconv.Itoa(len(f.H)), "–", "–", "least squares",
-			fmtPtr(ls.Order, 'f', 2, 1), fmtPtr(ls.Extrapolated, 'g', 7, 1), "–", "–", "–", "–"})
+			Ptr(ls.Order).Format('f', 2), Ptr(ls.Extrapolated).Format('g', 7), "–", "–", "–", "–"})
 	}
 	return rows
 }
@@ -193,8 +194,8 @@ func (f FunctionalGCI) LSQCells() [][]string {
 	if u.Weighted {
 		fit += " (weighted)"
 	}
-	return [][]string{{f.Functional, f.GridNames(nil), fit, fmtPtr(u.Order, 'f', 2, 1), fmtPtr(u.Extrapolated, 'g', 7, 1),
-		fmtG(u.Sigma, 3), fmtG(u.SafetyFactor, 3), fmtG(u.UncertaintyAbs, 3), pct(u.Uncertainty)}}
+	return [][]string{{f.Functional, f.GridNames(nil), fit, Ptr(u.Order).Format('f', 2), Ptr(u.Extrapolated).Format('g', 7),
+		fmtG(u.Sigma, 3), fmtG(u.SafetyFactor, 3), fmtG(u.UncertaintyAbs, 3), Ptr(u.Uncertainty).Percent()}}
 }
 
 // Warnings returns the plausibility warnings of f's records, its
@@ -255,7 +256,7 @@ func (f FunctionalGCI) Notes() []string {
 func (f FunctionalGCI) Result() string {
 	if u := f.LSQ; u != nil && len(f.NX) > 0 {
 		return fmt.Sprintf("%s on the finest grid (nx %d): %s ± %s (least-squares U, %s; U/|phi_1| %s)",
-			f.Functional, f.NX[0], fmtG(u.Phi[0], 7), fmtG(u.UncertaintyAbs, 3), fitName(u), pct(u.Uncertainty))
+			f.Functional, f.NX[0], fmtG(u.Phi[0], 7), fmtG(u.UncertaintyAbs, 3), fitName(u), Ptr(u.Uncertainty).Percent())
 	}
 	if len(f.Records) == 0 || f.Records[0].GCIFine == nil || len(f.NX) == 0 {
 		return ""
@@ -263,7 +264,7 @@ func (f FunctionalGCI) Result() string {
 	r := f.Records[0]
 	band := *r.GCIFine * math.Abs(r.Phi[0])
 	return fmt.Sprintf("%s on the finest grid (nx %d): %s ± %s (GCI_fine %s)",
-		f.Functional, f.NX[0], fmtG(r.Phi[0], 7), fmtG(band, 3), pct(r.GCIFine))
+		f.Functional, f.NX[0], fmtG(r.Phi[0], 7), fmtG(band, 3), Ptr(r.GCIFine).Percent())
 }
 
 // GridNames names the grids idx (indices into GCIStudy.H; nil for all of
@@ -285,31 +286,10 @@ func (f FunctionalGCI) GridNames(idx []int) string {
 }
 
 // FormatPhi formats a functional value with 7 significant digits, "–" for
-// NaN.
-func FormatPhi(v float64) string {
-	if math.IsNaN(v) {
-		return "–"
-	}
-	return fmtG(v, 7)
-}
+// none (NaN: not reported on that grid).
+func FormatPhi(v float64) string { return Num(v).Format('g', 7) }
 
 func fmtG(v float64, prec int) string { return strconv.FormatFloat(v, 'g', prec, 64) }
-
-// fmtPtr formats *p times scale, "–" for nil.
-func fmtPtr(p *float64, f byte, prec int, scale float64) string {
-	if p == nil {
-		return "–"
-	}
-	return strconv.FormatFloat(*p*scale, f, prec, 64)
-}
-
-// pct formats a fraction as percent with 3 significant digits.
-func pct(p *float64) string {
-	if p == nil {
-		return "–"
-	}
-	return fmtPtr(p, 'g', 3, 100) + " %"
-}
 
 // eachGCI concatenates part of every functional of g, in order.
 func eachGCI[T any](g Group, part func(FunctionalGCI) []T) []T {

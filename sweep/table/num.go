@@ -38,6 +38,16 @@ func (x Num) Format(f byte, prec int) string {
 	return strconv.FormatFloat(float64(x), f, prec, 64)
 }
 
+// Percent formats x, a fraction, in percent to 3 significant digits with a
+// " %" after it ("2.17 %"), "–" when none; a fraction that overflows
+// float64 once multiplied by 100 shows as "+Inf %".
+func (x Num) Percent() string {
+	if !x.OK() {
+		return "–"
+	}
+	return strconv.FormatFloat(float64(x)*100, 'g', 3, 64) + " %"
+}
+
 // csv is the shortest exact decimal of x, "" when none.
 func (x Num) csv() string {
 	if !x.OK() {
