@@ -202,8 +202,9 @@ func hllcStar(gamma, rl, ul, vl, pl, rr, ur, vr, pr, sl, sr, hl, hr float64) (f0
 	if sr <= 0 {
 		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
 	}
-	ql, qr := float64(rl*(sl-ul)), float64(rr*(sr-ur)) // mass flux through the outer waves
-	ss := (pr - pl + float64(ul*ql) - float64(ur*qr)) / (ql - qr)
+	ql, qr := float64(rl*(sl-ul)), float64(rr*(sr-ur))   // mass flux through the outer waves
+	sn, sd := pr-pl+float64(ul*ql)-float64(ur*qr), ql-qr // S* = sn/sd
+	ss := sn / sd
 	// The side K of the contact the face lies on: L for S* >= 0, else R.
 	r, u, v, p, h, sk, q := rl, ul, vl, pl, hl, sl, ql
 	if ss < 0 {
@@ -213,10 +214,12 @@ func hllcStar(gamma, rl, ul, vl, pl, rr, ur, vr, pr, sl, sr, hl, hr float64) (f0
 	// t = rho*_K/rho_K = (S_K - u)/(S_K - S*) and q = rho (S_K - u):
 	// U*_K - U_K = (rho (t-1), rho t S* - m, v rho (t-1), (t-1) (rho H + q S*)),
 	// the energy row being eq. 10.39's E (t-1) + rho t (S*-u) (S* + p/q)
-	// with rho t (S*-u) = q (t-1). t-1 = (S*-u)/(S_K-S*) vanishes exactly when
-	// the contact moves with the state (S* = u), and so does U*_K - U_K.
+	// with rho t (S*-u) = q (t-1). t-1 = (S*-u)/(S_K-S*), taken as
+	// (sn - u sd)/(S_K sd - sn) so that its division does not wait for
+	// S*'s, vanishes when the contact moves with the state (sn = u sd), and so
+	// does U*_K - U_K.
 	m := float64(r * u)
-	t1 := (ss - u) / (sk - ss)
+	t1 := (sn - float64(u*sd)) / (float64(sk*sd) - sn)
 	d0 := float64(r * t1)
 	d1 := float64((r+d0)*ss) - m
 	d2 := v * d0
