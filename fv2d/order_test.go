@@ -48,7 +48,7 @@ const (
 	srcFirst       = "common practice: first-order Godunov on smooth solutions, 1 +- 0.1 (docs/references.md §6)"
 	srcFirstCoarse = "common practice: first-order Godunov on smooth solutions -> 1 (docs/references.md §6); +- 0.15 on the coarser grids of these studies"
 	srcShock       = "common practice: conservative TVD schemes converge at L1 order about 1 with a shock (docs/references.md §6)"
-	srcContact     = "LeVeque 2002, recalled from memory: contacts converge in L1 at 1/2 (first order), 2/3 (second order), +- 0.15"
+	srcContact     = "Banks, Aslam & Rider 2008 (docs/references.md §6): contacts converge in L1 at 1/2 (first order), 2/3 (second order), +- 0.15"
 	srcSplit       = "common practice: Lie splitting X(dt) Y(dt) is first order in time; with dt ~ h the error falls like h"
 )
 

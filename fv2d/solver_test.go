@@ -149,7 +149,7 @@ func TestEulerShockPosition(t *testing.T) {
 	}
 }
 
-// Shocks and contacts (docs/references.md §6, common practice; LeVeque 2002):
+// Shocks and contacts (docs/references.md §6, common practice; Banks, Aslam & Rider 2008):
 // the L1 error of a shock tube converges at an order of about 1 (between
 // the contact's 2/3 and the shock's 1).
 func TestShocktubeL1Order(t *testing.T) {
