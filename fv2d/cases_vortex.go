@@ -47,9 +47,9 @@ func (vortexCase) Setup(v Values) (*Problem, error) {
 	tamp := (gamma - 1) * beta * beta / (8 * gamma * math.Pi * math.Pi)
 	state := func(dx, dy float64, w []float64) {
 		r2 := float64(dx*dx) + float64(dy*dy)
-		e := math.Exp(0.5 * (1 - r2))
+		e := exponential(0.5 * (1 - r2))
 		T := 1 - float64(tamp*e*e)
-		rho := math.Pow(T, 1/(gamma-1))
+		rho := power(T, 1/(gamma-1))
 		w[0], w[1], w[2], w[3] = rho, uinf-float64(amp*e*dy), vinf+float64(amp*e*dx), rho*T // p = rho^gamma = rho T
 	}
 	exact := func(x, y, t float64, w []float64) {

@@ -108,7 +108,8 @@ func pressureFn(gamma, p, rK, pK, aK float64) (f, df, r float64) {
 
 // powPos returns x^y for x > 0 as exp(y log x): a few ulps, several times
 // faster than math.Pow, which the exact flux would spend most of its time in.
-func powPos(x, y float64) float64 { return math.Exp(y * math.Log(x)) }
+// exponential and logarithm give the same bits on every target.
+func powPos(x, y float64) float64 { return exponential(y * logarithm(x)) }
 
 // powFan returns x^n for x >= 0 and n = 2/(gamma-1), by repeated
 // multiplication when n is a small integer up to round-off (gamma = 1.4:
