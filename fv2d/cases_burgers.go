@@ -55,8 +55,8 @@ func (w sineWave) at(s, t float64) float64 {
 	lo, hi := w.a-math.Abs(w.b), w.a+math.Abs(w.b)
 	u, ct := u0, w.c*t
 	for it := 0; it < 100; it++ {
-		ph := w.kappa * (s - ct*u)
-		f := u - w.a - w.b*sine(ph)
+		ph := w.kappa * (s - float64(ct*u))
+		f := u - w.a - float64(w.b*sine(ph))
 		if f > 0 {
 			hi = u
 		} else {

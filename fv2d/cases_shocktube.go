@@ -5,6 +5,11 @@ import (
 	"math"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // shocktubeCase is a Riemann problem of the Euler equations along x or y on
 // [0,1]^2 with transmissive sides: the left state for s < x0 and the right
 // state for s > x0, s the coordinate along axis. test=1..5 selects the
@@ -160,9 +165,9 @@ func steepestJump(s *State, alongY bool, gamma float64) float64 {
 		if d := math.Abs(w1[3] - w0[3]); d > best {
 			best = d
 			if alongY {
-				pos = s.Y0 + float64(k)*s.DY
+				pos = s.Y0 + float64(float64(k)*s.DY)
 			} else {
-				pos = s.X0 + float64(k)*s.DX
+				pos = s.X0 + float64(float64(k)*s.DX)
 			}
 		}
 		w0, w1 = w1, w0

@@ -47,13 +47,13 @@ func (vortexCase) Setup(v Values) (*Problem, error) {
 	tamp := (gamma - 1) * beta * beta / (8 * gamma * math.Pi * math.Pi)
 	state := func(dx, dy float64, w []float64) {
 		r2 := float64(dx*dx) + float64(dy*dy)
-		e := math.Exp(0.5 * (1 - r2))
-		T := 1 - tamp*e*e
-		rho := math.Pow(T, 1/(gamma-1))
+		e := exponential(0.5 * (1 - r2))
+		T := 1 - float64(tamp*e*e)
+		rho := power(T, 1/(gamma-1))
 		w[0], w[1], w[2], w[3] = rho, uinf-float64(amp*e*dy), vinf+float64(amp*e*dx), rho*T // p = rho^gamma = rho T
 	}
 	exact := func(x, y, t float64, w []float64) {
-		state(nearestImage(x-xc-uinf*t, L), nearestImage(y-yc-vinf*t, L), w)
+		state(nearestImage(x-xc-float64(uinf*t), L), nearestImage(y-yc-float64(vinf*t), L), w)
 	}
 	return &Problem{
 		Eq: Euler, Gamma: gamma, X0: 0, X1: L, Y0: 0, Y1: L,
@@ -69,5 +69,5 @@ func (vortexCase) Setup(v Values) (*Problem, error) {
 
 // nearestImage maps d to its periodic image of period L in [-L/2, L/2).
 func nearestImage(d, L float64) float64 {
-	return d - L*math.Floor(d/L+0.5)
+	return d - float64(L*math.Floor(d/L+0.5))
 }

@@ -75,7 +75,7 @@ func (r *splitRule) estimate(l int, a, b, c, d float64, avg, scale []float64) {
 			toConserved(r.eq, r.gamma, r.pw, r.c)
 			wt := 0.25 * gw[i] * gw[j]
 			for k, v := range r.c {
-				avg[k] += wt * v
+				avg[k] += float64(wt * v)
 				scale[k] = math.Max(scale[k], math.Abs(v))
 			}
 		}
@@ -127,10 +127,10 @@ func splitAverages(s *State, xs, ys []float64, n0, threads int, prim func(x, y f
 		r := newSplitRule(s, n0, prim)
 		acc := make([]float64, len(s.U))
 		for j := j0; j < j1; j++ {
-			y0 := s.Y0 + float64(j)*s.DY
+			y0 := s.Y0 + float64(float64(j)*s.DY)
 			r.yc = cuts(r.yc, y0, y0+s.DY, ys)
 			for i := 0; i < s.NX; i++ {
-				x0 := s.X0 + float64(i)*s.DX
+				x0 := s.X0 + float64(float64(i)*s.DX)
 				r.xc = cuts(r.xc, x0, x0+s.DX, xs)
 				for k := range acc {
 					acc[k] = 0
@@ -142,7 +142,7 @@ func splitAverages(s *State, xs, ys []float64, n0, threads int, prim func(x, y f
 						r.average(a, b, c, d, r.piece)
 						f := (b - a) / s.DX * (d - c) / s.DY
 						for k, v := range r.piece {
-							acc[k] += f * v
+							acc[k] += float64(f * v)
 						}
 					}
 				}

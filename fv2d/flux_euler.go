@@ -150,7 +150,7 @@ func EulerHLL(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 flo
 	if sr <= 0 {
 		return EulerPhysicalFlux(gamma, rr, ur, vr, pr)
 	}
-	mul, mur := rl*ul, rr*ur
+	mul, mur := float64(rl*ul), float64(rr*ur)
 	el, er := float64(rl*hl)-pl, float64(rr*hr)-pr // E = rho H - p
 	w := 1 / (sr - sl)
 	ss := float64(sl * sr)

@@ -94,7 +94,7 @@ func EntropyFunctional(gamma float64) Functional {
 		Doc:  "domain integral of rho ln(p / rho^gamma)",
 		Eval: func(s *State) float64 {
 			return s.Integrate(func(w []float64) float64 {
-				return w[0] * (math.Log(w[3]) - gamma*math.Log(w[0]))
+				return w[0] * (logarithm(w[3]) - float64(gamma*logarithm(w[0])))
 			})
 		},
 	}

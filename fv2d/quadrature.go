@@ -5,6 +5,11 @@ import (
 	"sync"
 )
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // gaussLegendre returns the n nodes and weights of the Gauss-Legendre rule on
 // [-1, 1]: int_{-1}^{1} f(x) dx ≈ sum_i w_i f(x_i), exact for polynomials of
 // degree <= 2n-1. The nodes are the roots of the Legendre polynomial P_n,
@@ -37,7 +42,7 @@ func gaussLegendre(n int) (x, w []float64) {
 		_, dp = legendre(n, z)
 		// z is the i-th largest root; store symmetric pairs.
 		x[i], x[n-1-i] = -z, z
-		wi := 2 / ((1 - z*z) * dp * dp)
+		wi := 2 / ((1 - float64(z*z)) * dp * dp)
 		w[i], w[n-1-i] = wi, wi
 	}
 	if n%2 == 1 {
@@ -59,10 +64,10 @@ func legendre(n int, x float64) (p, dp float64) {
 		return 1, 0
 	}
 	for k := 1; k < n; k++ {
-		p0, p1 = p1, (float64(2*k+1)*x*p1-float64(k)*p0)/float64(k+1)
+		p0, p1 = p1, (float64(float64(2*k+1)*x*p1)-float64(float64(k)*p0))/float64(k+1)
 	}
 	// P_n'(x) = n (x P_n - P_{n-1}) / (x^2 - 1)
-	return p1, float64(n) * (x*p1 - p0) / (x*x - 1)
+	return p1, float64(n) * (float64(x*p1) - p0) / (float64(x*x) - 1)
 }
 
 // cellRule is the tensor Gauss-Legendre rule of a cell of size dx x dy:
@@ -97,9 +102,9 @@ func cellAverages(s *State, r cellRule, threads int, prim func(x, y float64, w [
 		c := make([]float64, nv)
 		acc := make([]float64, nv)
 		for j := j0; j < j1; j++ {
-			y0 := s.Y0 + float64(j)*s.DY
+			y0 := s.Y0 + float64(float64(j)*s.DY)
 			for i := 0; i < s.NX; i++ {
-				x0 := s.X0 + float64(i)*s.DX
+				x0 := s.X0 + float64(float64(i)*s.DX)
 				for k := range acc {
 					acc[k] = 0
 				}
@@ -107,7 +112,7 @@ func cellAverages(s *State, r cellRule, threads int, prim func(x, y float64, w [
 					prim(x0+r.ox[q], y0+r.oy[q], w)
 					toConserved(s.Eq, s.Gamma, w, c)
 					for k := range acc {
-						acc[k] += r.w[q] * c[k]
+						acc[k] += float64(r.w[q] * c[k])
 					}
 				}
 				idx := s.Index(i, j)

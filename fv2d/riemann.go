@@ -108,7 +108,8 @@ func pressureFn(gamma, p, rK, pK, aK float64) (f, df, r float64) {
 
 // powPos returns x^y for x > 0 as exp(y log x): a few ulps, several times
 // faster than math.Pow, which the exact flux would spend most of its time in.
-func powPos(x, y float64) float64 { return math.Exp(y * math.Log(x)) }
+// exponential and logarithm give the same bits on every target.
+func powPos(x, y float64) float64 { return exponential(y * logarithm(x)) }
 
 // powFan returns x^n for x >= 0 and n = 2/(gamma-1), by repeated
 // multiplication when n is a small integer up to round-off (gamma = 1.4:
@@ -136,13 +137,13 @@ func powFan(x, n float64) float64 {
 // below both, else the two-shock (TSRS) value.
 func guessPressure(gamma, rl, ul, pl, al, rr, ur, pr, ar float64) float64 {
 	pmin, pmax := math.Min(pl, pr), math.Max(pl, pr)
-	ppv := math.Max(0, 0.5*(pl+pr)-0.125*(ur-ul)*(rl+rr)*(al+ar))
+	ppv := math.Max(0, float64(0.5*(pl+pr))-float64(0.125*(ur-ul)*(rl+rr)*(al+ar)))
 	if pmax/pmin < 2 && pmin <= ppv && ppv <= pmax {
 		return ppv
 	}
 	if ppv < pmin {
 		z := 0.5 * (gamma - 1) / gamma
-		num := al + ar - 0.5*(gamma-1)*(ur-ul)
+		num := al + ar - float64(0.5*(gamma-1)*(ur-ul))
 		den := al/powPos(pl, z) + ar/powPos(pr, z)
 		return powPos(num/den, 1/z)
 	}
@@ -237,7 +238,7 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		s.Left = Rarefaction
 		s.RhoStarL = rl * powFan(rL, n)
 		s.LeftHead = ul - s.AL
-		s.LeftTail = s.UStar - s.AL*rL
+		s.LeftTail = s.UStar - float64(s.AL*rL)
 	}
 	if p > pr {
 		s.Right = Shock
@@ -249,7 +250,7 @@ func solveRiemann(gamma, rl, ul, pl, rr, ur, pr float64) RiemannSolution {
 		s.Right = Rarefaction
 		s.RhoStarR = rr * powFan(rR, n)
 		s.RightHead = ur + s.AR
-		s.RightTail = s.UStar + s.AR*rR
+		s.RightTail = s.UStar + float64(s.AR*rR)
 	}
 	return s
 }
@@ -341,7 +342,7 @@ func (s RiemannSolution) sampleLeftFan(xi float64) (rho, u, p float64) {
 	g := s.Gamma
 	c := 2/(g+1) + float64((g-1)/((g+1)*s.AL)*(s.UL-xi))
 	cn := powFan(c, 2/(g-1))
-	u = 2 / (g + 1) * (s.AL + 0.5*(g-1)*s.UL + xi)
+	u = 2 / (g + 1) * (s.AL + float64(0.5*(g-1)*s.UL) + xi)
 	return s.RhoL * cn, u, s.PL * cn * c * c // c^(2 gamma/(gamma-1)) = c^n c^2
 }
 
@@ -352,8 +353,8 @@ func (s RiemannSolution) sampleRightFan(xi float64) (rho, u, p float64) {
 		return s.RhoR, s.UR, s.PR
 	}
 	g := s.Gamma
-	c := 2/(g+1) - (g-1)/((g+1)*s.AR)*(s.UR-xi)
+	c := 2/(g+1) - float64((g-1)/((g+1)*s.AR)*(s.UR-xi))
 	cn := powFan(c, 2/(g-1))
-	u = 2 / (g + 1) * (-s.AR + 0.5*(g-1)*s.UR + xi)
+	u = 2 / (g + 1) * (-s.AR + float64(0.5*(g-1)*s.UR) + xi)
 	return s.RhoR * cn, u, s.PR * cn * c * c
 }

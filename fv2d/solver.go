@@ -298,7 +298,7 @@ func (s *Solver) Step(dt float64) error {
 	}
 	src := s.prob.Source != nil
 	if src {
-		if s.dispatch(job{kind: jobSource, t: s.t + 0.25*dt, dt: 0.5 * dt}) {
+		if s.dispatch(job{kind: jobSource, t: s.t + float64(0.25*dt), dt: 0.5 * dt}) {
 			return s.failure()
 		}
 	}
@@ -311,7 +311,7 @@ func (s *Solver) Step(dt float64) error {
 	if ok && src {
 		sp := s.base
 		sp.speed = true
-		ok = !s.dispatch(job{kind: jobSource, sp: sp, t: s.t + 0.75*dt, dt: 0.5 * dt})
+		ok = !s.dispatch(job{kind: jobSource, sp: sp, t: s.t + float64(0.75*dt), dt: 0.5 * dt})
 	}
 	if !ok {
 		return s.failure()

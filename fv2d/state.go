@@ -1,5 +1,10 @@
 package fv2d
 
+// Products that meet an addition are written float64(x*y): an explicit
+// conversion rounds, so the compiler cannot fuse them into one FMA (Go spec,
+// "Arithmetic operators"), which would give other bits under GOAMD64=v3 or
+// on arm64 than on the default build (docs/speed.md, "The same bits").
+
 // State is the solution on the grid: one flat slice per conserved variable,
 // (NX+2G) x (NY+2G) values each, x running fastest, G ghost layers on every
 // side. Interior cell (i, j), 0 <= i < NX, 0 <= j < NY, is at index
@@ -23,5 +28,5 @@ func (s *State) At(k, i, j int) float64 { return s.U[k][s.Index(i, j)] }
 
 // Center returns the centre of cell (i, j).
 func (s *State) Center(i, j int) (x, y float64) {
-	return s.X0 + (float64(i)+0.5)*s.DX, s.Y0 + (float64(j)+0.5)*s.DY
+	return s.X0 + float64((float64(i)+0.5)*s.DX), s.Y0 + float64((float64(j)+0.5)*s.DY)
 }

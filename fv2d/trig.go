@@ -64,7 +64,9 @@ func horner(c *[6]float64, x float64) float64 {
 // octant reduces x >= 0 (below trigReduceMax) to x = q pi/2 + z with
 // |z| <= pi/4 and returns q mod 4 and z.
 func octant(x float64) (q uint64, z float64) {
-	k := uint64(x * (4 / math.Pi))
+	// Rounded too: ppc64, riscv64 and loong64 convert a value >= 2^63 to
+	// uint64 by subtracting 2^63 first, which they would fuse.
+	k := uint64(float64(x * (4 / math.Pi)))
 	k += k & 1 // the nearest even multiple of pi/4
 	y := float64(k)
 	z = ((x - float64(y*pio4a)) - float64(y*pio4b)) - float64(y*pio4c)
