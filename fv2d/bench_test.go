@@ -70,9 +70,14 @@ func BenchmarkBurgersStep(b *testing.B) {
 	}
 }
 
-// BenchmarkEulerGodunovStep is the first-order scheme with HLLC.
+// BenchmarkEulerGodunovStep is the first-order scheme with HLLC, at one and
+// two threads.
 func BenchmarkEulerGodunovStep(b *testing.B) {
-	benchSteps(b, "vortex", map[string]string{"nx": "512", "ny": "512", "scheme": "godunov"})
+	for _, th := range []int{1, 2} {
+		b.Run(fmt.Sprintf("n=512/threads=%d", th), func(b *testing.B) {
+			benchSteps(b, "vortex", map[string]string{"nx": "512", "ny": "512", "scheme": "godunov", "threads": fmt.Sprint(th)})
+		})
+	}
 }
 
 // BenchmarkEulerSweep times one sweep of the Euler MUSCL-Hancock HLLC step
