@@ -3,7 +3,6 @@ package main
 import (
 	"flag"
 	"fmt"
-	"os"
 
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/manifest"
@@ -30,13 +29,14 @@ func (s *solverFlags) register(fs *flag.FlagSet) {
 }
 
 // load reads and checks every manifest and returns them with their text,
-// which a submission sends to the coordinator.
+// which a submission sends to the coordinator: the bytes that were
+// checked, read once.
 func (s *solverFlags) load() ([]*manifest.Manifest, []wire.ManifestText, error) {
 	var progs []*manifest.Manifest
 	var texts []wire.ManifestText
 	seen := map[string]string{}
 	for _, path := range s.files {
-		m, err := spec.LoadManifest(path)
+		m, src, err := spec.ReadManifest(path)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -44,10 +44,6 @@ func (s *solverFlags) load() ([]*manifest.Manifest, []wire.ManifestText, error) 
 			return nil, nil, fmt.Errorf("--solver: %s and %s both name solver %s", other, path, m.Name)
 		}
 		seen[m.Name] = path
-		src, err := os.ReadFile(path)
-		if err != nil {
-			return nil, nil, err
-		}
 		progs = append(progs, m)
 		texts = append(texts, wire.ManifestText{File: path, Source: string(src)})
 	}

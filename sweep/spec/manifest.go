@@ -30,31 +30,39 @@ var (
 // the manifest's folder; a bare name ("python3") is left for a PATH
 // lookup. Every error is a *manifest.Error naming the file, line and key.
 func LoadManifest(path string) (*manifest.Manifest, error) {
+	m, _, err := ReadManifest(path)
+	return m, err
+}
+
+// ReadManifest is LoadManifest that also returns the bytes it read and
+// checked, for a caller that sends the manifest's text on (a submission
+// to the coordinator) and must send what was checked.
+func ReadManifest(path string) (*manifest.Manifest, []byte, error) {
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, fmt.Errorf("manifest %s: %w", path, err)
+		return nil, nil, fmt.Errorf("manifest %s: %w", path, err)
 	}
 	defer f.Close()
 	src, err := io.ReadAll(io.LimitReader(f, MaxManifestBytes+1))
 	if err != nil {
-		return nil, fmt.Errorf("manifest %s: %w", path, err)
+		return nil, nil, fmt.Errorf("manifest %s: %w", path, err)
 	}
 	if len(src) > MaxManifestBytes {
-		return nil, &manifest.Error{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxManifestBytes)}
+		return nil, nil, &manifest.Error{File: path, Msg: fmt.Sprintf("file is larger than %d bytes", MaxManifestBytes)}
 	}
 	dir, err := filepath.Abs(filepath.Dir(path))
 	if err != nil {
-		return nil, fmt.Errorf("manifest %s: %w", path, err)
+		return nil, nil, fmt.Errorf("manifest %s: %w", path, err)
 	}
 	m, err := ParseManifest(path, src)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	m.Dir = dir
 	if p := m.Command[0]; !filepath.IsAbs(p) && strings.ContainsRune(p, '/') {
 		m.Command[0] = filepath.Join(dir, p)
 	}
-	return m, nil
+	return m, src, nil
 }
 
 // ParseManifest decodes and checks the manifest src (file names it in

@@ -49,6 +49,9 @@ func TestLoadManifest(t *testing.T) {
 		m.Params[1].Name != "cfl" || m.Params[1].Max != 1 || m.Params[1].Default != "0.8" || m.Params[1].Doc != "Courant number" {
 		t.Errorf("params %+v", m.Params)
 	}
+	if m2, src, err := ReadManifest(path); err != nil || string(src) != goodManifest || m2.Command[0] != m.Command[0] {
+		t.Errorf("ReadManifest: %v, %d bytes, want the file's %d", err, len(src), len(goodManifest))
+	}
 	bare := strings.Replace(goodManifest, `"./heron"`, `"heron"`, 1)
 	if m, err := ParseManifest("x.toml", []byte(bare)); err != nil || m.Command[0] != "heron" {
 		t.Errorf("bare program name: %v %v", m, err)
