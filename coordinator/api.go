@@ -200,14 +200,6 @@ func (p *parts) send(what string, v any) bool {
 	return true
 }
 
-func jsonSize(v any) int {
-	b, err := json.Marshal(v)
-	if err != nil {
-		return 0
-	}
-	return len(b)
-}
-
 // reportSize is a close upper estimate of the JSON size of a report,
 // cheaper than encoding it (status lists up to thousands of large ones).
 func reportSize(r wire.WorkerReport) int {
@@ -232,17 +224,22 @@ func (c *Coordinator) onStatus(m *nats.Msg) {
 		return
 	}
 	p := &parts{c: c, reply: m.Reply}
-	part := wire.StatusReply{RefusedResults: c.RefusedResults()}
+	part := statusPart{StatusReply: wire.StatusReply{RefusedResults: c.RefusedResults()}}
 	next := func() bool {
 		ok := p.send("status", part)
-		part = wire.StatusReply{Seq: p.seq}
+		part = statusPart{StatusReply: wire.StatusReply{Seq: p.seq}}
 		return ok
 	}
 	for _, s := range st {
-		if !p.room(jsonSize(s), next) {
+		b, err := json.Marshal(s)
+		if err != nil {
+			c.log.Warn("sending status", "sweep", s.Sweep, "error", err)
 			return
 		}
-		part.Sweeps = append(part.Sweeps, s)
+		if !p.room(len(b), next) {
+			return
+		}
+		part.Sweeps = append(part.Sweeps, b)
 	}
 	for _, w := range c.Workers() {
 		if n := len(w.Current); n > wire.StatusCurrentMax {
@@ -255,6 +252,15 @@ func (c *Coordinator) onStatus(m *nats.Msg) {
 	}
 	part.Last = true
 	next()
+}
+
+// statusPart is a wire.StatusReply whose sweeps are encoded already, each
+// once, when onStatus measures it; it encodes to the bytes of the
+// StatusReply as rowsPart does to those of a RowsReply. Its Sweeps are nil
+// (null) in a part that has none, as the StatusReply's would be.
+type statusPart struct {
+	Sweeps []json.RawMessage `json:"sweeps"`
+	wire.StatusReply
 }
 
 // onRows streams the rows of a sweep to the requester's inbox in chunks,

@@ -134,26 +134,35 @@ func TestRowsReplyInParts(t *testing.T) {
 // the reply as they came, up to the one marked last.
 func rowsParts(t *testing.T, r *rig, name string) [][]byte {
 	t.Helper()
+	return replyParts(t, r, wire.VerbRows, wire.RowsRequest{Sweep: name})
+}
+
+// replyParts sends req to the API subject of verb and returns the parts
+// of the reply as they came, up to the one marked last.
+func replyParts(t *testing.T, r *rig, verb string, req any) [][]byte {
+	t.Helper()
 	inbox := r.nc.NewRespInbox()
 	sub, err := r.nc.SubscribeSync(inbox)
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer sub.Unsubscribe()
-	req, _ := json.Marshal(wire.RowsRequest{Sweep: name})
-	if err := r.nc.PublishRequest(r.names.API(wire.VerbRows), inbox, req); err != nil {
+	data, _ := json.Marshal(req)
+	if err := r.nc.PublishRequest(r.names.API(verb), inbox, data); err != nil {
 		t.Fatal(err)
 	}
 	var parts [][]byte
 	for {
 		m, err := sub.NextMsg(10 * time.Second)
 		if err != nil {
-			t.Fatalf("rows of %s, part %d: %v", name, len(parts), err)
+			t.Fatalf("%s %s, part %d: %v", verb, data, len(parts), err)
 		}
 		parts = append(parts, m.Data)
-		var part wire.RowsReply
-		if err := wire.Decode("rows reply", m.Data, &part); err != nil {
-			t.Fatalf("rows of %s, part %d: %v", name, len(parts)-1, err)
+		var part struct {
+			Last bool `json:"last"`
+		}
+		if err := json.Unmarshal(m.Data, &part); err != nil {
+			t.Fatalf("%s %s, part %d: %v", verb, data, len(parts)-1, err)
 		}
 		if part.Last {
 			return parts
