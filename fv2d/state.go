@@ -30,3 +30,16 @@ func (s *State) At(k, i, j int) float64 { return s.U[k][s.Index(i, j)] }
 func (s *State) Center(i, j int) (x, y float64) {
 	return s.X0 + float64((float64(i)+0.5)*s.DX), s.Y0 + float64((float64(j)+0.5)*s.DY)
 }
+
+// SetPrimitive stores the primitive state w (Euler: rho, u, v, p; Burgers:
+// u) in interior cell (i, j) as conserved variables (Euler: rho, rho u,
+// rho v, E = p/(gamma-1) + rho |u|^2/2, with s.Gamma): the inverse of
+// Primitive. It checks nothing: a non-physical w gives a non-physical cell.
+func (s *State) SetPrimitive(i, j int, w []float64) {
+	var c [4]float64
+	toConserved(s.Eq, s.Gamma, w, c[:len(s.U)])
+	idx := s.Index(i, j)
+	for k := range s.U {
+		s.U[k][idx] = c[k]
+	}
+}

@@ -306,15 +306,16 @@ func variableSet(eq string, names []string) ([]string, error) {
 }
 
 // toState fills the conserved state s from cells c holding the variables
-// vars, refusing a non-finite or non-physical value (density or pressure
-// not positive) with the cell that holds it.
+// vars (primitive ones through fv2d's SetPrimitive), refusing a non-finite
+// or non-physical value (density or pressure not positive) with the cell
+// that holds it.
 func toState(s *fv2d.State, c *field.Cells, vars []string) error {
 	col := make([][]float64, len(vars))
 	for k, n := range vars {
 		col[k] = c.Var(n)
 	}
 	conserved := vars[len(vars)-1] == "E" || s.Eq == fv2d.Burgers
-	g := s.Gamma
+	w := make([]float64, len(vars))
 	for j := 0; j < s.NY; j++ {
 		for i := 0; i < s.NX; i++ {
 			n := j*s.NX + i
@@ -324,27 +325,26 @@ func toState(s *fv2d.State, c *field.Cells, vars []string) error {
 				}
 			}
 			idx := s.Index(i, j)
-			if s.Eq == fv2d.Burgers {
-				s.U[0][idx] = col[0][n]
-				continue
-			}
-			rho := col[0][n]
-			var mx, my, E, p float64
 			if conserved {
-				mx, my, E = col[1][n], col[2][n], col[3][n]
-				p = (g - 1) * (E - 0.5*(mx*mx+my*my)/rho)
+				for k, d := range col {
+					s.U[k][idx] = d[n]
+				}
+				if s.Eq == fv2d.Burgers {
+					continue
+				}
+				s.Primitive(i, j, w) // for the pressure
 			} else {
-				u, v := col[1][n], col[2][n]
-				p = col[3][n]
-				mx, my, E = rho*u, rho*v, p/(g-1)+0.5*rho*(u*u+v*v)
+				for k, d := range col {
+					w[k] = d[n]
+				}
+				s.SetPrimitive(i, j, w)
 			}
-			if !(rho > 0) {
+			if rho := w[0]; !(rho > 0) {
 				return fmt.Errorf("cell (%d,%d): non-physical density rho = %g", i, j, rho)
 			}
-			if !(p > 0) || math.IsInf(E, 0) {
+			if p, E := w[3], s.U[3][idx]; !(p > 0) || math.IsInf(E, 0) {
 				return fmt.Errorf("cell (%d,%d): non-physical pressure p = %g", i, j, p)
 			}
-			s.U[0][idx], s.U[1][idx], s.U[2][idx], s.U[3][idx] = rho, mx, my, E
 		}
 	}
 	return nil

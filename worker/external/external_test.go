@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"fvsweep/fv2d"
+	"fvsweep/sweep/field"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/outside"
@@ -261,6 +262,73 @@ func TestRefusedJobs(t *testing.T) {
 	} {
 		if _, err := r.Run(context.Background(), tc.jb); err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%+v: %v, want %q", tc.jb, err, tc.want)
+		}
+	}
+}
+
+// toState turns a program's primitive Euler fields into the conserved
+// state, with the ideal-gas total energy E = p/(gamma-1) + rho (u^2+v^2)/2
+// (common practice; Toro 2009 chapter 1, recalled from memory), takes
+// conserved fields as they are, and refuses a cell whose density or
+// pressure is not positive, or whose energy overflows, naming it.
+func TestToState(t *testing.T) {
+	p := &fv2d.Problem{Eq: fv2d.Euler, Gamma: 1.4, X1: 1, Y1: 1}
+	cells := func(names []string, rows ...[4]float64) *field.Cells {
+		c := field.NewCells(names, 2, 1)
+		for n, r := range rows {
+			for k := range names {
+				c.Data[k][n] = r[k]
+			}
+		}
+		return c
+	}
+	prim := manifest.Primitive(manifest.Euler)
+	cons := manifest.Conserved(manifest.Euler)
+	// Toro's test 1, left state (docs/references.md §1): E = 1/0.4; a
+	// moving state: E = 1/0.4 + 0.5*1.4*(9+0.25) = 8.975.
+	s := fv2d.NewGrid(p, 2, 1)
+	if err := toState(s, cells(prim, [4]float64{1, 0, 0, 1}, [4]float64{1.4, 3, -0.5, 1}), prim); err != nil {
+		t.Fatal(err)
+	}
+	for i, want := range [][4]float64{{1, 0, 0, 2.5}, {1.4, 4.2, -0.7, 8.975}} {
+		for k := range 4 {
+			if got := s.At(k, i, 0); math.Abs(got-want[k]) > 1e-14*math.Max(1, math.Abs(want[k])) {
+				t.Errorf("primitive, cell (%d,0): %s = %.17g, want %.17g", i, cons[k], got, want[k])
+			}
+		}
+	}
+	s = fv2d.NewGrid(p, 2, 1)
+	in := [][4]float64{{1, 0, 0, 2.5}, {1.4, 4.2, -0.7, 8.975}}
+	if err := toState(s, cells(cons, in...), cons); err != nil {
+		t.Fatal(err)
+	}
+	for i, want := range in {
+		for k := range 4 {
+			if got := s.At(k, i, 0); got != want[k] {
+				t.Errorf("conserved, cell (%d,0): %s = %.17g, want %.17g as given", i, cons[k], got, want[k])
+			}
+		}
+	}
+
+	good := [4]float64{1, 0, 0, 1}
+	for _, tc := range []struct {
+		name string
+		vars []string
+		bad  [4]float64
+		want string
+	}{
+		{"primitive density", prim, [4]float64{-1, 0, 0, 1}, "cell (1,0): non-physical density rho = -1"},
+		{"primitive zero density", prim, [4]float64{0, 0, 0, 1}, "cell (1,0): non-physical density rho = 0"},
+		{"primitive pressure", prim, [4]float64{1, 0, 0, -0.5}, "cell (1,0): non-physical pressure p = -0.5"},
+		{"energy overflow", prim, [4]float64{1, 1e200, 0, 1}, "cell (1,0): non-physical pressure p = 1"},
+		{"conserved density", cons, [4]float64{-1, 0, 0, 2.5}, "cell (1,0): non-physical density rho = -1"},
+		// p = (1.4-1) (1 - 4/2) = -0.4 (-0.3999999999999999 in float64).
+		{"conserved pressure", cons, [4]float64{1, 2, 0, 1}, "cell (1,0): non-physical pressure p = -0.3999999999999999"},
+		{"not finite", prim, [4]float64{1, math.Inf(1), 0, 1}, "cell (1,0): u = +Inf is not finite"},
+	} {
+		err := toState(fv2d.NewGrid(p, 2, 1), cells(tc.vars, good, tc.bad), tc.vars)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: got %v, want %q", tc.name, err, tc.want)
 		}
 	}
 }
