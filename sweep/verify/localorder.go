@@ -48,23 +48,13 @@ func nestedRatio(coarse, fine Grid) (rx, ry, r int, err error) {
 	return rx, ry, r, nil
 }
 
-// Restrict returns fine averaged onto the grid of nx x ny cells: each
+// restrict returns fine averaged onto the grid of nx x ny cells: each
 // coarse cell gets the mean of the rx x ry fine cells it holds,
 //
 //	(R u)_{i,j} = 1/(rx ry) sum_{a<rx, b<ry} u_{rx i + a, ry j + b},
 //
-// where fine.NX = rx nx and fine.NY = ry ny. It is an error when fine is
-// malformed or does not refine nx x ny by whole cells.
-func Restrict(fine Grid, nx, ny int) (Grid, error) {
-	if err := fine.check("fine"); err != nil {
-		return Grid{}, err
-	}
-	if nx < 1 || ny < 1 || fine.NX%nx != 0 || fine.NY%ny != 0 {
-		return Grid{}, fmt.Errorf("restrict: grid %dx%d does not refine %dx%d by whole cells", fine.NX, fine.NY, nx, ny)
-	}
-	return restrict(fine, nx, ny), nil
-}
-
+// where fine.NX = rx nx and fine.NY = ry ny (the caller has checked that
+// fine is well formed and nested so).
 func restrict(fine Grid, nx, ny int) Grid {
 	rx, ry := fine.NX/nx, fine.NY/ny
 	w := 1 / float64(rx*ry)
@@ -125,34 +115,6 @@ func (m LocalOrders) Median() float64 {
 	return 0.5 * (v[n/2-1] + v[n/2])
 }
 
-// LocalOrdersExact returns the observed order in each cell of the coarse
-// grid from the cell errors e = u - u_exact of a coarse and a finer nested
-// grid (ratio r):
-//
-//	p_{i,j} = ln(|e^c_{i,j}| / (R|e^f|)_{i,j}) / ln r,
-//
-// R the restriction (Restrict): the fine errors' magnitudes are averaged
-// over the coarse cell, so errors of both signs inside it do not cancel.
-// It is WindowOrdersExact of the pair with windows of one cell; see there
-// for the masking, the global order and the errors.
-func LocalOrdersExact(coarse, fine Grid, floor float64) (LocalOrders, error) {
-	return WindowOrdersExact([]Grid{coarse, fine}, 1, floor)
-}
-
-// LocalOrdersDifferences returns the observed order in each cell of the
-// coarse grid of three nested grids (coarse, medium, fine; the same ratio r
-// between each pair) without an exact solution, from the differences of
-// successive grids:
-//
-//	p_{i,j} = ln(|u^c - R u^m| / R|u^m - R u^f|)_{i,j} / ln r,
-//
-// R the restriction to the next coarser grid. It is
-// WindowOrdersDifferences of the three grids with windows of one cell; see
-// there for the masking, the global order and the errors.
-func LocalOrdersDifferences(coarse, medium, fine Grid, floor float64) (LocalOrders, error) {
-	return WindowOrdersDifferences([]Grid{coarse, medium, fine}, 1, floor)
-}
-
 // WindowOrdersExact returns the observed order per window from the cell
 // errors e_k = u_k - u_exact of n >= 2 nested grids, coarsest first, the
 // same ratio r between each pair (h_k = h_0 / r^k). A window is w x w cells
@@ -171,6 +133,9 @@ func LocalOrdersDifferences(coarse, medium, fine Grid, floor float64) (LocalOrde
 // Dividing by the area changes no order. The order of the window is the
 // least-squares slope of ln E_k against ln h_k (ordinary least squares on
 // the logarithms, common practice; for n = 2 it is ln(E_0/E_1) / ln r).
+// With w = 1 the map is cell by cell: for a pair of grids,
+//
+//	p_{i,j} = ln(|e_0|_{i,j} / (R_1|e_1|)_{i,j}) / ln r.
 //
 // A window is masked (NaN) where any E_k is below floor (see
 // RoundOffFloor), zero or not finite. Global is the same fit of the mean
@@ -197,8 +162,10 @@ func WindowOrdersExact(errs []Grid, w int, floor float64) (LocalOrders, error) {
 //
 //	d_k = u_k - R u_{k+1},  k = 0 ... n-2,
 //
-// which behave like C h_k^p (1 - r^-p) where u_k = u + C h_k^p, so that the
-// fit of ln E_k against ln h_k over the n-1 differences has slope p. E_k,
+// R u_{k+1} the mean of u_{k+1} over the grid-(k+1) cells inside each cell
+// of grid k (the restriction, exact for cell averages). The d_k behave
+// like C h_k^p (1 - r^-p) where u_k = u + C h_k^p, so that the fit of
+// ln E_k against ln h_k over the n-1 differences has slope p. E_k,
 // the windows, the fit, the masking and Global are those of
 // WindowOrdersExact with d_k in place of e_k. It is an error when a grid
 // is malformed, the grids are fewer than three or not nested with one

@@ -31,19 +31,13 @@ func cubicAverages(nx, ny int) Grid {
 // 2 in x only and 4 in both.
 func TestRestrictCellAverages(t *testing.T) {
 	for _, tc := range []struct{ nx, ny, fnx, fny int }{{8, 6, 16, 12}, {8, 2, 16, 2}, {4, 4, 16, 16}} {
-		got, err := Restrict(cubicAverages(tc.fnx, tc.fny), tc.nx, tc.ny)
-		if err != nil {
-			t.Fatal(err)
-		}
+		got := restrict(cubicAverages(tc.fnx, tc.fny), tc.nx, tc.ny)
 		want := cubicAverages(tc.nx, tc.ny)
 		for k := range want.V {
 			if math.Abs(got.V[k]-want.V[k]) > 1e-13 {
 				t.Errorf("%dx%d from %dx%d, cell %d: %.17g, want %.17g", tc.nx, tc.ny, tc.fnx, tc.fny, k, got.V[k], want.V[k])
 			}
 		}
-	}
-	if _, err := Restrict(cubicAverages(10, 10), 4, 5); err == nil || !strings.Contains(err.Error(), "whole cells") {
-		t.Errorf("10x10 onto 4x5: %v", err)
 	}
 }
 
@@ -62,7 +56,9 @@ func errorsOfOrder(nx, ny, r int, h float64, a, p []float64) Grid {
 	return g
 }
 
-func TestLocalOrdersExactPowerLaw(t *testing.T) {
+// Cell by cell (windows of one cell), from a pair of grids: errors of a
+// local power law give its order in every cell.
+func TestCellOrdersExactPowerLaw(t *testing.T) {
 	const nx, ny = 6, 4
 	rng := rand.New(rand.NewPCG(1, 2))
 	a, p := make([]float64, nx*ny), make([]float64, nx*ny)
@@ -73,7 +69,7 @@ func TestLocalOrdersExactPowerLaw(t *testing.T) {
 	h := 0.1
 	coarse := errorsOfOrder(nx, ny, 1, h, a, p)
 	fine := errorsOfOrder(nx, ny, 2, h/2, a, p)
-	m, err := LocalOrdersExact(coarse, fine, 0)
+	m, err := WindowOrdersExact([]Grid{coarse, fine}, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -98,15 +94,15 @@ func TestLocalOrdersExactPowerLaw(t *testing.T) {
 	for k := range p {
 		p[k] = 2
 	}
-	m, _ = LocalOrdersExact(errorsOfOrder(nx, ny, 1, h, a, p), errorsOfOrder(nx, ny, 2, h/2, a, p), 0)
+	m, _ = WindowOrdersExact([]Grid{errorsOfOrder(nx, ny, 1, h, a, p), errorsOfOrder(nx, ny, 2, h/2, a, p)}, 1, 0)
 	if math.Abs(m.Global-2) > 1e-12 || math.Abs(m.Median()-2) > 1e-12 {
 		t.Errorf("uniform order 2: global %v median %v", m.Global, m.Median())
 	}
 }
 
-// Cells where either error is below the floor are masked (NaN) and
-// counted; the median ignores them.
-func TestLocalOrdersExactMasking(t *testing.T) {
+// Cell by cell from a pair of grids: cells where either error is below
+// the floor are masked (NaN) and counted; the median ignores them.
+func TestCellOrdersExactMasking(t *testing.T) {
 	coarse := Grid{NX: 2, NY: 2, V: []float64{4e-3, 1e-9, 4e-3, 0}}
 	fine := Grid{NX: 4, NY: 4, V: make([]float64, 16)}
 	for j := range 4 {
@@ -118,7 +114,7 @@ func TestLocalOrdersExactMasking(t *testing.T) {
 			fine.V[j*4+i] = v
 		}
 	}
-	m, err := LocalOrdersExact(coarse, fine, 1e-8)
+	m, err := WindowOrdersExact([]Grid{coarse, fine}, 1, 1e-8)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -136,16 +132,16 @@ func TestLocalOrdersExactMasking(t *testing.T) {
 		t.Errorf("median of 1 2 3 10: %v", got)
 	}
 	// Zero errors everywhere: nothing to measure, no global order.
-	z, _ := LocalOrdersExact(Grid{NX: 1, NY: 1, V: []float64{0}}, Grid{NX: 2, NY: 2, V: make([]float64, 4)}, 0)
+	z, _ := WindowOrdersExact([]Grid{{NX: 1, NY: 1, V: []float64{0}}, {NX: 2, NY: 2, V: make([]float64, 4)}}, 1, 0)
 	if z.Masked != 1 || !math.IsNaN(z.Global) {
 		t.Errorf("zero errors: masked %d global %v", z.Masked, z.Global)
 	}
 }
 
-// Three grids u = exact averages + a h^p (a smooth part that restriction
-// carries over exactly, and a local power law) give p in every cell
-// without the exact solution.
-func TestLocalOrdersDifferencesPowerLaw(t *testing.T) {
+// Cell by cell from three grids u = exact averages + a h^p (a smooth part
+// that restriction carries over exactly, and a local power law): p in
+// every cell without the exact solution.
+func TestCellOrdersDifferencesPowerLaw(t *testing.T) {
 	const nx, ny = 4, 3
 	rng := rand.New(rand.NewPCG(3, 4))
 	a, p := make([]float64, nx*ny), make([]float64, nx*ny)
@@ -162,7 +158,7 @@ func TestLocalOrdersDifferencesPowerLaw(t *testing.T) {
 		}
 		return u
 	}
-	m, err := LocalOrdersDifferences(grid(1), grid(2), grid(4), 0)
+	m, err := WindowOrdersDifferences([]Grid{grid(1), grid(2), grid(4)}, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -187,29 +183,30 @@ func TestLocalOrdersDifferencesPowerLaw(t *testing.T) {
 	}
 }
 
-func TestLocalOrdersGridErrors(t *testing.T) {
+func TestCellOrdersGridErrors(t *testing.T) {
 	g := func(nx, ny int) Grid { return Grid{NX: nx, NY: ny, V: make([]float64, nx*ny)} }
 	for _, tc := range []struct {
 		name string
 		err  error
 		want string
 	}{
-		{"not nested", func() error { _, err := LocalOrdersExact(g(4, 4), g(6, 8), 0); return err }(), "not nested"},
-		{"same grid", func() error { _, err := LocalOrdersExact(g(4, 4), g(4, 4), 0); return err }(), "refinement ratio"},
-		{"ratios 2 and 3", func() error { _, err := LocalOrdersExact(g(4, 4), g(8, 12), 0); return err }(), "refinement ratio"},
+		{"not nested", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(6, 8)}, 1, 0); return err }(), "not nested"},
+		{"not whole cells", func() error { _, err := WindowOrdersExact([]Grid{g(4, 5), cubicAverages(10, 10)}, 1, 0); return err }(), "not nested"},
+		{"same grid", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(4, 4)}, 1, 0); return err }(), "refinement ratio"},
+		{"ratios 2 and 3", func() error { _, err := WindowOrdersExact([]Grid{g(4, 4), g(8, 12)}, 1, 0); return err }(), "refinement ratio"},
 		{"short values", func() error {
-			_, err := LocalOrdersExact(Grid{NX: 2, NY: 2, V: make([]float64, 3)}, g(4, 4), 0)
+			_, err := WindowOrdersExact([]Grid{{NX: 2, NY: 2, V: make([]float64, 3)}, g(4, 4)}, 1, 0)
 			return err
 		}(), "3 values"},
-		{"ratios differ", func() error { _, err := LocalOrdersDifferences(g(4, 4), g(8, 8), g(32, 32), 0); return err }(), "ratios differ"},
-		{"strip then square", func() error { _, err := LocalOrdersDifferences(g(4, 4), g(8, 4), g(16, 8), 0); return err }(), "ratios differ"},
+		{"ratios differ", func() error { _, err := WindowOrdersDifferences([]Grid{g(4, 4), g(8, 8), g(32, 32)}, 1, 0); return err }(), "ratios differ"},
+		{"strip then square", func() error { _, err := WindowOrdersDifferences([]Grid{g(4, 4), g(8, 4), g(16, 8)}, 1, 0); return err }(), "ratios differ"},
 	} {
 		if tc.err == nil || !strings.Contains(tc.err.Error(), tc.want) {
 			t.Errorf("%s: %v, want %q", tc.name, tc.err, tc.want)
 		}
 	}
 	// A strip refined along x only is nested with ratio 2.
-	m, err := LocalOrdersExact(Grid{NX: 2, NY: 1, V: []float64{4, 4}}, Grid{NX: 4, NY: 1, V: []float64{1, 1, 1, 1}}, 0)
+	m, err := WindowOrdersExact([]Grid{{NX: 2, NY: 1, V: []float64{4, 4}}, {NX: 4, NY: 1, V: []float64{1, 1, 1, 1}}}, 1, 0)
 	if err != nil || m.Ratio != 2 || m.Order[0] != 2 {
 		t.Errorf("strip: %+v %v", m, err)
 	}
@@ -311,10 +308,25 @@ func TestWindowOrdersExactPowerLaw(t *testing.T) {
 			}
 		}
 	}
-	// The pair function is the same map with windows of one cell.
-	pair, err := LocalOrdersExact(blockErrors(nx, ny, b, 0, h0, a, p), blockErrors(nx, ny, b, 1, h0, a, p), 0)
-	if err != nil || pair.Masked != 0 || math.Abs(pair.Order[0]-p[0]) > 1e-12 {
-		t.Errorf("pair: order %v masked %d, want %v (%v)", pair.Order[0], pair.Masked, p[0], err)
+	// Windows of one cell on a pair of grids: in every cell, block edges
+	// included, p_{i,j} = ln(|e_0|_{i,j} / (R|e_1|)_{i,j}) / ln 2, R|e_1|
+	// the mean of the four fine magnitudes.
+	e0, e1 := blockErrors(nx, ny, b, 0, h0, a, p), blockErrors(nx, ny, b, 1, h0, a, p)
+	pair, err := WindowOrdersExact([]Grid{e0, e1}, 1, 0)
+	if err != nil || pair.Masked != 0 {
+		t.Fatalf("pair: masked %d, %v", pair.Masked, err)
+	}
+	for j := range ny {
+		for i := range nx {
+			f := 0.0
+			for _, c := range [][2]int{{0, 0}, {1, 0}, {0, 1}, {1, 1}} {
+				f += math.Abs(e1.V[(2*j+c[1])*e1.NX+2*i+c[0]]) / 4
+			}
+			want := math.Log(math.Abs(e0.V[j*nx+i])/f) / math.Log(2)
+			if q := pair.Order[j*nx+i]; math.Abs(q-want) > 1e-12 {
+				t.Errorf("pair, cell (%d,%d): order %.15g, want %.15g", i, j, q, want)
+			}
+		}
 	}
 }
 
