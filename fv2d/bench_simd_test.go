@@ -80,3 +80,14 @@ func BenchmarkEulerPassesSIMD(b *testing.B) {
 		}
 	})
 }
+
+// BenchmarkEulerStepAVX2 is BenchmarkEulerMUSCLHLLCStep/n=512/threads=1 with
+// HLLC at four lanes only, as on a processor with AVX2 but no AVX-512.
+func BenchmarkEulerStepAVX2(b *testing.B) {
+	if !simdHLLC {
+		b.Skip("no AVX2")
+	}
+	defer func(wide bool) { hllcWide = wide }(hllcWide)
+	hllcWide = false
+	benchSteps(b, "vortex", map[string]string{"nx": "512", "ny": "512", "threads": "1"})
+}
