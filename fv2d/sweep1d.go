@@ -173,10 +173,10 @@ func (sp *sweepParams) eulerFaces(r, l, f *[4][]float64, o, lo, hi int) {
 		return
 	}
 	// The default, HLLC, with gamma/(gamma-1) computed once, in two passes
-	// (hllcWaves): the wave speeds and enthalpies go to f, then each face's
-	// flux replaces them.
+	// (hllc): the wave speeds and enthalpies go to f, then each face's flux
+	// replaces them.
 	for i := start; i < n; i++ {
-		f0[i], f1[i], f2[i], f3[i] = hllcWaves(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
+		f0[i], f1[i], f2[i], f3[i] = einfeldtWaves(gamma, g, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i])
 	}
 	for i := start; i < n; i++ {
 		f0[i], f1[i], f2[i], f3[i] = hllcStar(gamma, r0[i], r1[i], r2[i], r3[i], l0[i], l1[i], l2[i], l3[i], f0[i], f1[i], f2[i], f3[i])

@@ -66,7 +66,7 @@ func (k *hllcConsts) physFlux4(r, u, v, p vec4) (f0, f1, f2, f3 vec4) {
 	return m, m.Mul(u).Add(p), m.Mul(v), u.Mul(e.Add(p))
 }
 
-// hllc4 is hllc lane by lane, both halves (hllcWaves, hllcStar) in one
+// hllc4 is hllc lane by lane, both halves (einfeldtWaves, hllcStar) in one
 // pass: four or eight faces per instruction already keep the divider busy.
 // The comments name hllc's steps.
 func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 vec4) {
@@ -77,13 +77,11 @@ func (k *hllcConsts) hllc4(rl, ul, vl, pl, rr, ur, vr, pr vec4) (f0, f1, f2, f3 
 	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
 	s := rr.Mul(irl).Sqrt()
 	w := k.one.Div(k.one.Add(s))
-	u := ul.Add(s.Mul(ur)).Mul(w)
-	v := vl.Add(s.Mul(vr)).Mul(w)
-	h := hl.Add(s.Mul(hr)).Mul(w)
-	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
+	un, vn, hn := ul.Add(s.Mul(ur)), vl.Add(s.Mul(vr)), hl.Add(s.Mul(hr))
+	an := k.gm1.Mul(hn.Mul(k.one.Add(s)).Sub(k.half.Mul(un.Mul(un).Add(vn.Mul(vn))))).Sqrt()
 	// Einfeldt speeds
 	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
-	sl, sr := ul.Sub(al).Min(u.Sub(a)), ur.Add(ar).Max(u.Add(a))
+	sl, sr := ul.Sub(al).Min(un.Sub(an).Mul(w)), ur.Add(ar).Max(un.Add(an).Mul(w))
 	// star flux on the side K of the contact
 	ql, qr := rl.Mul(sl.Sub(ul)), rr.Mul(sr.Sub(ur))
 	sn, sd := pr.Sub(pl).Add(ul.Mul(ql)).Sub(ur.Mul(qr)), ql.Sub(qr)
@@ -160,13 +158,11 @@ func (k *hllcConsts8) hllc8(rl, ul, vl, pl, rr, ur, vr, pr vec8) (f0, f1, f2, f3
 	hr := k.g.Mul(zr).Add(k.half.Mul(ur.Mul(ur).Add(vr.Mul(vr))))
 	s := rr.Mul(irl).Sqrt()
 	w := k.one.Div(k.one.Add(s))
-	u := ul.Add(s.Mul(ur)).Mul(w)
-	v := vl.Add(s.Mul(vr)).Mul(w)
-	h := hl.Add(s.Mul(hr)).Mul(w)
-	a := k.gm1.Mul(h.Sub(k.half.Mul(u.Mul(u).Add(v.Mul(v))))).Sqrt()
+	un, vn, hn := ul.Add(s.Mul(ur)), vl.Add(s.Mul(vr)), hl.Add(s.Mul(hr))
+	an := k.gm1.Mul(hn.Mul(k.one.Add(s)).Sub(k.half.Mul(un.Mul(un).Add(vn.Mul(vn))))).Sqrt()
 	// Einfeldt speeds
 	al, ar := k.gamma.Mul(zl).Sqrt(), k.gamma.Mul(zr).Sqrt()
-	sl, sr := ul.Sub(al).Min(u.Sub(a)), ur.Add(ar).Max(u.Add(a))
+	sl, sr := ul.Sub(al).Min(un.Sub(an).Mul(w)), ur.Add(ar).Max(un.Add(an).Mul(w))
 	// star flux on the side K of the contact
 	ql, qr := rl.Mul(sl.Sub(ul)), rr.Mul(sr.Sub(ur))
 	sn, sd := pr.Sub(pl).Add(ul.Mul(ql)).Sub(ur.Mul(qr)), ql.Sub(qr)
