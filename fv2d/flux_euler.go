@@ -90,8 +90,8 @@ func EulerExact(gamma, rl, ul, vl, pl, rr, ur, vr, pr float64) (f0, f1, f2, f3 f
 // dearest operation of a face after the division. Likewise
 // a~ = a_n w with a_n = sqrt((gamma-1) (H_n (1+s) - (u_n^2 + v_n^2)/2)),
 // whose square root need not wait for the division of w.
-// The pieces below are small enough for the compiler to inline, so that the
-// fluxes that use them make no calls.
+// The small pieces below are inlined by the compiler, so that the fluxes
+// that use them make no calls for them.
 
 // totalEnthalpy is H = g z + (u^2 + v^2)/2 with g = gamma/(gamma-1), given
 // z = p/rho, which a flux divides out once per side for H and the sound speed.
