@@ -12,15 +12,7 @@ func BenchmarkEulerPassesSIMD(b *testing.B) {
 	if !simdHLLC {
 		b.Skip("no AVX2")
 	}
-	v, err := Resolve("vortex", map[string]string{"nx": "512", "ny": "512"})
-	if err != nil {
-		b.Fatal(err)
-	}
-	s, err := NewSolver(v)
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer s.Close()
+	s := newSolver(b, "vortex", map[string]string{"nx": "512", "ny": "512"})
 	sp := s.base
 	sp.dtdx, sp.scr = 0.5*s.MaxDt()/s.st.DY, s.workers[0].scr
 	u, st, m, g := s.st.U, s.stride, s.ny+2*s.g, sp.gamma

@@ -10,15 +10,7 @@ import (
 // cell advanced one full step, all sweeps included) and per second of CPU
 // time, which stays meaningful on a machine shared with other work.
 func benchSteps(b *testing.B, name string, kv map[string]string) {
-	v, err := Resolve(name, kv)
-	if err != nil {
-		b.Fatal(err)
-	}
-	s, err := NewSolver(v)
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer s.Close()
+	s := newSolver(b, name, kv)
 	if err := s.Step(s.MaxDt()); err != nil { // warm up: first dispatch, caches
 		b.Fatal(err)
 	}
@@ -84,15 +76,7 @@ func BenchmarkEulerGodunovStep(b *testing.B) {
 // (512x512 vortex, one thread): x at dt/2 as in a Strang step, the same with
 // the wave speeds for the next step, and y at dt.
 func BenchmarkEulerSweep(b *testing.B) {
-	v, err := Resolve("vortex", map[string]string{"nx": "512", "ny": "512", "threads": "1"})
-	if err != nil {
-		b.Fatal(err)
-	}
-	s, err := NewSolver(v)
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer s.Close()
+	s := newSolver(b, "vortex", map[string]string{"nx": "512", "ny": "512", "threads": "1"})
 	dt := s.MaxDt()
 	for _, c := range []struct {
 		name  string
