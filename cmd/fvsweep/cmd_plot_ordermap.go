@@ -243,11 +243,12 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 		return nil, fmt.Errorf("case %s could not be set up here", st.Case)
 	}
 	need := needGrids(prob.Exact != nil)
+	fit := need // the grids fitted
 	switch {
 	case o.grids > 0 && o.grids < need:
 		return nil, fmt.Errorf("%d grids asked for: the map needs at least %d", o.grids, need)
 	case o.grids > 0:
-		need = o.grids
+		fit = o.grids
 	}
 	if coarse != 0 {
 		i := slices.IndexFunc(rows, func(r table.GridRow) bool { return r.NX == coarse })
@@ -255,21 +256,20 @@ func orderMapOf(sd *sweepData, n int, group, v string, coarse int, o mapOptions,
 			return nil, fmt.Errorf("--coarse %d: no finished grid with a snapshot has nx = %d", coarse, coarse)
 		}
 		if o.grids < 0 {
-			need = len(rows) - i
+			fit = max(len(rows)-i, need)
 		}
-		if i+need > len(rows) {
-			return nil, fmt.Errorf("--coarse %d: the map needs %d finished grids with snapshots from nx = %d on", coarse, need, coarse)
+		if i+fit > len(rows) {
+			return nil, fmt.Errorf("--coarse %d: the map needs %d finished grids with snapshots from nx = %d on", coarse, fit, coarse)
 		}
-		rows = rows[:i+need]
-	}
-	if o.grids < 0 {
-		need = len(rows)
-	}
-	if o.grids > len(rows) {
-		return nil, fmt.Errorf("study %d, group %q: %d grids asked for, %d finished grids have snapshots", st.Index, g.Label, o.grids, len(rows))
-	}
-	if len(rows) > need {
-		rows = rows[len(rows)-need:]
+		rows = rows[i : i+fit]
+	} else {
+		if o.grids < 0 {
+			fit = len(rows)
+		}
+		if o.grids > len(rows) {
+			return nil, fmt.Errorf("study %d, group %q: %d grids asked for, %d finished grids have snapshots", st.Index, g.Label, o.grids, len(rows))
+		}
+		rows = rows[max(len(rows)-fit, 0):]
 	}
 	var snaps []gridSnapshot
 	for _, r := range rows {

@@ -167,6 +167,7 @@ func TestPlotOrderMapCommand(t *testing.T) {
 		{[]string{"--group", "limiter=mc", "--fit-grids", "1", "--format", "csv"}, 2, `--fit-grids "1"`},
 		{[]string{"--group", "limiter=mc", "--fit-grids", "4", "--format", "csv"}, 1, "4 grids asked for, 3 finished grids"},
 		{[]string{"--group", "limiter=mc", "--coarse", "32", "--fit-grids", "3", "--format", "csv"}, 1, "needs 3 finished grids"},
+		{[]string{"--group", "limiter=mc", "--coarse", "64", "--fit-grids", "all", "--format", "csv"}, 1, "needs 2 finished grids"},
 	} {
 		code, _, stderr := plot(tc.args...)
 		if code != tc.code || !strings.Contains(stderr, tc.want) {
@@ -197,6 +198,11 @@ func TestPlotOrderMapCommand(t *testing.T) {
 	// --coarse 16 compares 16 and 32.
 	if code, csv, stderr := plot("--group", "limiter=minmod", "--coarse", "16", "--format", "csv"); code != 0 || strings.Count(csv, "\n") != 1+16*16 {
 		t.Errorf("--coarse 16: exit %d, %d lines\n%s", code, strings.Count(csv, "\n"), stderr)
+	}
+	// --coarse 32 --fit-grids all fits 32 and 64: the grids from --coarse
+	// on, the map on the 32 grid.
+	if code, csv, stderr := plot("--group", "limiter=minmod", "--coarse", "32", "--fit-grids", "all", "--format", "csv"); code != 0 || strings.Count(csv, "\n") != 1+32*32 {
+		t.Errorf("--coarse 32 --fit-grids all: exit %d, %d lines\n%s", code, strings.Count(csv, "\n"), stderr)
 	}
 }
 
