@@ -92,20 +92,7 @@ func FitOrder(h, e []float64) (Fit, error) {
 		x[i], y[i] = math.Log(h[i]), math.Log(e[i])
 	}
 	fn := float64(n)
-	var xbar, ybar float64
-	for i := range x {
-		xbar += x[i]
-		ybar += y[i]
-	}
-	xbar /= fn
-	ybar /= fn
-	var sxx, sxy, syy float64
-	for i := range x {
-		dx, dy := x[i]-xbar, y[i]-ybar
-		sxx += dx * dx
-		sxy += dx * dy
-		syy += dy * dy
-	}
+	xbar, ybar, sxx, sxy, syy := lineSums(x, y)
 	if sxx == 0 {
 		return Fit{}, fmt.Errorf("%w: all spacings are equal", ErrFitData)
 	}
@@ -130,6 +117,26 @@ func FitOrder(h, e []float64) (Fit, error) {
 		f.C, f.CSE = math.MaxFloat64, 0 // keep the record JSON-safe; LnC holds the value
 	}
 	return f, nil
+}
+
+// lineSums returns the means of x and y and the sums of the products of
+// their deviations, Sxx = sum (x_i - xbar)^2, Sxy = sum (x_i - xbar)(y_i -
+// ybar), Syy = sum (y_i - ybar)^2: the least-squares line of y against x
+// has slope Sxy/Sxx. x and y have the same length, at least one.
+func lineSums(x, y []float64) (xbar, ybar, sxx, sxy, syy float64) {
+	for i := range x {
+		xbar += x[i]
+		ybar += y[i]
+	}
+	xbar /= float64(len(x))
+	ybar /= float64(len(y))
+	for i := range x {
+		dx, dy := x[i]-xbar, y[i]-ybar
+		sxx += dx * dx
+		sxy += dx * dy
+		syy += dy * dy
+	}
+	return xbar, ybar, sxx, sxy, syy
 }
 
 // sortedByH returns copies of h and v ordered by increasing h (finest grid

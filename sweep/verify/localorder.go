@@ -244,7 +244,7 @@ func windowOrders(a []Grid, r, w int, floor float64) LocalOrders {
 		ok := true
 		for k := range E {
 			e := E[k][cell]
-			if !(e >= floor) || e == 0 || math.IsInf(e, 0) {
+			if !(e >= floor) || !positive(e) {
 				ok = false
 				break
 			}
@@ -268,22 +268,10 @@ func windowOrders(a []Grid, r, w int, floor float64) LocalOrders {
 	return m
 }
 
-// slope is the least-squares slope of y against x (ordinary least squares:
-// sum (x - mean x)(y - mean y) / sum (x - mean x)^2): with x = ln h_k and
-// y = ln E_k the order p of E_k ~ C h_k^p.
+// slope is the least-squares slope of y against x, Sxy/Sxx (lineSums):
+// with x = ln h_k and y = ln E_k the order p of E_k ~ C h_k^p.
 func slope(x, y []float64) float64 {
-	var mx, my float64
-	for k := range x {
-		mx += x[k]
-		my += y[k]
-	}
-	mx /= float64(len(x))
-	my /= float64(len(y))
-	var sxy, sxx float64
-	for k := range x {
-		sxy += (x[k] - mx) * (y[k] - my)
-		sxx += (x[k] - mx) * (x[k] - mx)
-	}
+	_, _, sxx, sxy, _ := lineSums(x, y)
 	return sxy / sxx
 }
 
