@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"fvsweep/internal/numpycheck"
 	"fvsweep/sweep/field"
 )
 
@@ -30,24 +31,6 @@ type vtkFile struct {
 			} `xml:"CellData>DataArray"`
 		} `xml:"Piece"`
 	} `xml:"ImageData"`
-}
-
-// numpyPython returns a python3 that imports NumPy. Without one it skips the
-// test, or fails it where CI=true: .ci/run installs python3-numpy, so there a
-// missing NumPy is a broken setup whose skip would hide the check.
-func numpyPython(t *testing.T) string {
-	t.Helper()
-	for _, py := range []string{"python3", "/usr/bin/python3"} {
-		if exec.Command(py, "-c", "import numpy").Run() == nil {
-			return py
-		}
-	}
-	const why = "no python3 with numpy (apt-get install python3-numpy)"
-	if os.Getenv("CI") == "true" {
-		t.Fatal(why + "; with CI=true this fails: .ci/run installs it")
-	}
-	t.Skip(why + ": NumPy does not read the .npy file back")
-	return ""
 }
 
 // 'field' writes a stored snapshot as VTK image data (well-formed XML whose
@@ -150,7 +133,7 @@ func TestFieldFiles(t *testing.T) {
 	// variable k of cell (i, j). A subtest, so that a skip leaves the CSV
 	// checks below to run.
 	t.Run("numpy", func(t *testing.T) {
-		py := numpyPython(t)
+		py := numpycheck.Python(t, "NumPy does not read the .npy file back")
 		script := `import sys, numpy as np
 a = np.load(sys.argv[1])
 print(a.dtype, a.shape, repr(float(a[3, 5, 0])), repr(float(a[47, 0, a.shape[2]-1])))`

@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
+	"fvsweep/internal/numpycheck"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/outside"
@@ -56,20 +57,7 @@ func muscl(t *testing.T) *manifest.Manifest {
 // skip would hide the check.
 func rusanov(t *testing.T) *manifest.Manifest {
 	t.Helper()
-	py := ""
-	for _, c := range []string{"python3", "/usr/bin/python3"} {
-		if exec.Command(c, "-c", "import numpy").Run() == nil {
-			py = c
-			break
-		}
-	}
-	if py == "" {
-		const why = "no python3 with numpy (apt-get install python3-numpy)"
-		if os.Getenv("CI") == "true" {
-			t.Fatal(why + "; with CI=true this fails: .ci/run installs it")
-		}
-		t.Skip(why + ": the Python example is not run")
-	}
+	py := numpycheck.Python(t, "the Python example is not run")
 	m, err := spec.LoadManifest(filepath.Join("rusanov-py", "manifest.toml"))
 	if err != nil {
 		t.Fatal(err)

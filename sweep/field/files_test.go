@@ -11,6 +11,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"fvsweep/internal/numpycheck"
 )
 
 func demoCells(names []string, nx, ny int) *Cells {
@@ -120,29 +122,12 @@ func TestNPYRoundTrip(t *testing.T) {
 	}
 }
 
-// numpyPython is an interpreter with NumPy, or "".
-func numpyPython() string {
-	for _, py := range []string{"python3", "/usr/bin/python3"} {
-		if exec.Command(py, "-c", "import numpy").Run() == nil {
-			return py
-		}
-	}
-	return ""
-}
-
 // NumPy itself (docs/references.md §11) reads what WriteNPY wrote, and
 // ReadNPY reads what NumPy wrote. Without NumPy the test skips, or fails
 // where CI=true: .ci/run installs python3-numpy, so there a missing NumPy
 // is a broken setup whose skip would hide the check.
 func TestNPYWithNumPy(t *testing.T) {
-	py := numpyPython()
-	if py == "" {
-		const why = "no python3 with numpy (apt-get install python3-numpy)"
-		if os.Getenv("CI") == "true" {
-			t.Fatal(why + "; with CI=true this fails: .ci/run installs it")
-		}
-		t.Skip(why)
-	}
+	py := numpycheck.Python(t, "NumPy does not read WriteNPY's file")
 	dir := t.TempDir()
 	c := demoCells([]string{"rho", "u", "v", "p"}, 3, 2)
 	var b bytes.Buffer
