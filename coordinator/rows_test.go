@@ -15,10 +15,6 @@ import (
 	"fvsweep/sweep/wire"
 )
 
-// rowsChunk is api.go's replyChunk: the size at which a rows reply starts
-// a new part.
-const rowsChunk = 256 << 10
-
 // storeWide puts sweep name into r's store with n done jobs, each with
 // funcs functionals, and returns the jobs' IDs in dispatch order.
 func storeWide(t testing.TB, r *rig, name string, n, funcs int) []string {
@@ -101,8 +97,8 @@ func TestRowsReplyInParts(t *testing.T) {
 			b, _ := json.Marshal(row)
 			rows += len(b)
 		}
-		if len(part.Rows) > 1 && rows-4096 > rowsChunk {
-			t.Errorf("part %d: %d rows of %d bytes, over %d by more than a row", seq, len(part.Rows), rows, rowsChunk)
+		if len(part.Rows) > 1 && rows-4096 > coordinator.ReplyChunk {
+			t.Errorf("part %d: %d rows of %d bytes, over %d by more than a row", seq, len(part.Rows), rows, coordinator.ReplyChunk)
 		}
 		// Its bytes are those of encoding/json for the part (common
 		// practice: the reply is plain JSON of wire.RowsReply).
