@@ -307,8 +307,8 @@ func variableSet(eq string, names []string) ([]string, error) {
 
 // toState fills the conserved state s from cells c holding the variables
 // vars (primitive ones through fv2d's SetPrimitive), refusing a non-finite
-// or non-physical value (density or pressure not positive) with the cell
-// that holds it.
+// or non-physical value (density or pressure not positive, a total energy
+// that overflows) with the cell that holds it.
 func toState(s *fv2d.State, c *field.Cells, vars []string) error {
 	col := make([][]float64, len(vars))
 	for k, n := range vars {
@@ -342,8 +342,11 @@ func toState(s *fv2d.State, c *field.Cells, vars []string) error {
 			if rho := w[0]; !(rho > 0) {
 				return fmt.Errorf("cell (%d,%d): non-physical density rho = %g", i, j, rho)
 			}
-			if p, E := w[3], s.U[3][idx]; !(p > 0) || math.IsInf(E, 0) {
+			if p := w[3]; !(p > 0) {
 				return fmt.Errorf("cell (%d,%d): non-physical pressure p = %g", i, j, p)
+			}
+			if E := s.U[3][idx]; math.IsInf(E, 0) {
+				return fmt.Errorf("cell (%d,%d): total energy E = %g overflows", i, j, E)
 			}
 		}
 	}

@@ -320,7 +320,7 @@ func TestToState(t *testing.T) {
 		{"primitive density", prim, [4]float64{-1, 0, 0, 1}, "cell (1,0): non-physical density rho = -1"},
 		{"primitive zero density", prim, [4]float64{0, 0, 0, 1}, "cell (1,0): non-physical density rho = 0"},
 		{"primitive pressure", prim, [4]float64{1, 0, 0, -0.5}, "cell (1,0): non-physical pressure p = -0.5"},
-		{"energy overflow", prim, [4]float64{1, 1e200, 0, 1}, "cell (1,0): non-physical pressure p = 1"},
+		{"energy overflow", prim, [4]float64{1, 1e200, 0, 1}, "cell (1,0): total energy E = +Inf overflows"},
 		{"conserved density", cons, [4]float64{-1, 0, 0, 2.5}, "cell (1,0): non-physical density rho = -1"},
 		// p = (1.4-1) (1 - 4/2) = -0.4 (-0.3999999999999999 in float64).
 		{"conserved pressure", cons, [4]float64{1, 2, 0, 1}, "cell (1,0): non-physical pressure p = -0.3999999999999999"},
