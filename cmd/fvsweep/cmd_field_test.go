@@ -11,8 +11,8 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/internal/numpycheck"
 	"fvsweep/sweep/field"
+	"fvsweep/sweep/field/fieldtest"
 )
 
 // vtkFile is the part of a VTK XML image data file the test reads back.
@@ -133,7 +133,7 @@ func TestFieldFiles(t *testing.T) {
 	// variable k of cell (i, j). A subtest, so that a skip leaves the CSV
 	// checks below to run.
 	t.Run("numpy", func(t *testing.T) {
-		py := numpycheck.Python(t, "NumPy does not read the .npy file back")
+		py := fieldtest.NumPyPython(t, "NumPy does not read the .npy file back")
 		script := `import sys, numpy as np
 a = np.load(sys.argv[1])
 print(a.dtype, a.shape, repr(float(a[3, 5, 0])), repr(float(a[47, 0, a.shape[2]-1])))`

@@ -13,7 +13,7 @@ import (
 	"testing"
 
 	"fvsweep/fv2d"
-	"fvsweep/internal/numpycheck"
+	"fvsweep/sweep/field/fieldtest"
 	"fvsweep/sweep/job"
 	"fvsweep/sweep/manifest"
 	"fvsweep/sweep/outside"
@@ -57,7 +57,7 @@ func muscl(t *testing.T) *manifest.Manifest {
 // skip would hide the check.
 func rusanov(t *testing.T) *manifest.Manifest {
 	t.Helper()
-	py := numpycheck.Python(t, "the Python example is not run")
+	py := fieldtest.NumPyPython(t, "the Python example is not run")
 	m, err := spec.LoadManifest(filepath.Join("rusanov-py", "manifest.toml"))
 	if err != nil {
 		t.Fatal(err)

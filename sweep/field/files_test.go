@@ -12,7 +12,7 @@ import (
 	"strings"
 	"testing"
 
-	"fvsweep/internal/numpycheck"
+	"fvsweep/sweep/field/fieldtest"
 )
 
 func demoCells(names []string, nx, ny int) *Cells {
@@ -127,7 +127,7 @@ func TestNPYRoundTrip(t *testing.T) {
 // where CI=true: .ci/run installs python3-numpy, so there a missing NumPy
 // is a broken setup whose skip would hide the check.
 func TestNPYWithNumPy(t *testing.T) {
-	py := numpycheck.Python(t, "NumPy does not read WriteNPY's file")
+	py := fieldtest.NumPyPython(t, "NumPy does not read WriteNPY's file")
 	dir := t.TempDir()
 	c := demoCells([]string{"rho", "u", "v", "p"}, 3, 2)
 	var b bytes.Buffer

@@ -1,6 +1,7 @@
-// Package numpycheck finds a python3 that imports NumPy, for the tests that
-// check their files against NumPy itself (docs/references.md §11).
-package numpycheck
+// Package fieldtest helps the tests that check field files (and the
+// example solvers that write them with NumPy) against NumPy itself
+// (docs/references.md §11), as net/http/httptest helps HTTP tests.
+package fieldtest
 
 import (
 	"os"
@@ -8,11 +9,11 @@ import (
 	"testing"
 )
 
-// Python returns a python3 that imports NumPy. Without one it skips t, or
+// NumPyPython returns a python3 that imports NumPy. Without one it skips t, or
 // fails it where CI=true: .ci/run installs python3-numpy, so there a
 // missing NumPy is a broken setup whose skip would hide the check. what
 // says, in the skip, which check does not run.
-func Python(t testing.TB, what string) string {
+func NumPyPython(t testing.TB, what string) string {
 	t.Helper()
 	for _, py := range []string{"python3", "/usr/bin/python3"} {
 		if exec.Command(py, "-c", "import numpy").Run() == nil {
