@@ -3,5 +3,5 @@
 // local observed orders on nested grids (cell by cell, or per window fitted
 // over several grids).
 // It is pure computation on numbers and imports only the standard library
-// and gonum.
+// (its tests check it against gonum).
 package verify
